@@ -1,0 +1,63 @@
+"""qbar: the standard atmosphere, airspeed conversions and the lift equation as a REST service.
+
+``create_app(config=None)`` is the app factory; gunicorn runs ``"service:create_app()"``.
+"""
+
+from __future__ import annotations
+
+from flask import Flask
+
+from service import config as settings
+from service.api import atmosphere
+from service.api import service as service_api
+from service.api.base import Api
+from service.version import __version__
+
+CAUTION = (
+    "CAUTION: qbar is not certified for flight planning or for the operation of aircraft. Its results are "
+    "for information, engineering and cross-checking only. The aircraft's approved flight manual and the "
+    "applicable local regulations govern."
+)
+
+API_DESCRIPTION = f"""qbar computes the ICAO standard atmosphere (on standard and off-standard days, with QNH and \
+density altitude), compressible airspeed conversions (IAS, CAS, EAS, TAS, Mach, crossover altitudes, speed \
+schedules) and the lift equation (solve for any unknown, stall speeds under load, the wing's lift curve), for one \
+point or hundreds of thousands per request.
+
+**{CAUTION}**
+
+Conventions: every physical input is a bare number or array in the field's default unit (named in each field's \
+description), or an object `{{"value": ..., "unit": "..."}}`; GET /v1/units lists the units. Every physical output is \
+`{{"value": ..., "unit": "..."}}`; `output_units` chooses the units per dimension. Arrays broadcast (equal lengths or \
+length 1); `grid: true` takes their outer product. Every error is an RFC 9457 problem document \
+(`application/problem+json`) with a JSON Pointer to each offending input.
+"""
+
+#: Blueprints in the order of the spec's tags.
+BLUEPRINTS = (atmosphere.blp, service_api.blp)
+
+
+def create_app(config: dict | None = None) -> Flask:
+    """Build the Flask application: defaults, then QBAR_* environment variables, then ``config``."""
+    app = Flask(__name__)
+    app.config.update(settings.load(overrides=config))
+    app.config.update(
+        API_TITLE="qbar",
+        API_VERSION=__version__,
+        OPENAPI_VERSION="3.1.0",
+        OPENAPI_URL_PREFIX="/",
+        OPENAPI_JSON_PATH="openapi.json",
+        API_SPEC_OPTIONS={
+            "info": {
+                "description": API_DESCRIPTION,
+                "license": {"name": "MIT", "identifier": "MIT"},
+            },
+            "servers": [{"url": "/", "description": "This service"}],
+        },
+    )
+    app.json.sort_keys = False
+    api = Api(app)
+    for blp in BLUEPRINTS:
+        api.register_blueprint(blp)
+    app.extensions["qbar.api"] = api
+    return app

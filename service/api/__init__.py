@@ -1,0 +1,1 @@
+"""The HTTP layer: one blueprint per capability, thin views over service.physics."""

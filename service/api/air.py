@@ -1,0 +1,194 @@
+"""The air at each point of a request, shared by every endpoint that needs density or pressure.
+
+Reads ``altitude`` (with ``altitude_kind`` and ``qnh`` where the endpoint allows them) and
+``isa_deviation`` or ``temperature``, checks them against the model, and evaluates the
+standard atmosphere once; every further property is computed on first use only.
+"""
+
+from __future__ import annotations
+
+from functools import cached_property
+
+import marshmallow as ma
+import numpy as np
+
+from service.api.fields import Quantity
+from service.api.inputs import Inputs
+from service.api.problems import invalid
+from service.physics import atmosphere as atm
+from service.physics.constants import H_MAX, H_MIN, P0, RHO0, T0
+from service.units import from_si
+
+#: Bounds of the ISA deviation [K]: wider than any observed atmosphere, and narrow enough
+#: that the temperature stays above 0 K everywhere in the model (its coldest point is 186.9 K).
+ISA_DEVIATION_LIMIT = 100.0
+#: Bounds of an outside air temperature [degC]: a plausible band that stays above 0 K.
+TEMPERATURE_MIN_C, TEMPERATURE_MAX_C = -150.0, 100.0
+#: Bounds of QNH [hPa]: beyond the lowest and highest sea-level pressures ever recorded.
+QNH_MIN_HPA, QNH_MAX_HPA = 800.0, 1100.0
+
+
+def altitude_field(description: str, required: bool = True) -> Quantity:
+    return Quantity("altitude", required=required, metadata={"description": description})
+
+
+def isa_deviation_field() -> Quantity:
+    return Quantity("temperature_difference", minimum=-ISA_DEVIATION_LIMIT, maximum=ISA_DEVIATION_LIMIT, metadata={
+        "description": "ISA deviation: the outside air temperature minus the standard temperature at the pressure "
+                       "altitude [K]. Not with `temperature`. Default 0 (standard day) when neither is given."})
+
+
+def temperature_field() -> Quantity:
+    return Quantity("temperature", minimum=TEMPERATURE_MIN_C, maximum=TEMPERATURE_MAX_C, metadata={
+        "description": "Outside (static) air temperature at the point [degC]. Not with `isa_deviation`."})
+
+
+def qnh_field() -> Quantity:
+    return Quantity("pressure", minimum=QNH_MIN_HPA, maximum=QNH_MAX_HPA, metadata={
+        "description": "Altimeter setting QNH [hPa]; `altitude` is then the altitude indicated with that setting, "
+                       "and pressure altitude = indicated altitude + the standard altitude of the QNH pressure. "
+                       "Not with FL or `altitude_kind: geometric`."})
+
+
+def altitude_kind_field() -> ma.fields.String:
+    return ma.fields.String(load_default="pressure", validate=ma.validate.OneOf(["pressure", "geometric"]), metadata={
+        "description": "\"pressure\" (default): `altitude` is a pressure altitude (or, with `qnh`, an indicated "
+                       "altitude). \"geometric\": `altitude` is a geometric height above mean sea level, converted "
+                       "to geopotential and used as the pressure altitude (a standard-day relation)."})
+
+
+def _show_ft(metres: float) -> str:
+    return f"{metres:.0f} m ({from_si(metres, 'altitude', 'ft'):.0f} ft)"
+
+
+class Air:
+    """The air at each point: pressure altitude and temperature, the rest on demand [SI]."""
+
+    def __init__(self, H, dT=None, T=None):
+        self.H = H
+        if T is not None:
+            self._T = T
+        self._dT = dT
+
+    @cached_property
+    def _standard(self):
+        return atm.standard_state(self.H)
+
+    @property
+    def T_std(self):
+        return self._standard[0]
+
+    @property
+    def p(self):
+        return self._standard[1]
+
+    @cached_property
+    def T(self):
+        if "_T" in self.__dict__:
+            return self._T
+        return self.T_std + self.dT if self._dT is not None else self.T_std
+
+    @cached_property
+    def dT(self):
+        if self._dT is not None:
+            return self._dT
+        if "_T" in self.__dict__:
+            return self._T - self.T_std
+        return np.zeros_like(self.T_std)
+
+    @cached_property
+    def rho(self):
+        return atm.density(self.p, self.T)
+
+    @cached_property
+    def a(self):
+        return atm.speed_of_sound(self.T)
+
+    @cached_property
+    def mu(self):
+        return atm.dynamic_viscosity(self.T)
+
+    @cached_property
+    def nu(self):
+        return atm.kinematic_viscosity(self.T, self.rho)
+
+    @cached_property
+    def density_altitude(self):
+        return atm.density_altitude(self.rho)
+
+    @cached_property
+    def geometric_altitude(self):
+        return atm.pressure_level_height(self.H, self.dT)
+
+    @property
+    def delta(self):
+        return self.p / P0
+
+    @property
+    def theta(self):
+        return self.T / T0
+
+    @property
+    def sigma(self):
+        return self.rho / RHO0
+
+
+def check_altitude_range(H, field: str, what: str = "pressure altitude") -> None:
+    """422 naming ``field`` where H is outside the model's range."""
+    bad = (H < H_MIN) | (H > H_MAX)
+    if np.any(bad):
+        message = (f"The {what} must lie within the model's range, {_show_ft(H_MIN)} to {_show_ft(H_MAX)} "
+                   "(geopotential).")
+        raise invalid(_pointed(field, bad, message))
+
+
+def _pointed(field: str, bad, message: str) -> list[dict]:
+    bad = np.asarray(bad)
+    if bad.ndim == 0 or bad.size == 1:
+        return [{"pointer": f"/{field}", "message": message}]
+    return [{"pointer": f"/{field}", "message": f"{message} Offending indices: "
+                                                 f"{[int(i) for i in np.flatnonzero(bad)[:10]]}."}]
+
+
+def pressure_altitude(inputs: Inputs, field: str = "altitude", *, allow_kind: bool = True,
+                      allow_qnh: bool = True):
+    """The pressure altitude [m] from ``field``, ``altitude_kind`` and ``qnh``, range-checked."""
+    value = inputs.get(field)
+    H = value.si
+    kind = inputs.get("altitude_kind", "pressure") if allow_kind else "pressure"
+    qnh = inputs.get("qnh") if allow_qnh else None
+    if value.unit == "FL":
+        errors = {}
+        if qnh is not None:
+            errors["qnh"] = "A flight level is a pressure altitude: it takes no QNH. Give the altitude in ft or m."
+        if kind == "geometric":
+            errors["altitude_kind"] = "A flight level is a pressure altitude, never a geometric height."
+        if errors:
+            raise invalid(errors)
+    if kind == "geometric":
+        if qnh is not None:
+            raise invalid({"qnh": "QNH corrects an indicated altitude; it does not apply to a geometric height."})
+        lo, hi = atm.geometric_altitude(H_MIN), atm.geometric_altitude(H_MAX)
+        bad = (H < lo) | (H > hi)
+        if np.any(bad):
+            message = (f"The geometric height must lie within the model's range, {_show_ft(lo)} to "
+                       f"{_show_ft(hi)}.")
+            raise invalid(_pointed(field, bad, message))
+        return atm.geopotential_altitude(H)
+    if qnh is not None:
+        H = H + atm.qnh_offset(qnh.si)
+        check_altitude_range(H, field, "pressure altitude (indicated altitude corrected for QNH)")
+        return H
+    check_altitude_range(H, field)
+    return H
+
+
+def air(inputs: Inputs, field: str = "altitude", **kwargs) -> Air:
+    """The Air at each point of the request (ISA deviation or temperature, default standard day)."""
+    given = inputs.given("isa_deviation", "temperature")
+    if len(given) == 2:
+        raise invalid({name: "Give either isa_deviation or temperature, not both." for name in given})
+    H = pressure_altitude(inputs, field, **kwargs)
+    if "temperature" in inputs:
+        return Air(H, T=inputs.si("temperature"))
+    return Air(H, dT=inputs.si("isa_deviation"))

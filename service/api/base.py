@@ -1,0 +1,87 @@
+"""flask-smorest glue: our Blueprint (body parser) and Api (problem documents, spec parts)."""
+
+from __future__ import annotations
+
+import http
+
+import flask_smorest
+import marshmallow as ma
+
+from service.api import fields, problems
+from service.api.inputs import BodyParser
+from service.api.problems import PROBLEM_MEDIA_TYPE
+
+
+class Blueprint(flask_smorest.Blueprint):
+    """A flask-smorest Blueprint whose request bodies go through qbar's BodyParser."""
+
+    ARGUMENTS_PARSER = BodyParser()
+
+    def problems(self, *statuses: int):
+        """Document the problem responses ``statuses`` of a view (components in the spec)."""
+
+        def decorator(func):
+            for status in statuses:
+                func = self.alt_response(status, http.HTTPStatus(status).name)(func)
+            return func
+
+        return decorator
+
+
+class ErrorItemSchema(ma.Schema):
+    pointer = ma.fields.String(required=True, metadata={
+        "description": "JSON Pointer (RFC 6901) into the request body to the offending value; \"\" for the body."})
+    message = ma.fields.String(required=True, metadata={"description": "What is wrong there."})
+
+
+class WarningSchema(ma.Schema):
+    field = ma.fields.String(required=True, metadata={"description": "The output field concerned."})
+    message = ma.fields.String(required=True, metadata={"description": "Why some values are null or doubtful."})
+    count = ma.fields.Integer(required=True, metadata={"description": "How many points are concerned."})
+    indices = ma.fields.List(ma.fields.Integer(), required=True, metadata={
+        "description": "The first (up to ten) indices of the points concerned."})
+
+
+class ProblemSchema(ma.Schema):
+    """RFC 9457 problem document."""
+
+    type = ma.fields.String(required=True, metadata={
+        "description": "Stable URI of the problem kind, e.g. /problems/validation (GET it for a description)."})
+    title = ma.fields.String(required=True, metadata={"description": "Short summary of the problem kind."})
+    status = ma.fields.Integer(required=True, metadata={"description": "The HTTP status code."})
+    detail = ma.fields.String(required=True, metadata={"description": "What went wrong with this request."})
+    instance = ma.fields.String(metadata={"description": "The request path, where given."})
+    errors = ma.fields.List(ma.fields.Nested(ErrorItemSchema), metadata={
+        "description": "For invalid input: each offending value with a pointer into the request."})
+    request_id = ma.fields.String(metadata={"description": "The request id (X-Request-ID) for support."})
+    limit = ma.fields.Integer(metadata={"description": "For 413: the limit that was exceeded."})
+    field = ma.fields.String(metadata={"description": "For no-solution: the output that does not exist."})
+    count = ma.fields.Integer(metadata={"description": "For no-solution: how many points have no solution."})
+    indices = ma.fields.List(ma.fields.Integer(), metadata={
+        "description": "For no-solution: the first (up to ten) indices of those points."})
+
+
+class Api(flask_smorest.Api):
+    """flask-smorest Api answering every error with a problem document."""
+
+    ERROR_SCHEMA = ProblemSchema
+    DEFAULT_ERROR_RESPONSE_NAME = None
+
+    def _register_error_handlers(self):
+        problems.register(self._app)
+
+    def _init_spec(self, *args, **kwargs):
+        super()._init_spec(*args, **kwargs)
+        self.ma_plugin.converter.add_attribute_function(fields.field_to_properties)
+
+    def _register_responses(self):
+        self.spec.components.schema("Problem", schema=ProblemSchema)
+        self.spec.components.schema("Warning", schema=WarningSchema)
+        for status in http.HTTPStatus:
+            if status < 400:
+                continue
+            response = {
+                "description": status.phrase,
+                "content": {PROBLEM_MEDIA_TYPE: {"schema": {"$ref": "#/components/schemas/Problem"}}},
+            }
+            self.spec.components.response(status.name, response, lazy=True)

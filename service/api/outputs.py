@@ -1,0 +1,202 @@
+"""Writing a compute answer: unit conversion, warnings, JSON (orjson) or CSV.
+
+An endpoint fills a :class:`Result` with SI arrays; the Result converts each to the
+caller's unit once and serialises the arrays directly (orjson's NumPy support), so the
+cost does not grow with a Python call per point. Values that do not exist are NaN in
+the arrays and ``null`` in the answer, each with a warning naming the field.
+"""
+
+from __future__ import annotations
+
+from typing import NamedTuple
+
+import numpy as np
+import orjson
+from flask import Response, request
+
+from service import units
+from service.api.inputs import Inputs, first_indices
+from service.api.problems import Problem
+
+_JSON_OPTIONS = orjson.OPT_SERIALIZE_NUMPY
+CSV_MEDIA_TYPE = "text/csv"
+
+
+class Leaf(NamedTuple):
+    """One output: SI values and their dimension (None for dimensionless, booleans, labels)."""
+
+    si: object
+    dimension: str | None = None
+
+
+def unit_for(dimension: str, chosen: dict) -> str:
+    """The output unit of ``dimension``: the caller's choice or the default."""
+    if dimension == "weight":
+        dimension = "force"
+    return chosen.get(dimension) or units.DIMENSIONS[dimension].default
+
+
+def _output_dimension(dimension: str | None) -> str | None:
+    return "force" if dimension == "weight" else dimension
+
+
+def _plain(values, shape):
+    """A JSON-ready value: Python scalar for 0-d, NumPy array (or list of str) otherwise."""
+    array = np.asarray(values)
+    if shape == ():
+        return array.item() if array.ndim == 0 else array.reshape(()).item()
+    if array.shape != shape:
+        array = np.broadcast_to(array, shape)
+    if array.dtype.kind in "US":
+        return array.tolist()
+    if array.dtype.kind == "f" and not array.flags.c_contiguous:
+        array = np.ascontiguousarray(array)
+    if not array.flags.c_contiguous:
+        array = np.ascontiguousarray(array)
+    return array
+
+
+class Result:
+    """The outputs of one request, in order, with warnings and (for grids) the inputs."""
+
+    def __init__(self, inputs: Inputs):
+        self.inputs = inputs
+        self.shape = inputs.arrange()
+        self.tree: dict = {}
+        self.warnings: list[dict] = []
+
+    def wants(self, name: str) -> bool:
+        return self.inputs.wants(name)
+
+    def add(self, name: str, si, dimension: str | None = None):
+        """Add output ``name`` (SI values); ``dimension`` None for a bare number."""
+        self.tree[name] = Leaf(si, dimension)
+
+    def add_tree(self, name: str, tree):
+        """Add a nested output: a dict (or list of dicts) of Leafs."""
+        self.tree[name] = tree
+
+    def null_where(self, field: str, values, message: str, mask=None):
+        """NaN -> null with a warning for ``field`` where ``mask`` (default: where NaN)."""
+        values = np.asarray(values, dtype=float)
+        if mask is None:
+            mask = np.isnan(values)
+        mask = np.asarray(mask)
+        if mask.any():
+            if mask.shape != values.shape:
+                values = np.array(np.broadcast_to(values, np.broadcast_shapes(values.shape, mask.shape)))
+            else:
+                values = values.copy()
+            values[mask] = np.nan
+            self.warn(field, message, mask)
+        return values
+
+    def warn(self, field: str, message: str, mask=None):
+        entry = {"field": field, "message": message}
+        if mask is not None:
+            mask = np.broadcast_to(np.asarray(mask), self.shape) if self.shape else np.asarray(mask)
+            entry["count"] = int(np.count_nonzero(mask))
+            entry["indices"] = first_indices(mask)
+        else:
+            entry["count"] = int(np.prod(self.shape)) if self.shape else 1
+            entry["indices"] = []
+        self.warnings.append(entry)
+
+    # --- rendering ---------------------------------------------------------------------------
+
+    def _render(self, node):
+        if isinstance(node, Leaf):
+            if node.dimension is None:
+                return _plain(node.si, self.shape)
+            unit = unit_for(node.dimension, self.inputs.output_units)
+            value = units.from_si(node.si, _output_dimension(node.dimension), unit)
+            return {"value": _plain(value, self.shape), "unit": unit}
+        if isinstance(node, dict):
+            return {key: self._render(value) for key, value in node.items()}
+        if isinstance(node, (list, tuple)):
+            return [self._render(value) for value in node]
+        return node
+
+    def input_leaves(self) -> dict:
+        """Every numeric input at every point, as outputs."""
+        out = {}
+        for name in self.inputs.axes:
+            v = self.inputs.data.get(name)
+            if v is None or not hasattr(v, "si"):
+                continue
+            out[name] = Leaf(v.si, v.dimension)
+        return out
+
+    def document(self) -> dict:
+        doc = self._render(self.tree)
+        doc["warnings"] = self.warnings
+        if self.inputs.grid:
+            doc["inputs"] = self._render(self.input_leaves())
+        return doc
+
+    def json_response(self) -> Response:
+        body = orjson.dumps(self.document(), option=_JSON_OPTIONS)
+        return Response(body, status=200, mimetype="application/json")
+
+    def _columns(self):
+        """(header, values) for every leaf: inputs first, then outputs, dotted names."""
+        columns = []
+
+        def walk(prefix, node):
+            if isinstance(node, Leaf):
+                if node.dimension is None:
+                    columns.append((prefix, _plain(node.si, self.shape or (1,))))
+                else:
+                    unit = unit_for(node.dimension, self.inputs.output_units)
+                    value = units.from_si(node.si, _output_dimension(node.dimension), unit)
+                    columns.append((f"{prefix} [{unit}]", _plain(value, self.shape or (1,))))
+            elif isinstance(node, dict):
+                for key, value in node.items():
+                    walk(f"{prefix}.{key}" if prefix else key, value)
+            elif isinstance(node, (list, tuple)):
+                for index, value in enumerate(node):
+                    walk(f"{prefix}.{index}", value)
+
+        for name, leaf in self.input_leaves().items():
+            walk(f"input.{name}", leaf)
+        walk("", self.tree)
+        return columns
+
+    def csv_response(self) -> Response:
+        columns = self._columns()
+        header = ",".join(_csv_text(name) for name, _ in columns).encode()
+        values = [np.asarray(v) for _, v in columns]
+        if all(v.dtype.kind == "f" for v in values):
+            table = np.column_stack(values) if values else np.empty((0, 0))
+            text = orjson.dumps(table, option=_JSON_OPTIONS)
+        else:
+            rows = list(zip(*(v.tolist() for v in values), strict=False))
+            text = orjson.dumps(rows)
+        body = text[2:-2].replace(b"],[", b"\r\n").replace(b"null", b"")
+        body = header + b"\r\n" + body + b"\r\n"
+        response = Response(body, status=200, mimetype=CSV_MEDIA_TYPE)
+        if self.warnings:
+            response.headers["X-Warnings"] = str(len(self.warnings))
+        return response
+
+    def response(self) -> Response:
+        """The answer in the format the client accepts (JSON unless text/csv is preferred)."""
+        if wants_csv():
+            return self.csv_response()
+        return self.json_response()
+
+
+def _csv_text(name: str) -> str:
+    return f'"{name}"' if ("," in name or '"' in name) else name
+
+
+def wants_csv() -> bool:
+    """True when the client's Accept header prefers text/csv over JSON; 406 if it accepts neither."""
+    accept = request.accept_mimetypes
+    if not accept:
+        return False
+    best = accept.best_match(["application/json", CSV_MEDIA_TYPE])
+    if best is None:
+        raise Problem("not-acceptable", "This endpoint answers application/json or text/csv; "
+                                        f"Accept was {request.headers.get('Accept')!r}.")
+    return best == CSV_MEDIA_TYPE

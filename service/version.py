@@ -1,0 +1,3 @@
+"""The service version (one place; pyproject reads it)."""
+
+__version__ = "0.1.0"

@@ -1,0 +1,142 @@
+"""The Quantity and Number fields: forms accepted, forms refused, pointers, no per-element calls."""
+
+import sys
+
+import marshmallow as ma
+import numpy as np
+import pytest
+from hypothesis import given
+from hypothesis import strategies as st
+
+from service.api.fields import Number, OutputUnits, Quantity
+from service.api.problems import flatten_messages
+
+
+class Sample(ma.Schema):
+    altitude = Quantity("altitude")
+    weight = Quantity("weight")
+    mach = Number(minimum=0, exclusive_minimum=True)
+    speed = Quantity("speed", minimum=0, exclusive_minimum=True)
+    output_units = OutputUnits()
+
+
+def load(**body):
+    return Sample().load(body)
+
+
+def errors_of(**body):
+    with pytest.raises(ma.ValidationError) as err:
+        load(**body)
+    return flatten_messages(err.value.messages)
+
+
+@pytest.mark.parametrize(("raw", "si"), [
+    (1000, 304.8),
+    (1000.0, 304.8),
+    ({"value": 350, "unit": "FL"}, 35000 * 0.3048),
+    ({"value": 1, "unit": "km"}, 1000.0),
+    ({"value": [0, 1], "unit": "m"}, [0.0, 1.0]),
+    ([0, 1000], [0.0, 304.8]),
+])
+def test_altitude_forms(raw, si):
+    v = load(altitude=raw)["altitude"]
+    np.testing.assert_allclose(v.si, si)
+    assert v.is_array == isinstance(si, list)
+    assert v.si.dtype == np.float64
+
+
+def test_scalar_is_zero_dimensional():
+    assert np.ndim(load(altitude=5)["altitude"].si) == 0
+
+
+def test_weight_as_mass_or_force():
+    assert load(weight=1000)["weight"].si == pytest.approx(9806.65)  # bare number: kg times g0
+    assert load(weight={"value": 2, "unit": "kN"})["weight"].si == pytest.approx(2000.0)
+    assert load(weight={"value": 1, "unit": "lb"})["weight"].si == pytest.approx(0.45359237 * 9.80665)
+
+
+@pytest.mark.parametrize(("raw", "pointer", "text"), [
+    (True, "/altitude", "boolean"),
+    ("100", "/altitude", "string"),
+    (None, "/altitude", "null"),
+    ([1, "2", 3], "/altitude/1", "string"),
+    ([1, None], "/altitude/1", "null"),
+    ([1, True], "/altitude/1", "boolean"),
+    ([[1, 2]], "/altitude/0", "Nested"),
+    ([], "/altitude", "Empty"),
+    ({"value": 1}, "/altitude/unit", "Missing"),
+    ({"unit": "ft"}, "/altitude/value", "Missing"),
+    ({"value": 1, "unit": "ft", "x": 2}, "/altitude/x", "Unknown"),
+    ({"value": 1, "unit": "yd"}, "/altitude/unit", "allowed: m, ft, km, FL"),
+    ({"value": [1, False], "unit": "ft"}, "/altitude/value/1", "boolean"),
+    ({"value": 1, "unit": None}, "/altitude/unit", "Unknown unit"),
+    (float("inf"), "/altitude", "floating-point range"),
+    ([1.0, float("inf")], "/altitude/1", "floating-point range"),
+    (10**400, "/altitude", "floating-point range"),
+    ([1, 10**400], "/altitude/1", "floating-point range"),
+    ({"a": 1}, "/altitude/a", "Unknown"),
+])
+def test_refused_with_pointer(raw, pointer, text):
+    errors = {e["pointer"]: e["message"] for e in errors_of(altitude=raw)}
+    assert pointer in errors
+    assert text.lower() in errors[pointer].lower()
+
+
+def test_range_checks_point_at_elements():
+    errors = errors_of(speed=[100, 0, -5, 20])
+    assert [e["pointer"] for e in errors] == ["/speed/1", "/speed/2"]
+    assert "above 0 kt" in errors[0]["message"]
+    errors = errors_of(speed={"value": -1, "unit": "m/s"})
+    assert errors[0]["pointer"] == "/speed/value"
+    errors = errors_of(mach=[0.5, 0])
+    assert errors[0]["pointer"] == "/mach/1"
+
+
+def test_number_refuses_object_form():
+    errors = errors_of(mach={"value": 0.8, "unit": "-"})
+    assert errors[0]["pointer"] == "/mach"
+
+
+def test_output_units():
+    assert load(output_units={"altitude": "m"})["output_units"] == {"altitude": "m"}
+    errors = errors_of(output_units={"altitude": "yd", "colour": "red"})
+    assert {e["pointer"] for e in errors} == {"/output_units/altitude", "/output_units/colour"}
+    assert errors_of(output_units=["m"])[0]["pointer"] == "/output_units"
+
+
+def test_no_python_call_per_element():
+    """Parsing 10 and 100,000 elements makes the same number of Python-level calls."""
+    schema = Sample()
+
+    def count(n):
+        calls = 0
+
+        def prof(frame, event, arg):
+            nonlocal calls
+            if event == "call":
+                calls += 1
+
+        body = {"altitude": {"value": [float(i) for i in range(n)], "unit": "m"}, "speed": list(range(1, n + 1))}
+        sys.setprofile(prof)
+        try:
+            schema.load(body)
+        finally:
+            sys.setprofile(None)
+        return calls
+
+    assert count(10) == count(100_000)
+
+
+@given(st.lists(st.floats(-1e5, 1e5, allow_nan=False) | st.integers(-10**6, 10**6), min_size=1, max_size=50))
+def test_any_finite_list_loads(values):
+    v = load(altitude=values)["altitude"]
+    np.testing.assert_allclose(v.si, np.array(values, dtype=float) * 0.3048)
+
+
+@given(st.lists(st.one_of(st.booleans(), st.text(max_size=3), st.none(), st.just([1.0])), min_size=1, max_size=5),
+       st.integers(0, 5))
+def test_any_non_number_is_refused(bad, position):
+    values = [1.0] * 5
+    values[position:position] = bad
+    errors = errors_of(altitude=values)
+    assert errors[0]["pointer"] == f"/altitude/{position}"
