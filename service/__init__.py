@@ -6,6 +6,7 @@
 from __future__ import annotations
 
 from flask import Flask
+from flask_compress import Compress
 
 from service import config as settings
 from service.api import atmosphere
@@ -56,6 +57,11 @@ def create_app(config: dict | None = None) -> Flask:
         },
     )
     app.json.sort_keys = False
+    app.config.setdefault("COMPRESS_MIMETYPES", ["application/json", "text/csv", "application/problem+json"])
+    app.config.setdefault("COMPRESS_ALGORITHM", ["gzip"])
+    app.config.setdefault("COMPRESS_MIN_SIZE", 4096)
+    app.config.setdefault("COMPRESS_LEVEL", 5)
+    Compress(app)
     api = Api(app)
     for blp in BLUEPRINTS:
         api.register_blueprint(blp)
