@@ -1,0 +1,75 @@
+"""Bulk requests: the request path does no Python work per point, grids label every point, CSV mirrors JSON."""
+
+import csv
+import io
+import sys
+
+import numpy as np
+import pytest
+
+from tests.helpers import post
+
+#: (path, body builder for n points): one representative bulk request per compute endpoint.
+BULK = {
+    "/v1/atmosphere": lambda n: {
+        "altitude": {"value": np.linspace(-1000, 40000, n).tolist(), "unit": "ft"},
+        "isa_deviation": np.linspace(-20, 20, n).tolist(),
+    },
+}
+
+
+def count_calls(fn) -> int:
+    """Python-level function calls made while running fn()."""
+    calls = 0
+
+    def profile(frame, event, arg):
+        nonlocal calls
+        if event == "call":
+            calls += 1
+
+    sys.setprofile(profile)
+    try:
+        fn()
+    finally:
+        sys.setprofile(None)
+    return calls
+
+
+@pytest.mark.parametrize("path", list(BULK))
+@pytest.mark.parametrize("accept", ["application/json", "text/csv"])
+def test_python_calls_do_not_grow_with_points(client, path, accept):
+    """10 points and 100,000 points cost the same number of Python function calls."""
+    small, large = BULK[path](10), BULK[path](100_000)
+    headers = {"Accept": accept}
+    post(client, path, small, headers)  # warm caches (imports, url map)
+
+    def run(body):
+        response = post(client, path, body, headers)
+        assert response.status_code == 200, response.get_data(as_text=True)[:300]
+
+    assert count_calls(lambda: run(small)) == count_calls(lambda: run(large))
+
+
+@pytest.mark.parametrize("path", list(BULK))
+def test_grid_csv_matches_json(client, path):
+    body = BULK[path](3) | {"grid": True}
+    doc = post(client, path, body).json
+    table = post(client, path, body, {"Accept": "text/csv"}).get_data(as_text=True)
+    rows = list(csv.reader(io.StringIO(table)))
+    header, data = rows[0], rows[1:]
+    assert len(data) == 9
+    # every JSON leaf appears as a column with its unit, inputs first
+    for key, value in doc["inputs"].items():
+        column = header.index(f"input.{key} [{value['unit']}]" if isinstance(value, dict) else f"input.{key}")
+        expected = value["value"] if isinstance(value, dict) else value
+        assert [float(r[column]) for r in data] == pytest.approx(expected)
+    first_output = header.index(next(h for h in header if not h.startswith("input.")))
+    assert all(h.startswith("input.") for h in header[:first_output])
+
+
+def test_gzip_when_accepted(client):
+    body = BULK["/v1/atmosphere"](2000)
+    r = post(client, "/v1/atmosphere", body, {"Accept-Encoding": "gzip"})
+    assert r.headers["Content-Encoding"] == "gzip"
+    small = post(client, "/v1/atmosphere", {"altitude": 0}, {"Accept-Encoding": "gzip"})
+    assert "Content-Encoding" not in small.headers
