@@ -1,0 +1,189 @@
+"""One speed of any kind (IAS, CAS, EAS, TAS, Mach) turned into every other kind at the air of a point.
+
+Shared by the airspeed and lift endpoints: the request fields, the calibration table, and the
+conversions (compressible, from service.physics.airspeed), each computed on first use only.
+"""
+
+from __future__ import annotations
+
+from functools import cached_property
+
+import marshmallow as ma
+import numpy as np
+
+from service.api.air import Air
+from service.api.fields import Number, Quantity, parse_numbers
+from service.api.inputs import Inputs, no_solution
+from service.api.problems import invalid
+from service.physics import airspeed as spd
+from service.units import DIMENSIONS, UnitError, to_si
+
+#: The speed inputs, in the order a request is checked for them.
+KINDS = ("ias", "cas", "eas", "tas", "mach")
+#: Upper bound of the speed inputs [kt]: Mach 4.5 at sea level; the pitot relations hold far beyond.
+SPEED_MAX_KT = 3000.0
+#: Upper bound of Mach inputs [-]: the Rayleigh pitot relation is solved and tested up to Mach 5.
+MACH_MAX = 5.0
+
+_NAMES = {
+    "ias": "Indicated airspeed (needs `calibration`)",
+    "cas": "Calibrated airspeed",
+    "eas": "Equivalent airspeed",
+    "tas": "True airspeed",
+}
+
+
+def speed_field(kind: str, note: str = "") -> Quantity:
+    return Quantity("speed", minimum=0.0, exclusive_minimum=True, maximum=SPEED_MAX_KT, metadata={
+        "description": f"{_NAMES[kind]} [kt].{(' ' + note) if note else ''}"})
+
+
+def mach_field(note: str = "") -> Number:
+    return Number(minimum=0.0, exclusive_minimum=True, maximum=MACH_MAX, metadata={
+        "description": f"Mach number [-], a bare number or array.{(' ' + note) if note else ''}"})
+
+
+class CalibrationField(ma.fields.Field):
+    """``calibration``: {"ias": [...], "cas": [...], "unit": "kt"}, both columns strictly increasing."""
+
+    def _deserialize(self, value, attr, data, **kwargs):
+        if type(value) is not dict:
+            raise ma.ValidationError("Give an object {\"ias\": [...], \"cas\": [...], \"unit\": \"kt\"}.")
+        errors = {}
+        unknown = value.keys() - {"ias", "cas", "unit"}
+        for key in sorted(unknown):
+            errors[key] = ["Unknown field."]
+        unit = value.get("unit", "kt")
+        if not isinstance(unit, str) or unit not in DIMENSIONS["speed"].units:
+            errors["unit"] = [str(UnitError("speed", unit))]
+        columns = {}
+        for key in ("ias", "cas"):
+            if key not in value:
+                errors[key] = ["Missing data for required field."]
+                continue
+            try:
+                column, is_array = parse_numbers(value[key])
+            except ma.ValidationError as err:
+                errors[key] = err.messages
+                continue
+            if not is_array:
+                errors[key] = ["Give an array of at least two speeds."]
+                continue
+            columns[key] = column
+        if errors:
+            raise ma.ValidationError(errors)
+        ias, cas = (to_si(columns[k], "speed", unit) for k in ("ias", "cas"))
+        try:
+            spd.check_calibration(ias, cas)
+        except ValueError as err:
+            key = "cas" if "table_cas" in str(err) and "same length" not in str(err) else "ias"
+            message = str(err).replace("calibration table_ias", "ias").replace("calibration table_cas", "cas")
+            message = message.replace("table_ias and table_cas", "ias and cas")
+            raise ma.ValidationError({key: [message[0].upper() + message[1:] + "."]}) from None
+        return ias, cas
+
+    def openapi(self):
+        column = {"type": "array", "items": {"type": "number", "exclusiveMinimum": 0}, "minItems": 2}
+        return {
+            "type": "object",
+            "properties": {
+                "ias": column | {"description": "Indicated airspeeds of the table's rows, strictly increasing."},
+                "cas": column | {"description": "Calibrated airspeeds of the same rows, strictly increasing."},
+                "unit": {"type": "string", "enum": list(DIMENSIONS["speed"].units),
+                         "description": "Unit of both columns; default kt."},
+            },
+            "required": ["ias", "cas"],
+            "additionalProperties": False,
+        }
+
+
+def calibration_field() -> CalibrationField:
+    return CalibrationField(metadata={
+        "description": "The airspeed system's calibration from the flight manual: IAS -> CAS by linear "
+                       "interpolation between rows [kt by default]. An IAS input outside the table is refused "
+                       "(nothing is extrapolated); an IAS output whose CAS lies outside it is null with a warning."})
+
+
+def given_speed(inputs: Inputs, kinds: tuple[str, ...] = KINDS, required: bool = True) -> str | None:
+    """The one speed kind the request gives; 422 naming the fields when none or several."""
+    given = inputs.given(*kinds)
+    if len(given) > 1:
+        raise invalid({k: f"Give exactly one speed of {', '.join(kinds)}; this request gives "
+                          f"{', '.join(given)}." for k in given})
+    if not given:
+        if required:
+            raise invalid([{"pointer": "", "message": f"Give one speed: {', '.join(kinds)}."}],
+                          detail=f"No speed given: give one of {', '.join(kinds)}.")
+        return None
+    kind = given[0]
+    if kind == "ias" and "calibration" not in inputs:
+        raise invalid({"calibration": "An IAS needs the airspeed calibration table (`calibration`) to give a CAS.",
+                       "ias": "Needs `calibration`."})
+    return kind
+
+
+class Speeds:
+    """Every speed kind at each point, from one given speed and the Air there [SI].
+
+    ``kind`` is the given kind, ``value`` its SI values. Attributes are computed on first use.
+    """
+
+    def __init__(self, air: Air, kind: str, value, calibration=None):
+        self.air = air
+        self.kind = kind
+        self.calibration = calibration
+        self.__dict__[kind] = value
+        if kind == "ias":
+            cas = spd.ias_to_cas(value, *calibration)
+            outside = np.isnan(cas)
+            if np.any(outside):
+                raise invalid([{"pointer": "/ias", "message": "IAS outside the calibration table's range "
+                                f"(points {[int(i) for i in np.flatnonzero(np.atleast_1d(outside))[:10]]}); "
+                                "nothing is extrapolated."}])
+            self.__dict__["cas"] = cas
+
+    @cached_property
+    def qc(self):
+        """Impact pressure [Pa]."""
+        if self.kind in ("cas", "ias"):
+            return spd.impact_pressure_from_cas(self.cas)
+        return spd.impact_pressure_from_mach(self.mach, self.air.p)
+
+    @cached_property
+    def mach(self):
+        if self.kind in ("cas", "ias"):
+            return spd.mach_from_impact_pressure(self.qc, self.air.p)
+        return spd.mach_from_tas(self.tas, self.air.T)
+
+    @cached_property
+    def tas(self):
+        if self.kind == "eas":
+            return spd.tas_from_eas(self.eas, self.air.rho)
+        return spd.tas_from_mach(self.mach, self.air.T)
+
+    @cached_property
+    def eas(self):
+        return spd.eas_from_tas(self.tas, self.air.rho)
+
+    @cached_property
+    def cas(self):
+        return spd.cas_from_impact_pressure(self.qc)
+
+    @cached_property
+    def ias(self):
+        """IAS through the calibration table; NaN where the CAS lies outside it."""
+        return spd.cas_to_ias(self.cas, *self.calibration)
+
+    @cached_property
+    def q(self):
+        """Dynamic pressure (gamma/2) p M^2 = 1/2 rho V^2 [Pa]."""
+        return spd.dynamic_pressure(self.mach, self.air.p)
+
+    def require(self, name: str):
+        """Output ``name``; a 422 when a primary speed does not exist at some point."""
+        values = getattr(self, name)
+        missing = np.isnan(values)
+        if np.any(missing):
+            raise no_solution(name, missing, f"the {self.kind} given has no {name} here "
+                                             "(beyond the range of the airspeed relations).")
+        return values
