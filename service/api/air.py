@@ -7,13 +7,12 @@ standard atmosphere once; every further property is computed on first use only.
 
 from __future__ import annotations
 
-from functools import cached_property
-
 import marshmallow as ma
 import numpy as np
 
 from service.api.fields import Quantity
 from service.api.inputs import Inputs
+from service.api.lazy import lazy
 from service.api.problems import invalid
 from service.physics import atmosphere as atm
 from service.physics.constants import H_MAX, H_MIN, P0, RHO0, T0
@@ -70,7 +69,7 @@ class Air:
             self._T = T
         self._dT = dT
 
-    @cached_property
+    @lazy
     def _standard(self):
         return atm.standard_state(self.H)
 
@@ -82,13 +81,13 @@ class Air:
     def p(self):
         return self._standard[1]
 
-    @cached_property
+    @lazy
     def T(self):
         if "_T" in self.__dict__:
             return self._T
         return self.T_std + self.dT if self._dT is not None else self.T_std
 
-    @cached_property
+    @lazy
     def dT(self):
         if self._dT is not None:
             return self._dT
@@ -96,27 +95,27 @@ class Air:
             return self._T - self.T_std
         return np.zeros_like(self.T_std)
 
-    @cached_property
+    @lazy
     def rho(self):
         return atm.density(self.p, self.T)
 
-    @cached_property
+    @lazy
     def a(self):
         return atm.speed_of_sound(self.T)
 
-    @cached_property
+    @lazy
     def mu(self):
         return atm.dynamic_viscosity(self.T)
 
-    @cached_property
+    @lazy
     def nu(self):
         return atm.kinematic_viscosity(self.T, self.rho)
 
-    @cached_property
+    @lazy
     def density_altitude(self):
         return atm.density_altitude(self.rho)
 
-    @cached_property
+    @lazy
     def geometric_altitude(self):
         return atm.pressure_level_height(self.H, self.dT)
 

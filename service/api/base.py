@@ -3,6 +3,7 @@
 from __future__ import annotations
 
 import http
+from copy import deepcopy
 
 import flask_smorest
 import marshmallow as ma
@@ -21,8 +22,11 @@ class Blueprint(flask_smorest.Blueprint):
         """Document the problem responses ``statuses`` of a view (components in the spec)."""
 
         def decorator(func):
+            # Documentation only: unlike alt_response, no wrapper is added to the call path.
+            func._apidoc = deepcopy(getattr(func, "_apidoc", {}))
+            responses = func._apidoc.setdefault("response", {}).setdefault("responses", {})
             for status in statuses:
-                func = self.alt_response(status, http.HTTPStatus(status).name)(func)
+                responses.setdefault(status, []).append(http.HTTPStatus(status).name)
             return func
 
         return decorator

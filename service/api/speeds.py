@@ -6,14 +6,13 @@ conversions (compressible, from service.physics.airspeed), each computed on firs
 
 from __future__ import annotations
 
-from functools import cached_property
-
 import marshmallow as ma
 import numpy as np
 
 from service.api.air import Air
 from service.api.fields import Number, Quantity, parse_numbers
 from service.api.inputs import Inputs, no_solution
+from service.api.lazy import lazy
 from service.api.problems import invalid
 from service.physics import airspeed as spd
 from service.units import DIMENSIONS, UnitError, to_si
@@ -142,39 +141,39 @@ class Speeds:
                                 "nothing is extrapolated."}])
             self.__dict__["cas"] = cas
 
-    @cached_property
+    @lazy
     def qc(self):
         """Impact pressure [Pa]."""
         if self.kind in ("cas", "ias"):
             return spd.impact_pressure_from_cas(self.cas)
         return spd.impact_pressure_from_mach(self.mach, self.air.p)
 
-    @cached_property
+    @lazy
     def mach(self):
         if self.kind in ("cas", "ias"):
             return spd.mach_from_impact_pressure(self.qc, self.air.p)
         return spd.mach_from_tas(self.tas, self.air.T)
 
-    @cached_property
+    @lazy
     def tas(self):
         if self.kind == "eas":
             return spd.tas_from_eas(self.eas, self.air.rho)
         return spd.tas_from_mach(self.mach, self.air.T)
 
-    @cached_property
+    @lazy
     def eas(self):
         return spd.eas_from_tas(self.tas, self.air.rho)
 
-    @cached_property
+    @lazy
     def cas(self):
         return spd.cas_from_impact_pressure(self.qc)
 
-    @cached_property
+    @lazy
     def ias(self):
         """IAS through the calibration table; NaN where the CAS lies outside it."""
         return spd.cas_to_ias(self.cas, *self.calibration)
 
-    @cached_property
+    @lazy
     def q(self):
         """Dynamic pressure (gamma/2) p M^2 = 1/2 rho V^2 [Pa]."""
         return spd.dynamic_pressure(self.mach, self.air.p)
