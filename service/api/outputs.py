@@ -12,7 +12,7 @@ from typing import NamedTuple
 
 import numpy as np
 import orjson
-from flask import Response, request
+from flask import Response, g, request
 
 from service import units
 from service.api.inputs import Inputs, first_indices
@@ -62,6 +62,7 @@ class Result:
     def __init__(self, inputs: Inputs):
         self.inputs = inputs
         self.shape = inputs.arrange()
+        g.points = int(np.prod(self.shape))  # for the access log and the points-computed metric
         self.tree: dict = {}
         self.warnings: list[dict] = []
 
@@ -106,6 +107,8 @@ class Result:
 
     def _render(self, node):
         if isinstance(node, Leaf):
+            if self.shape == ():
+                return self._render_scalar(node)
             if node.dimension is None:
                 return _plain(node.si, self.shape)
             unit = unit_for(node.dimension, self.inputs.output_units)
@@ -116,6 +119,18 @@ class Result:
         if isinstance(node, (list, tuple)):
             return [self._render(value) for value in node]
         return node
+
+    def _render_scalar(self, node: Leaf):
+        """One point: plain Python arithmetic, no NumPy call per output."""
+        value = node.si.item() if hasattr(node.si, "item") else node.si
+        if node.dimension is None:
+            return value
+        dimension = _output_dimension(node.dimension)
+        unit = unit_for(dimension, self.inputs.output_units)
+        u = units.DIMENSIONS[dimension].units[unit]
+        if value is not None and (u.factor != 1.0 or u.offset):
+            value = (value - u.offset) / u.factor
+        return {"value": value, "unit": unit}
 
     def input_leaves(self) -> dict:
         """Every numeric input at every point, as outputs."""
