@@ -1,0 +1,66 @@
+# syntax=docker/dockerfile:1
+# qbar container image.
+#   docker build -t qbar:0.1.0 --build-arg QBAR_COMMIT=$(git rev-parse HEAD) .
+#   docker run --rm -p 8080:8080 --read-only --tmpfs /tmp -e QBAR_API_KEYS=... qbar:0.1.0
+# deploy/ runs it on Kubernetes; tests/test_deploy.py checks this file against the code.
+
+ARG PYTHON_IMAGE=python:3.11-slim
+
+# --- builder: the qbar wheel and the wheels of its dependencies, at the pinned versions ----
+FROM ${PYTHON_IMAGE} AS builder
+ENV PIP_NO_CACHE_DIR=1 \
+    PIP_DISABLE_PIP_VERSION_CHECK=1
+WORKDIR /src
+# .dockerignore lets in only what the wheel is built from.
+COPY . .
+RUN pip wheel --wheel-dir /wheels -c constraints.txt .
+
+# --- runtime: the wheel and nothing else ----------------------------------------------------
+FROM ${PYTHON_IMAGE} AS runtime
+ENV PYTHONUNBUFFERED=1 \
+    PYTHONDONTWRITEBYTECODE=1 \
+    PIP_NO_CACHE_DIR=1 \
+    PIP_DISABLE_PIP_VERSION_CHECK=1
+
+# Installed from the builder's wheels only (no index), held to constraints.txt; the wheels are
+# bind-mounted, so they never become a layer of this image.
+RUN --mount=type=bind,from=builder,source=/wheels,target=/wheels \
+    --mount=type=bind,source=constraints.txt,target=/tmp/constraints.txt \
+    pip install --no-index --find-links=/wheels -c /tmp/constraints.txt /wheels/qbar-*.whl
+
+# A numeric user: Kubernetes' runAsNonRoot can only check a number. The metrics directory is
+# created for a plain `docker run`; on Kubernetes an emptyDir is mounted there.
+RUN groupadd --system --gid 10001 qbar \
+ && useradd --system --uid 10001 --gid 10001 --no-create-home --home-dir /nonexistent \
+            --shell /usr/sbin/nologin qbar \
+ && mkdir -p /tmp/qbar-metrics \
+ && chown 10001:10001 /tmp/qbar-metrics
+
+# The container listens on every interface; `qbar serve` keeps its default of 127.0.0.1.
+# One BLAS/OpenMP thread per process: qbar's NumPy work is element-wise, and the workers are
+# the parallelism (the thread pools would otherwise be sized to the host's CPUs).
+ENV QBAR_BIND=0.0.0.0:8080 \
+    PROMETHEUS_MULTIPROC_DIR=/tmp/qbar-metrics \
+    OPENBLAS_NUM_THREADS=1 \
+    OMP_NUM_THREADS=1
+
+# The commit the image is built from, for GET /v1/version (empty: unknown). Last, so that a new
+# commit does not rebuild the layers above.
+ARG QBAR_COMMIT=""
+ENV QBAR_COMMIT=${QBAR_COMMIT}
+LABEL org.opencontainers.image.title="qbar" \
+      org.opencontainers.image.description="ICAO standard atmosphere, airspeed conversions and the lift equation as a REST service" \
+      org.opencontainers.image.licenses="MIT" \
+      org.opencontainers.image.revision="${QBAR_COMMIT}"
+
+USER 10001:10001
+WORKDIR /
+EXPOSE 8080
+
+# No curl in the slim image: Python's urllib, on the port of QBAR_BIND.
+HEALTHCHECK --interval=30s --timeout=5s --start-period=20s --retries=3 \
+    CMD ["python", "-c", "import os, urllib.request; port = os.environ.get('QBAR_BIND', ':8080').rsplit(':', 1)[1]; urllib.request.urlopen(f'http://127.0.0.1:{port}/v1/health', timeout=4)"]
+
+# Exec form: gunicorn is PID 1 and receives SIGTERM itself (graceful shutdown, see
+# service/gunicorn_conf.py).
+CMD ["gunicorn", "-c", "python:service.gunicorn_conf", "service:create_app()"]
