@@ -130,11 +130,16 @@ def instruction(stage, keyword):
 
 
 def image_env():
-    """The runtime image's ENV variables."""
-    env = {}
+    """The runtime image's ENV variables, ${ARG} references replaced by the ARG's default."""
+    env, args = {}, {}
     for key, arguments in runtime_stage():
+        if key == "ARG":
+            name, _, default = arguments.partition("=")
+            args[name] = shlex.split(default)[0] if default.strip() else ""
         if key == "ENV":
-            env.update(item.split("=", 1) for item in shlex.split(arguments))
+            for item in shlex.split(arguments):
+                name, _, value = item.partition("=")
+                env[name] = re.sub(r"\$\{(\w+)\}", lambda m: args[m[1]], value)
     return env
 
 
@@ -348,7 +353,7 @@ def test_settings_come_from_the_config_map():
 
 def test_config_map_settings_are_known_and_valid(tmp_path):
     data = applied_resources()["ConfigMap"]["data"]
-    known = set(app_config.SETTINGS) | {"QBAR_WORKERS", "QBAR_THREADS", "QBAR_BIND", "PROMETHEUS_MULTIPROC_DIR"}
+    known = set(app_config.SETTINGS) | set(app_config.SERVER_SETTINGS) | {"PROMETHEUS_MULTIPROC_DIR"}
     assert set(data) <= known, set(data) - known
     assert all(isinstance(value, str) for value in data.values())
     settings = app_config.load(environ=data)  # raises ConfigError naming a bad variable
@@ -356,6 +361,19 @@ def test_config_map_settings_are_known_and_valid(tmp_path):
     assert settings["QBAR_MAX_BODY_BYTES"] == 8 * 1024 * 1024
     assert settings["QBAR_CORS_ORIGINS"] == ()
     assert gunicorn_conf.env_choice("QBAR_LOG_LEVEL", "info", gunicorn_conf.LOG_LEVELS, environ=data)
+
+
+def test_server_variables_are_known_to_the_app_config():
+    """service/config.py refuses QBAR_* names it does not know; it must know the server's."""
+    read_here = set(re.findall(r'"(QBAR_[A-Z_]+)"', CONF_PATH.read_text(encoding="utf-8")))
+    assert {"QBAR_WORKERS", "QBAR_THREADS", "QBAR_BIND"} <= read_here
+    assert read_here <= set(app_config.SETTINGS) | set(app_config.SERVER_SETTINGS)
+
+
+def test_metrics_scrape_annotations_point_at_the_metrics_view(qbar_app):
+    annotations = applied_resources()["Deployment"]["spec"]["template"]["metadata"]["annotations"]
+    assert route_exists(qbar_app, annotations["prometheus.io/path"])
+    assert int(annotations["prometheus.io/port"]) == container()["ports"][0]["containerPort"]
 
 
 def test_api_keys_come_from_a_secret_file(tmp_path):
@@ -453,6 +471,10 @@ def test_image_environment():
     assert env["QBAR_BIND"] == "0.0.0.0:8080"
     assert env["PROMETHEUS_MULTIPROC_DIR"] == "/tmp/qbar-metrics"
     assert "QBAR_API_KEYS" not in env, "no key is baked into the image"
+    qbar_variables = {name for name in env if name.startswith("QBAR_")}
+    assert qbar_variables <= set(app_config.SETTINGS) | set(app_config.SERVER_SETTINGS)
+    assert env["QBAR_COMMIT"] == ""  # unknown unless the build passes --build-arg QBAR_COMMIT=...
+    app_config.load(environ={name: env[name] for name in qbar_variables if name != "QBAR_BIND"})
 
 
 def test_healthcheck_uses_python_on_the_health_path():
@@ -639,6 +661,7 @@ def test_gunicorn_accepts_every_setting():
         ("QBAR_LOG_LEVEL", "verbose"),
         ("QBAR_MAX_POINTS", "lots"),  # the app's own settings are checked here too
         ("QBAR_API_KEYS", "short"),
+        ("QBAR_WORKER", "4"),  # a misspelt name (service/config.py refuses unknown QBAR_* names)
     ],
 )
 def test_invalid_setting_stops_with_one_line_naming_it(monkeypatch, tmp_path, name, value):
