@@ -29,7 +29,8 @@ def cmd_spec(args) -> int:
 
 def cmd_serve(args) -> int:
     env = dict(os.environ)
-    env["QBAR_BIND"] = f"{args.host}:{args.port}"
+    host = f"[{args.host}]" if ":" in args.host and not args.host.startswith("[") else args.host
+    env["QBAR_BIND"] = f"{host}:{args.port}"
     if args.workers is not None:
         env["QBAR_WORKERS"] = str(args.workers)
     argv = [sys.executable, "-m", "gunicorn", "-c", "python:service.gunicorn_conf", "service:create_app()"]
