@@ -9,7 +9,7 @@ from flask import Flask
 from flask_compress import Compress
 
 from service import config as settings
-from service.api import atmosphere
+from service.api import atmosphere, docs
 from service.api import service as service_api
 from service.api.base import Api
 from service.version import __version__
@@ -65,5 +65,6 @@ def create_app(config: dict | None = None) -> Flask:
     api = Api(app)
     for blp in BLUEPRINTS:
         api.register_blueprint(blp)
+    app.register_blueprint(docs.blp)  # GET /docs: not in the spec
     app.extensions["qbar.api"] = api
     return app
