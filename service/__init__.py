@@ -9,7 +9,7 @@ from flask import Flask
 from flask_compress import Compress
 
 from service import config as settings
-from service.api import atmosphere, docs
+from service.api import atmosphere, docs, ops
 from service.api import service as service_api
 from service.api.base import Api
 from service.version import __version__
@@ -41,7 +41,10 @@ BLUEPRINTS = (atmosphere.blp, service_api.blp)
 def create_app(config: dict | None = None) -> Flask:
     """Build the Flask application: defaults, then QBAR_* environment variables, then ``config``."""
     app = Flask(__name__)
-    app.config.update(settings.load(overrides=config))
+    try:
+        app.config.update(settings.load(overrides=config))
+    except settings.ConfigError as error:
+        settings.exit_with(error)  # one line naming the variable, no traceback (also under gunicorn)
     app.config.update(
         API_TITLE="qbar",
         API_VERSION=__version__,
@@ -56,6 +59,7 @@ def create_app(config: dict | None = None) -> Flask:
             "servers": [{"url": "/", "description": "This service"}],
         },
     )
+    ops.init_app(app)  # request ids, API keys, metrics, access log, headers, CORS; before Api and Compress
     app.json.sort_keys = False
     app.config.setdefault("COMPRESS_MIMETYPES", ["application/json", "text/csv", "application/problem+json"])
     app.config.setdefault("COMPRESS_ALGORITHM", ["gzip"])

@@ -2,14 +2,32 @@
 
 Order: the defaults below, then the environment, then the ``config`` mapping given to
 ``create_app`` (tests). An invalid value raises :class:`ConfigError` whose message is one
-line naming the variable; the entry points print it and exit without a traceback.
+line naming the variable; the entry points print it and exit without a traceback
+(:func:`exit_with`). A ``QBAR_*`` variable that no part of qbar reads is an error too: a
+misspelt ``QBAR_API_KEY`` would otherwise leave the service open without a word.
+An empty variable counts as unset.
 """
 
 from __future__ import annotations
 
+import difflib
+import importlib
 import os
+import re
+import sys
 from collections.abc import Callable, Mapping
 from pathlib import Path
+from typing import NoReturn
+
+#: Exit status for an invalid setting: gunicorn's "App failed to load" status. A worker that
+#: exits with it makes the master stop instead of starting the worker again and again.
+EXIT_CONFIG = 4
+
+#: QBAR_* variables read by the server configuration (service/gunicorn_conf.py), not the app.
+SERVER_SETTINGS = ("QBAR_WORKERS", "QBAR_THREADS", "QBAR_BIND")
+
+_ORIGIN = re.compile(r"https?://(\[[0-9A-Fa-f:.]+\]|[A-Za-z0-9.-]+)(:[0-9]{1,5})?")
+_COMMIT = re.compile(r"[0-9A-Za-z._+-]{1,64}")
 
 
 class ConfigError(ValueError):
@@ -47,11 +65,33 @@ def _keys_file(name: str, raw: str) -> tuple[str, ...]:
 
 
 def _origins(name: str, raw: str) -> tuple[str, ...]:
+    """Browser origins: scheme://host[:port] exactly as browsers send them (no path, no trailing /), or *."""
     origins = tuple(o.strip() for o in str(raw).split(",") if o.strip())
     for origin in origins:
-        if origin != "*" and not origin.startswith(("http://", "https://")):
-            raise ConfigError(f"{name}: {origin!r} is not an origin like https://efb.example.com")
+        if origin != "*" and not _ORIGIN.fullmatch(origin):
+            raise ConfigError(f"{name}: {origin!r} is not an origin like https://efb.example.com "
+                              "(scheme, host and optional port; no path, no trailing slash)")
     return origins
+
+
+def _commit(name: str, raw: str) -> str:
+    """The build's commit or version control description: up to 64 of [0-9A-Za-z._+-]."""
+    commit = str(raw).strip()
+    if not _COMMIT.fullmatch(commit):
+        raise ConfigError(f"{name}: expected a commit id such as 6f402b9 (up to 64 letters, digits, . _ + -)")
+    return commit
+
+
+def _build_commit() -> str | None:
+    """The commit recorded in ``service/_build.py`` (``COMMIT = "..."``) when a build wrote one."""
+    try:
+        build = importlib.import_module("service._build")
+    except ModuleNotFoundError as error:
+        if error.name == "service._build":
+            return None
+        raise
+    commit = getattr(build, "COMMIT", None)
+    return _commit("service/_build.py COMMIT", commit) if commit else None
 
 
 def _log_level(name: str, raw: str) -> str:
@@ -69,23 +109,43 @@ SETTINGS: dict[str, tuple[object, Callable]] = {
     "QBAR_API_KEYS_FILE": ((), _keys_file),
     "QBAR_CORS_ORIGINS": ((), _origins),
     "QBAR_LOG_LEVEL": ("INFO", _log_level),
+    "QBAR_COMMIT": (None, _commit),  # default: service/_build.py, see load()
 }
+
+
+def _unknown_variables(environ: Mapping[str, str]) -> None:
+    """ConfigError for a QBAR_* variable that nothing reads (a misspelt name, most likely)."""
+    known = (*SETTINGS, *SERVER_SETTINGS)
+    for name in sorted(environ):
+        if name.startswith("QBAR_") and name not in known:
+            close = difflib.get_close_matches(name, known, n=1)
+            hint = f"did you mean {close[0]}?" if close else "known: " + ", ".join(sorted(known))
+            raise ConfigError(f"{name}: not a qbar setting; {hint}")
 
 
 def load(environ: Mapping[str, str] | None = None, overrides: Mapping | None = None) -> dict:
     """Validated settings: defaults, then ``environ`` (default os.environ), then ``overrides``."""
     environ = os.environ if environ is None else environ
+    _unknown_variables(environ)
     settings = {}
     for name, (default, parse) in SETTINGS.items():
         raw = environ.get(name)
-        settings[name] = default if raw is None or raw == "" else parse(name, raw)
+        settings[name] = default if raw is None or not raw.strip() else parse(name, raw)
     for name, value in (overrides or {}).items():
         if name in SETTINGS and isinstance(value, str):
             value = SETTINGS[name][1](name, value)
         settings[name] = value
+    if settings["QBAR_COMMIT"] is None:
+        settings["QBAR_COMMIT"] = _build_commit()
     keys = tuple(settings["QBAR_API_KEYS"]) + tuple(settings["QBAR_API_KEYS_FILE"])
     settings["API_KEYS"] = keys
     settings["MAX_CONTENT_LENGTH"] = settings["QBAR_MAX_BODY_BYTES"]
     settings["DEBUG"] = False
     settings["TESTING"] = bool(settings.get("TESTING", False))
     return settings
+
+
+def exit_with(error: ConfigError) -> NoReturn:
+    """Print ``error`` as its one line on stderr and exit with :data:`EXIT_CONFIG`, no traceback."""
+    print(error, file=sys.stderr, flush=True)
+    sys.exit(EXIT_CONFIG)

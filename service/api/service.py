@@ -61,6 +61,7 @@ class VersionSchema(ma.Schema):
 
 
 @blp.route("/v1/health", methods=["GET"])
+@blp.doc(security=[])  # open without an API key (service.api.ops.OPEN_PATHS)
 @blp.response(200, StatusSchema)
 def health():
     """Liveness
@@ -71,6 +72,7 @@ def health():
 
 
 @blp.route("/v1/ready", methods=["GET"])
+@blp.doc(security=[])  # open without an API key (service.api.ops.OPEN_PATHS)
 @blp.response(200, StatusSchema)
 @blp.problems(503)
 def ready():
@@ -84,6 +86,7 @@ def ready():
 
 
 @blp.route("/v1/units", methods=["GET"])
+@blp.doc(security=[])  # open without an API key (service.api.ops.OPEN_PATHS)
 @blp.response(200, UnitsSchema)
 def unit_table():
     """The unit table
@@ -94,6 +97,7 @@ def unit_table():
 
 
 @blp.route("/v1/version", methods=["GET"])
+@blp.doc(security=[])  # open without an API key (service.api.ops.OPEN_PATHS)
 @blp.response(200, VersionSchema)
 def version():
     """Service version
@@ -122,6 +126,7 @@ class ProblemTypeSchema(ma.Schema):
 
 
 @blp.route("/problems/<slug>", methods=["GET"])
+@blp.doc(security=[])  # open without an API key (service.api.ops.OPEN_PATHS)
 @blp.response(200, ProblemTypeSchema)
 @blp.problems(404)
 def problem_type(slug):
