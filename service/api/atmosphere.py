@@ -3,7 +3,7 @@
 from __future__ import annotations
 
 from service.api import air
-from service.api.base import Blueprint
+from service.api.base import COMPUTE_PROBLEMS, Blueprint
 from service.api.inputs import ComputeSchema, outputs_field
 from service.api.outputs import Result
 from service.api.schemas import quantity_out, ratio_out, response_schema
@@ -62,7 +62,7 @@ AtmosphereResponse = response_schema("AtmosphereResponse", {
 @blp.route("/atmosphere", methods=["POST"])
 @blp.arguments(AtmosphereRequest, example={"altitude": {"value": 350, "unit": "FL"}, "isa_deviation": 10})
 @blp.response(200, AtmosphereResponse)
-@blp.problems(400, 413, 415, 422)
+@blp.problems(*COMPUTE_PROBLEMS)
 def atmosphere(inputs):
     """Standard atmosphere at one point or many
 

@@ -13,6 +13,10 @@ from service.api.inputs import BodyParser
 from service.api.problems import PROBLEM_MEDIA_TYPE
 
 
+#: The problem responses every compute endpoint can give (documented with Blueprint.problems).
+COMPUTE_PROBLEMS = (400, 401, 406, 413, 415, 422)
+
+
 class Blueprint(flask_smorest.Blueprint):
     """A flask-smorest Blueprint whose request bodies go through qbar's BodyParser."""
 
