@@ -135,7 +135,7 @@ class Air:
 def check_altitude_range(H, field: str, what: str = "pressure altitude") -> None:
     """422 naming ``field`` where H is outside the model's range."""
     bad = (H < H_MIN) | (H > H_MAX)
-    if np.any(bad):
+    if bad.any():
         message = (f"The {what} must lie within the model's range, {_show_ft(H_MIN)} to {_show_ft(H_MAX)} "
                    "(geopotential).")
         raise invalid(_pointed(field, bad, message))

@@ -12,7 +12,6 @@ from service.api import fields, problems
 from service.api.inputs import BodyParser
 from service.api.problems import PROBLEM_MEDIA_TYPE
 
-
 #: The problem responses every compute endpoint can give (documented with Blueprint.problems).
 COMPUTE_PROBLEMS = (400, 401, 406, 413, 415, 422)
 

@@ -8,6 +8,7 @@ the arrays and ``null`` in the answer, each with a warning naming the field.
 
 from __future__ import annotations
 
+import math
 from typing import NamedTuple
 
 import numpy as np
@@ -62,7 +63,7 @@ class Result:
     def __init__(self, inputs: Inputs):
         self.inputs = inputs
         self.shape = inputs.arrange()
-        g.points = int(np.prod(self.shape))  # for the access log and the points-computed metric
+        g.points = math.prod(self.shape)  # for the access log and the points-computed metric
         self.tree: dict = {}
         self.warnings: list[dict] = []
 
@@ -99,7 +100,7 @@ class Result:
             entry["count"] = int(np.count_nonzero(mask))
             entry["indices"] = first_indices(mask)
         else:
-            entry["count"] = int(np.prod(self.shape)) if self.shape else 1
+            entry["count"] = math.prod(self.shape)
             entry["indices"] = []
         self.warnings.append(entry)
 
