@@ -15,6 +15,23 @@ BULK = {
         "altitude": {"value": np.linspace(-1000, 40000, n).tolist(), "unit": "ft"},
         "isa_deviation": np.linspace(-20, 20, n).tolist(),
     },
+    # Subsonic Mach throughout (300 kt at FL390 is M 0.95), so no Newton iteration count depends on the points.
+    "/v1/airspeed": lambda n: {
+        "cas": np.linspace(130, 300, n).tolist(),
+        "altitude": {"value": np.linspace(0, 39000, n).tolist(), "unit": "ft"},
+        "isa_deviation": 10,
+        "calibration": {"ias": [120, 160, 200, 240, 280, 320], "cas": [123, 162, 201, 240, 278.5, 317]},
+    },
+    "/v1/airspeed/crossover": lambda n: {
+        "cas": np.linspace(250, 350, n).tolist(),
+        "mach": np.linspace(0.70, 0.86, n).tolist(),
+    },
+    "/v1/airspeed/schedule": lambda n: {
+        "cas": np.linspace(250, 300, n).tolist(),
+        "mach": 0.78,
+        "altitude": np.linspace(0, 39000, n).tolist(),
+        "temperature": -20,
+    },
 }
 
 

@@ -11,11 +11,11 @@ import numpy as np
 
 from service.api.air import Air
 from service.api.fields import Number, Quantity, parse_numbers
-from service.api.inputs import Inputs, no_solution
+from service.api.inputs import Inputs, first_indices, no_solution
 from service.api.lazy import lazy
 from service.api.problems import invalid
 from service.physics import airspeed as spd
-from service.units import DIMENSIONS, UnitError, to_si
+from service.units import DIMENSIONS, UnitError, from_si, to_si
 
 #: The speed inputs, in the order a request is checked for them.
 KINDS = ("ias", "cas", "eas", "tas", "mach")
@@ -71,15 +71,14 @@ class CalibrationField(ma.fields.Field):
             columns[key] = column
         if errors:
             raise ma.ValidationError(errors)
-        ias, cas = (to_si(columns[k], "speed", unit) for k in ("ias", "cas"))
-        try:
-            spd.check_calibration(ias, cas)
+        try:  # in the given unit (a positive factor keeps the checks), so messages quote the request's numbers
+            spd.check_calibration(columns["ias"], columns["cas"])
         except ValueError as err:
             key = "cas" if "table_cas" in str(err) and "same length" not in str(err) else "ias"
-            message = str(err).replace("calibration table_ias", "ias").replace("calibration table_cas", "cas")
-            message = message.replace("table_ias and table_cas", "ias and cas")
-            raise ma.ValidationError({key: [message[0].upper() + message[1:] + "."]}) from None
-        return ias, cas
+            message = str(err).replace("table_ias and table_cas", "ias and cas columns")
+            message = message.replace("table_ias", "ias column").replace("table_cas", "cas column")
+            raise ma.ValidationError({key: [f"The {message}."]}) from None
+        return tuple(to_si(columns[k], "speed", unit) for k in ("ias", "cas"))
 
     def openapi(self):
         column = {"type": "array", "items": {"type": "number", "exclusiveMinimum": 0}, "minItems": 2}
@@ -136,9 +135,10 @@ class Speeds:
             cas = spd.ias_to_cas(value, *calibration)
             outside = np.isnan(cas)
             if np.any(outside):
-                raise invalid([{"pointer": "/ias", "message": "IAS outside the calibration table's range "
-                                f"(points {[int(i) for i in np.flatnonzero(np.atleast_1d(outside))[:10]]}); "
-                                "nothing is extrapolated."}])
+                lo, hi = from_si(calibration[0][[0, -1]], "speed", "kt")
+                at = f" at points {first_indices(outside)}" if np.ndim(outside) else ""
+                raise invalid([{"pointer": "/ias", "message": f"IAS outside the calibration table's IAS column, "
+                                f"{lo:g} to {hi:g} kt{at}; nothing is extrapolated."}])
             self.__dict__["cas"] = cas
 
     @lazy
@@ -182,7 +182,7 @@ class Speeds:
         """Output ``name``; a 422 when a primary speed does not exist at some point."""
         values = getattr(self, name)
         missing = np.isnan(values)
-        if np.any(missing):
+        if missing.any():
             raise no_solution(name, missing, f"the {self.kind} given has no {name} here "
                                              "(beyond the range of the airspeed relations).")
         return values

@@ -1,0 +1,274 @@
+"""POST /v1/airspeed, /v1/airspeed/crossover, /v1/airspeed/schedule: compressible airspeed conversions."""
+
+from __future__ import annotations
+
+import marshmallow as ma
+import numpy as np
+
+from service import units
+from service.api import air
+from service.api.base import COMPUTE_PROBLEMS, Blueprint
+from service.api.inputs import ComputeSchema, first_indices, no_solution, outputs_field
+from service.api.outputs import Leaf, Result, unit_for
+from service.api.schemas import LabelOut, quantity_out, ratio_out, response_schema
+from service.api.speeds import Speeds, calibration_field, given_speed, mach_field, speed_field
+from service.physics import airspeed as spd
+from service.physics.constants import FT, H_MAX, H_MIN, P0
+
+blp = Blueprint("airspeed", __name__, url_prefix="/v1", description=(
+    "Compressible airspeed conversions between IAS (through a calibration table), CAS, EAS, TAS and Mach, with "
+    "impact and dynamic pressure; the crossover altitude of a CAS and a Mach number; climb and descent speed "
+    "schedules. Isentropic pitot relation below Mach 1 and the Rayleigh pitot relation above (NACA Report 1135), "
+    "at the pressure altitude of the ICAO Standard Atmosphere."))
+
+_ALTITUDE = ("Pressure altitude [ft] (FL allowed): the standard altitude with the static pressure at the point. "
+             "Arrays allowed.")
+
+# --- POST /v1/airspeed ---------------------------------------------------------------------------
+
+#: Output name -> (dimension or None, description). Order is the answer's order.
+OUTPUTS = {
+    "cas": ("speed", "Calibrated airspeed [kt]."),
+    "eas": ("speed", "Equivalent airspeed: the speed at sea-level standard density with the same dynamic "
+                     "pressure [kt]."),
+    "tas": ("speed", "True airspeed [kt]."),
+    "mach": (None, "Mach number [-]."),
+    "ias": ("speed", "Indicated airspeed through `calibration` [kt]; only when a calibration is given, and null "
+                     "(with a warning) where the CAS lies outside the table."),
+    "impact_pressure": ("pressure", "Impact pressure qc: pitot minus static pressure, what the airspeed indicator "
+                                    "measures [hPa]."),
+    "dynamic_pressure": ("pressure", "Dynamic pressure q = 1/2 rho V^2 = (gamma/2) p M^2 [hPa]; below qc as soon as "
+                                     "compressibility matters."),
+    "atmosphere": (None, "The air at the point: static pressure, temperature, density, speed of sound."),
+}
+#: The converted speeds: primary results (a point where one does not exist is a 422).
+PRIMARY = ("cas", "eas", "tas", "mach")
+#: Output name -> the Speeds attribute that holds it (the primary ones by their own name).
+_SOURCE = {"ias": "ias", "impact_pressure": "qc", "dynamic_pressure": "q"}
+#: Nested ``atmosphere`` outputs: name -> (dimension, description, Air attribute).
+ATMOSPHERE = {
+    "pressure": ("pressure", "Static pressure [hPa].", "p"),
+    "temperature": ("temperature", "Outside (static) air temperature [degC].", "T"),
+    "density": ("density", "Air density from the gas law [kg/m3].", "rho"),
+    "speed_of_sound": ("speed", "Speed of sound at the outside air temperature [kt].", "a"),
+}
+
+_ONE_OF = "Give exactly one of `ias`, `cas`, `eas`, `tas`, `mach`."
+
+
+class AirspeedRequest(ComputeSchema):
+    OUTPUTS = tuple(OUTPUTS)
+
+    ias = speed_field("ias", _ONE_OF + " Arrays allowed.")
+    cas = speed_field("cas", _ONE_OF + " Arrays allowed.")
+    eas = speed_field("eas", _ONE_OF + " Arrays allowed.")
+    tas = speed_field("tas", _ONE_OF + " Arrays allowed.")
+    mach = mach_field(_ONE_OF)
+    altitude = air.altitude_field(_ALTITUDE)
+    isa_deviation = air.isa_deviation_field()
+    temperature = air.temperature_field()
+    calibration = calibration_field()
+    outputs = outputs_field(tuple(OUTPUTS))
+
+    @ma.validates_schema
+    def _ias_needs_calibration(self, data, **kwargs):
+        wanted = data.get("outputs") or ()
+        if "ias" in wanted and "calibration" not in data:
+            index = list(wanted).index("ias")
+            raise ma.ValidationError({"outputs": {index: [
+                "The output ias needs `calibration` (the airspeed system's IAS -> CAS table)."]}})
+
+
+AirspeedAtmosphere = type("AirspeedAtmosphere", (ma.Schema,), {
+    name: quantity_out(desc) for name, (_, desc, _) in ATMOSPHERE.items()})
+
+AirspeedResponse = response_schema("AirspeedResponse", {
+    **{name: (quantity_out(desc) if dim else ratio_out(desc))
+       for name, (dim, desc) in OUTPUTS.items() if name != "atmosphere"},
+    "atmosphere": ma.fields.Nested(AirspeedAtmosphere, metadata={"description": OUTPUTS["atmosphere"][1]}),
+}, inputs=AirspeedRequest)
+
+#: Our demo type NR-200 (of the invented operator Northwind Regional): its IAS -> CAS table.
+NR200_CALIBRATION = {"ias": [120, 160, 200, 240, 280, 320], "cas": [123, 162, 201, 240, 278.5, 317], "unit": "kt"}
+
+
+@blp.route("/airspeed", methods=["POST"])
+@blp.arguments(AirspeedRequest, example={
+    "ias": 250, "altitude": {"value": 330, "unit": "FL"}, "isa_deviation": 15, "calibration": NR200_CALIBRATION})
+@blp.response(200, AirspeedResponse)
+@blp.problems(*COMPUTE_PROBLEMS)
+def airspeed(inputs):
+    """Convert one airspeed to every other kind
+
+    From exactly one of IAS (with the airspeed system's calibration table), CAS, EAS, TAS or Mach at a pressure
+    altitude on a standard or off-standard day: CAS, EAS, TAS, Mach, IAS (when a calibration is given), impact and
+    dynamic pressure, and the air at the point. Compressible throughout: the isentropic pitot relation below Mach 1,
+    the Rayleigh pitot relation above. Arrays broadcast; `grid: true` takes their outer product. The example is our
+    demo type NR-200 at 250 kt IAS at FL330 on an ISA+15 day.
+    """
+    kind = given_speed(inputs)
+    result = Result(inputs)
+    speeds = Speeds(air.air(inputs, allow_kind=False, allow_qnh=False), kind, inputs.si(kind),
+                    inputs.get("calibration"))
+    for name in inputs.outputs:
+        if name in PRIMARY:
+            result.add(name, speeds.require(name), OUTPUTS[name][0])
+        elif name == "atmosphere":
+            result.add_tree(name, {key: Leaf(getattr(speeds.air, attr), dim)
+                                   for key, (dim, _, attr) in ATMOSPHERE.items()})
+        elif name == "ias":
+            if speeds.calibration is not None:
+                result.add(name, result.null_where(name, speeds.ias, _outside_table(inputs)), "speed")
+        else:
+            result.add(name, getattr(speeds, _SOURCE[name]), OUTPUTS[name][0])
+    return result.response()
+
+
+def _outside_table(inputs) -> str:
+    unit = unit_for("speed", inputs.output_units)
+    lo, hi = (units.from_si(inputs.get("calibration")[1][i], "speed", unit) for i in (0, -1))
+    return (f"The CAS lies outside the calibration table's CAS column, {lo:g} to {hi:g} {unit}; nothing is "
+            "extrapolated.")
+
+
+# --- POST /v1/airspeed/crossover -----------------------------------------------------------------
+
+_CROSSOVER_WHY = (
+    "It does not depend on the temperature: the CAS fixes the impact pressure qc (CAS is defined at sea-level "
+    "standard conditions), and the ratio qc/p depends on the Mach number only, so the CAS and the Mach number are "
+    "the same speed at one static pressure, p = qc(CAS) / (qc/p)(Mach), whatever the temperature. Below it the CAS "
+    "is the lower speed, above it the Mach number.")
+
+CROSSOVER_OUTPUTS = {
+    "crossover_altitude": ("altitude", "Crossover altitude: the pressure altitude at which `cas` and `mach` are the "
+                                       f"same speed [ft]. {_CROSSOVER_WHY}"),
+    "pressure": ("pressure", "Static pressure at the crossover altitude [hPa]."),
+}
+
+
+class CrossoverRequest(ComputeSchema):
+    OUTPUTS = tuple(CROSSOVER_OUTPUTS)
+
+    cas = speed_field("cas", "The CAS of the pair. Arrays allowed.")
+    cas.required = True  # the shared field factories make optional fields
+    mach = mach_field("The Mach number of the pair.")
+    mach.required = True
+    outputs = outputs_field(tuple(CROSSOVER_OUTPUTS))
+
+
+CrossoverResponse = response_schema("CrossoverResponse", {
+    name: quantity_out(desc) for name, (_, desc) in CROSSOVER_OUTPUTS.items()}, inputs=CrossoverRequest)
+
+
+_RANGE = (f"the model's range of pressure altitudes, {H_MIN:.0f} m ({H_MIN / FT:.0f} ft) to {H_MAX:.0f} m "
+          f"({H_MAX / FT:.0f} ft)")
+
+
+def _beyond_model(cas, mach, missing, indices: bool = True) -> str:
+    """Where the crossovers marked ``missing`` lie, below the model's range or above it, and what that means."""
+    below = spd.crossover_pressure(cas, mach) > P0  # among the missing: a pressure above the model's highest
+    parts = []
+    for mask, where, lower in ((missing & below, "below it", "the Mach number"),
+                               (missing & ~below, "above it", "the CAS")):
+        if np.any(mask):
+            at = f" at points {first_indices(mask)}" if indices and np.ndim(mask) else ""
+            parts.append(f"{where}{at}, so {lower} is the lower speed at every altitude")
+    return f"outside {_RANGE}: " + "; ".join(parts)
+
+
+@blp.route("/airspeed/crossover", methods=["POST"])
+@blp.arguments(CrossoverRequest, example={"cas": [280, 300, 320], "mach": 0.78})
+@blp.response(200, CrossoverResponse)
+@blp.problems(*COMPUTE_PROBLEMS)
+def crossover(inputs):
+    """Crossover altitude of a CAS and a Mach number
+
+    The pressure altitude at which a calibrated airspeed and a Mach number are the same speed, where a climb at
+    constant CAS reaches its Mach limit (and a descent at constant Mach reaches its CAS), and the static pressure
+    there. It does not depend on the temperature. A pair that does not cross inside the model's range is a 422.
+    The example is the NR-200's climb CAS options against its cruise Mach.
+    """
+    result = Result(inputs)
+    cas, mach = inputs.si("cas"), inputs.si("mach")
+    H = spd.crossover_altitude(cas, mach)
+    missing = np.isnan(H)
+    if np.any(missing):
+        raise no_solution("crossover_altitude", missing, "the CAS and the Mach number given are the same speed "
+                                                         f"only {_beyond_model(cas, mach, missing)}.")
+    if inputs.wants("crossover_altitude"):
+        result.add("crossover_altitude", H, "altitude")
+    if inputs.wants("pressure"):
+        result.add("pressure", spd.crossover_pressure(cas, mach), "pressure")
+    return result.response()
+
+
+# --- POST /v1/airspeed/schedule ------------------------------------------------------------------
+
+SCHEDULE_OUTPUTS = {
+    "governing": (None, "Which speed governs at the point: \"cas\" below the crossover altitude (the CAS is flown), "
+                        "\"mach\" above it (the Mach number is flown)."),
+    "cas": ("speed", "Calibrated airspeed flown [kt]."),
+    "mach": (None, "Mach number flown [-]."),
+    "tas": ("speed", "True airspeed flown [kt]."),
+    "eas": ("speed", "Equivalent airspeed flown [kt]."),
+    "crossover_altitude": ("altitude", "Crossover altitude of `cas` and `mach` [ft], the same at every point of one "
+                                       "CAS/Mach pair; it does not depend on the temperature. Null (with a warning) "
+                                       "where it lies outside the model's range: the schedule then holds the Mach "
+                                       "number (crossover below the range) or the CAS (above it) at every altitude."),
+}
+_SCHEDULE_SPEEDS = ("governing", "cas", "mach", "tas", "eas")
+
+
+class ScheduleRequest(ComputeSchema):
+    OUTPUTS = tuple(SCHEDULE_OUTPUTS)
+
+    cas = speed_field("cas", "The schedule's CAS, flown below the crossover altitude. Arrays allowed.")
+    cas.required = True
+    mach = mach_field("The schedule's Mach number, flown above the crossover altitude.")
+    mach.required = True
+    altitude = air.altitude_field(_ALTITUDE)
+    isa_deviation = air.isa_deviation_field()
+    temperature = air.temperature_field()
+    outputs = outputs_field(tuple(SCHEDULE_OUTPUTS))
+
+
+ScheduleResponse = response_schema("ScheduleResponse", {
+    name: (LabelOut(["cas", "mach"], metadata={"description": desc}) if name == "governing"
+           else quantity_out(desc) if dim else ratio_out(desc))
+    for name, (dim, desc) in SCHEDULE_OUTPUTS.items()}, inputs=ScheduleRequest)
+
+
+@blp.route("/airspeed/schedule", methods=["POST"])
+@blp.arguments(ScheduleRequest, example={
+    "cas": 290, "mach": 0.76, "altitude": {"value": [100, 200, 250, 300, 350], "unit": "FL"}, "isa_deviation": 10})
+@blp.response(200, ScheduleResponse)
+@blp.problems(*COMPUTE_PROBLEMS)
+def schedule(inputs):
+    """Climb or descent speed schedule
+
+    The speeds of a schedule "fly `cas` until it reaches `mach`, then hold `mach`" (a climb; a descent flies it the
+    other way round) at each altitude: which of the two governs, the CAS, Mach, TAS and EAS flown, and the crossover
+    altitude. The example is the NR-200's 290 kt / M0.76 climb on an ISA+10 day.
+    """
+    result = Result(inputs)
+    state = air.air(inputs, allow_kind=False, allow_qnh=False)
+    cas, mach = inputs.si("cas"), inputs.si("mach")
+    if any(map(inputs.wants, _SCHEDULE_SPEEDS)):
+        flown = spd.speed_schedule(cas, mach, state.p, state.T)
+        missing = np.isnan(flown.mach)
+        if np.any(missing):
+            raise no_solution("mach", missing, "the CAS given has no Mach number here (beyond the range of the "
+                                               "airspeed relations).")
+        for name in _SCHEDULE_SPEEDS:
+            if inputs.wants(name):
+                values = np.where(flown.governing_mach, "mach", "cas") if name == "governing" else getattr(flown, name)
+                result.add(name, values, SCHEDULE_OUTPUTS[name][0])
+    if inputs.wants("crossover_altitude"):
+        H = spd.crossover_altitude(cas, mach)
+        missing = np.isnan(H)
+        if np.any(missing):
+            where = _beyond_model(cas, mach, missing, indices=False)
+            H = result.null_where("crossover_altitude", H, f"The CAS and the Mach number given cross only {where}. "
+                                                           "The schedule holds that lower speed throughout.")
+        result.add("crossover_altitude", H, "altitude")
+    return result.response()
