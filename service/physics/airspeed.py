@@ -690,7 +690,8 @@ def crossover_altitude(cas, mach):
     Notes
     -----
     Independent of the temperature (see :func:`crossover_pressure`). Below the
-    crossover the CAS is the faster of the two, above it the Mach number.
+    crossover the CAS is the lower speed of the two (the one a climb schedule flies),
+    above it the Mach number.
 
     Examples
     --------
