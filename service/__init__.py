@@ -64,7 +64,7 @@ def create_app(config: dict | None = None) -> Flask:
     app.config.setdefault("COMPRESS_MIMETYPES", ["application/json", "text/csv", "application/problem+json"])
     app.config.setdefault("COMPRESS_ALGORITHM", ["gzip"])
     app.config.setdefault("COMPRESS_MIN_SIZE", 4096)
-    app.config.setdefault("COMPRESS_LEVEL", 5)
+    app.config.setdefault("COMPRESS_LEVEL", 1)  # fast: bulk answers are tens of MB
     Compress(app)
     api = Api(app)
     for blp in BLUEPRINTS:
