@@ -180,7 +180,10 @@ class _Solve:
                       f"{_MODEL_RANGE}.")
         elif kind == "tas":
             rho = lf.density_for_tas(self.q, value)
-            H = lf.pressure_altitude_for_density(rho, self.inputs.si("isa_deviation", 0.0))
+            if "temperature" in self.inputs:  # the gas law gives the pressure at once
+                H = atm.pressure_altitude(lf.pressure_for_density(rho, self.inputs.si("temperature")))
+            else:
+                H = lf.pressure_altitude_for_density(rho, self.inputs.si("isa_deviation", 0.0))
             reason = f"the density at which this TAS gives the q the lift needs lies outside {_MODEL_RANGE}."
         else:
             H = lf.pressure_altitude_for_cas(self.q, speeds.cas)

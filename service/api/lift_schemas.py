@@ -250,9 +250,6 @@ class LiftSolveRequest(ComputeSchema):
         if unknown == "altitude" and "eas" in data:
             errors["eas"] = ["At a given EAS the dynamic pressure is 1/2 rho0 EAS^2 at every altitude, so the lift "
                              "equation does not fix the altitude. Give a Mach number, TAS or CAS instead."]
-        if unknown == "altitude" and "tas" in data and "temperature" in data:
-            errors["temperature"] = ["With a TAS the altitude follows from the density, which needs the ISA "
-                                     "deviation: give isa_deviation instead of temperature."]
         if errors:
             raise ma.ValidationError(errors)
         wing = data.get("wing") or {}

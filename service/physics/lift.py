@@ -531,6 +531,43 @@ def density_for_tas(q, tas):
     return _result(2.0 * q / tas**2)
 
 
+def pressure_for_density(rho, T):
+    """Static pressure of air with density ``rho`` at temperature ``T`` (the gas law).
+
+    .. math:: p = \\rho R T
+
+    Parameters
+    ----------
+    rho : array_like
+        Air density [kg/m^3].
+    T : array_like
+        Outside (static) air temperature [K].
+
+    Returns
+    -------
+    p : ndarray or float
+        Static pressure [Pa].
+
+    Notes
+    -----
+    With the outside air temperature known (rather than the ISA deviation), the density a
+    TAS needs fixes the static pressure directly, and so the pressure altitude
+    (``atmosphere.pressure_altitude(p)``); no iteration is needed.
+
+    Examples
+    --------
+    >>> print(round(float(pressure_for_density(1.225, 288.15))))
+    101325
+
+    References
+    ----------
+    1. ICAO Doc 7488/3 (1993), the equation of state of the standard atmosphere.
+    """
+    rho = np.asarray(rho, dtype=float)
+    T = np.asarray(T, dtype=float)
+    return _result(rho * R_AIR * T)
+
+
 def pressure_altitude_for_density(rho, isa_deviation):
     """Pressure altitude at which the air has density ``rho`` on a day ``dT`` off ISA.
 
