@@ -1,6 +1,8 @@
 """Small helpers shared by the API tests."""
 
+import gc
 import json
+import sys
 
 PROBLEM = "application/problem+json"
 
@@ -26,3 +28,24 @@ def assert_problem(response, status, pointer=None):
 
 def _refuse(name):
     raise AssertionError(f"{name} in a JSON body")
+
+
+def count_calls(fn) -> int:
+    """Python-level function calls made while running fn()."""
+    calls = 0
+
+    def profile(frame, event, arg):
+        nonlocal calls
+        if event == "call":
+            calls += 1
+
+    # gc callbacks are not the request path, and their count follows the allocations (hypothesis installs one
+    # to time the collector once any property test has run in this process): leave them out while counting.
+    callbacks, gc.callbacks[:] = gc.callbacks[:], []
+    sys.setprofile(profile)
+    try:
+        fn()
+    finally:
+        sys.setprofile(None)
+        gc.callbacks[:] = callbacks
+    return calls

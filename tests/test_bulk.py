@@ -1,14 +1,12 @@
 """Bulk requests: the request path does no Python work per point, grids label every point, CSV mirrors JSON."""
 
 import csv
-import gc
 import io
-import sys
 
 import numpy as np
 import pytest
 
-from tests.helpers import post
+from tests.helpers import count_calls, post
 
 #: (path, body builder for n points): one representative bulk request per compute endpoint.
 BULK = {
@@ -60,27 +58,6 @@ BULK = {
         "cl_max": 1.6,
     },
 }
-
-
-def count_calls(fn) -> int:
-    """Python-level function calls made while running fn()."""
-    calls = 0
-
-    def profile(frame, event, arg):
-        nonlocal calls
-        if event == "call":
-            calls += 1
-
-    # gc callbacks are not the request path, and their count follows the allocations (hypothesis installs one
-    # to time the collector once any property test has run in this process): leave them out while counting.
-    callbacks, gc.callbacks[:] = gc.callbacks[:], []
-    sys.setprofile(profile)
-    try:
-        fn()
-    finally:
-        sys.setprofile(None)
-        gc.callbacks[:] = callbacks
-    return calls
 
 
 @pytest.mark.parametrize("path", list(BULK))
