@@ -16,7 +16,7 @@ def spec_text() -> str:
     from service import create_app
 
     app = create_app({"QBAR_API_KEYS": ()})
-    return json.dumps(app.extensions["qbar.api"].spec.to_dict(), indent=2, ensure_ascii=False) + "\n"
+    return json.dumps(app.extensions["qbar.api"].spec_dict(), indent=2, ensure_ascii=False) + "\n"
 
 
 def cmd_spec(args) -> int:

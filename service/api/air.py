@@ -27,33 +27,37 @@ TEMPERATURE_MIN_C, TEMPERATURE_MAX_C = -150.0, 100.0
 QNH_MIN_HPA, QNH_MAX_HPA = 800.0, 1100.0
 
 
-def altitude_field(description: str, required: bool = True) -> Quantity:
-    return Quantity("altitude", required=required, metadata={"description": description})
+def altitude_field(description: str, required: bool = True, example=None) -> Quantity:
+    example = {"value": 350, "unit": "FL"} if example is None else example
+    return Quantity("altitude", required=required, metadata={"description": description, "example": example})
 
 
 def isa_deviation_field() -> Quantity:
     return Quantity("temperature_difference", minimum=-ISA_DEVIATION_LIMIT, maximum=ISA_DEVIATION_LIMIT, metadata={
         "description": "ISA deviation: the outside air temperature minus the standard temperature at the pressure "
-                       "altitude [K]. Not with `temperature`. Default 0 (standard day) when neither is given."})
+                       "altitude [K]. Not with `temperature`. Default 0 (standard day) when neither is given.",
+        "example": 10})
 
 
 def temperature_field() -> Quantity:
     return Quantity("temperature", minimum=TEMPERATURE_MIN_C, maximum=TEMPERATURE_MAX_C, metadata={
-        "description": "Outside (static) air temperature at the point [degC]. Not with `isa_deviation`."})
+        "description": "Outside (static) air temperature at the point [degC]. Not with `isa_deviation`.",
+        "example": 32})
 
 
 def qnh_field() -> Quantity:
     return Quantity("pressure", minimum=QNH_MIN_HPA, maximum=QNH_MAX_HPA, metadata={
         "description": "Altimeter setting QNH [hPa]; `altitude` is then the altitude indicated with that setting, "
                        "and pressure altitude = indicated altitude + the standard altitude of the QNH pressure. "
-                       "Not with FL or `altitude_kind: geometric`."})
+                       "Not with FL or `altitude_kind: geometric`.", "example": 1008})
 
 
 def altitude_kind_field() -> ma.fields.String:
     return ma.fields.String(load_default="pressure", validate=ma.validate.OneOf(["pressure", "geometric"]), metadata={
         "description": "\"pressure\" (default): `altitude` is a pressure altitude (or, with `qnh`, an indicated "
                        "altitude). \"geometric\": `altitude` is a geometric height above mean sea level, converted "
-                       "to geopotential and used as the pressure altitude (a standard-day relation)."})
+                       "to geopotential and used as the pressure altitude (a standard-day relation).",
+        "example": "pressure"})
 
 
 def _show_ft(metres: float) -> str:

@@ -6,7 +6,7 @@ import marshmallow as ma
 import numpy as np
 
 from service import units
-from service.api import air
+from service.api import air, examples
 from service.api.base import COMPUTE_PROBLEMS, Blueprint
 from service.api.inputs import ComputeSchema, first_indices, no_solution, outputs_field
 from service.api.outputs import Leaf, Result, unit_for
@@ -88,13 +88,10 @@ AirspeedResponse = response_schema("AirspeedResponse", {
     "atmosphere": ma.fields.Nested(AirspeedAtmosphere, metadata={"description": OUTPUTS["atmosphere"][1]}),
 }, inputs=AirspeedRequest)
 
-#: Our demo type NR-200 (of the invented operator Northwind Regional): its IAS -> CAS table.
-NR200_CALIBRATION = {"ias": [120, 160, 200, 240, 280, 320], "cas": [123, 162, 201, 240, 278.5, 317], "unit": "kt"}
 
 
 @blp.route("/airspeed", methods=["POST"])
-@blp.arguments(AirspeedRequest, example={
-    "ias": 250, "altitude": {"value": 330, "unit": "FL"}, "isa_deviation": 15, "calibration": NR200_CALIBRATION})
+@blp.arguments(AirspeedRequest, examples=examples.AIRSPEED)
 @blp.response(200, AirspeedResponse)
 @blp.problems(*COMPUTE_PROBLEMS)
 def airspeed(inputs):
@@ -177,7 +174,7 @@ def _beyond_model(cas, mach, missing, indices: bool = True) -> str:
 
 
 @blp.route("/airspeed/crossover", methods=["POST"])
-@blp.arguments(CrossoverRequest, example={"cas": [280, 300, 320], "mach": 0.78})
+@blp.arguments(CrossoverRequest, examples=examples.CROSSOVER)
 @blp.response(200, CrossoverResponse)
 @blp.problems(*COMPUTE_PROBLEMS)
 def crossover(inputs):
@@ -239,8 +236,7 @@ ScheduleResponse = response_schema("ScheduleResponse", {
 
 
 @blp.route("/airspeed/schedule", methods=["POST"])
-@blp.arguments(ScheduleRequest, example={
-    "cas": 290, "mach": 0.76, "altitude": {"value": [100, 200, 250, 300, 350], "unit": "FL"}, "isa_deviation": 10})
+@blp.arguments(ScheduleRequest, examples=examples.SCHEDULE)
 @blp.response(200, ScheduleResponse)
 @blp.problems(*COMPUTE_PROBLEMS)
 def schedule(inputs):

@@ -2,7 +2,7 @@
 
 from __future__ import annotations
 
-from service.api import air
+from service.api import air, examples
 from service.api.base import COMPUTE_PROBLEMS, Blueprint
 from service.api.inputs import ComputeSchema, outputs_field
 from service.api.outputs import Result
@@ -60,7 +60,7 @@ AtmosphereResponse = response_schema("AtmosphereResponse", {
 
 
 @blp.route("/atmosphere", methods=["POST"])
-@blp.arguments(AtmosphereRequest, example={"altitude": {"value": 350, "unit": "FL"}, "isa_deviation": 10})
+@blp.arguments(AtmosphereRequest, examples=examples.ATMOSPHERE)
 @blp.response(200, AtmosphereResponse)
 @blp.problems(*COMPUTE_PROBLEMS)
 def atmosphere(inputs):

@@ -5,12 +5,14 @@ from __future__ import annotations
 import http
 from copy import deepcopy
 
+import flask
 import flask_smorest
 import marshmallow as ma
 
 from service.api import fields, problems
 from service.api.inputs import BodyParser
 from service.api.problems import PROBLEM_MEDIA_TYPE
+from service.api.spec import complete as complete_spec
 
 #: The problem responses every compute endpoint can give (documented with Blueprint.problems).
 COMPUTE_PROBLEMS = (400, 401, 406, 413, 415, 422)
@@ -57,7 +59,8 @@ class ProblemSchema(ma.Schema):
     title = ma.fields.String(required=True, metadata={"description": "Short summary of the problem kind."})
     status = ma.fields.Integer(required=True, metadata={"description": "The HTTP status code."})
     detail = ma.fields.String(required=True, metadata={"description": "What went wrong with this request."})
-    instance = ma.fields.String(metadata={"description": "The request path, where given."})
+    instance = ma.fields.String(metadata={"description": "The request path, where given.",
+                                          "example": "/v1/atmosphere"})
     errors = ma.fields.List(ma.fields.Nested(ErrorItemSchema), metadata={
         "description": "For invalid input: each offending value with a pointer into the request."})
     request_id = ma.fields.String(metadata={"description": "The request id (X-Request-ID) for support."})
@@ -69,10 +72,31 @@ class ProblemSchema(ma.Schema):
 
 
 class Api(flask_smorest.Api):
-    """flask-smorest Api answering every error with a problem document."""
+    """flask-smorest Api answering every error with a problem document, publishing the completed spec."""
 
     ERROR_SCHEMA = ProblemSchema
     DEFAULT_ERROR_RESPONSE_NAME = None
+
+    def __init__(self, *args, **kwargs):
+        self._spec_dict = None
+        super().__init__(*args, **kwargs)
+
+    def spec_dict(self) -> dict:
+        """The published spec: apispec's document completed by service.api.spec (computed examples, CSV,
+        headers), built on first use; `qbar spec` writes it and GET /openapi.json serves it."""
+        if self._spec_dict is None:
+            self._spec_dict = complete_spec(self._app, self.spec.to_dict())
+        return self._spec_dict
+
+    def _openapi_json(self):
+        return flask.current_app.response_class(
+            flask.json.dumps(self.spec_dict(), indent=2, sort_keys=False), mimetype="application/json")
+
+    def _register_pagination_header(self):
+        """Nothing: qbar does not paginate (flask-smorest would add an unused PaginationMetadata schema)."""
+
+    def _register_etag_headers(self):
+        """Nothing: qbar's answers carry no ETag."""
 
     def _register_error_handlers(self):
         problems.register(self._app)

@@ -119,11 +119,13 @@ class ComputeSchema(ma.Schema):
     output_units = OutputUnits(metadata={
         "description": "Units of the outputs, by dimension (keys as GET /v1/units lists them, for example "
                        "{\"altitude\": \"m\", \"speed\": \"km/h\"}); each dimension not named uses its default unit.",
+        "example": {"altitude": "m", "speed": "km/h"},
     })
     grid = ma.fields.Boolean(truthy={True}, falsy={False}, load_default=False, metadata={
         "description": "false (default): array inputs are broadcast point by point (equal lengths, or length 1). "
                        "true: the outer product of the array inputs, flattened with the first-listed axis "
                        "varying slowest; the answer then carries `inputs`, every input at every point.",
+        "example": True,
     })
 
     @ma.validates_schema
@@ -148,6 +150,7 @@ def outputs_field(names: tuple[str, ...]) -> ma.fields.List:
         "description": "Only these outputs are computed and returned (default: all). Valid names: "
                        + ", ".join(names) + ".",
         "items": {"enum": list(names)},
+        "example": list(names[:2]),
     })
 
 

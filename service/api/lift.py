@@ -10,17 +10,14 @@ from functools import cached_property, partial
 
 import numpy as np
 
-from service.api import air
+from service.api import air, examples
 from service.api.air import Air
 from service.api.base import COMPUTE_PROBLEMS, Blueprint
 from service.api.inputs import Inputs, no_solution
 from service.api.lift_schemas import (
-    CURVE_EXAMPLE,
     CURVE_OUTPUTS,
     DATCOM_MACH_WARNING,
-    SOLVE_EXAMPLE,
     SOLVE_OUTPUTS,
-    STALL_EXAMPLE,
     CurveResponse,
     LiftCurveRequest,
     LiftSolveRequest,
@@ -255,7 +252,7 @@ def _solve_outputs(inputs: Inputs) -> list[str]:
 
 
 @blp.route("/lift/solve", methods=["POST"])
-@blp.arguments(LiftSolveRequest, example=SOLVE_EXAMPLE)
+@blp.arguments(LiftSolveRequest, examples=examples.LIFT_SOLVE)
 @blp.response(200, SolveResponse)
 @blp.problems(*COMPUTE_PROBLEMS)
 def solve(inputs):
@@ -308,7 +305,7 @@ def _speed_values(speeds: Speeds, output: str) -> dict:
 
 
 @blp.route("/lift/stall", methods=["POST"])
-@blp.arguments(LiftStallRequest, example=STALL_EXAMPLE)
+@blp.arguments(LiftStallRequest, examples=examples.LIFT_STALL)
 @blp.response(200, StallResponse)
 @blp.problems(*COMPUTE_PROBLEMS)
 def stall(inputs):
@@ -362,7 +359,7 @@ def stall(inputs):
 
 
 @blp.route("/lift/curve", methods=["POST"])
-@blp.arguments(LiftCurveRequest, example=CURVE_EXAMPLE)
+@blp.arguments(LiftCurveRequest, examples=examples.LIFT_CURVE)
 @blp.response(200, CurveResponse)
 @blp.problems(*COMPUTE_PROBLEMS)
 def curve(inputs):

@@ -11,6 +11,7 @@ from __future__ import annotations
 import marshmallow as ma
 
 from service.api import air
+from service.api.examples import NR200_WING
 from service.api.fields import Number, Quantity, parse_numbers
 from service.api.inputs import ComputeSchema, outputs_field
 from service.api.schemas import FlagOut, LabelOut, quantity_out, ratio_out, response_schema
@@ -26,59 +27,62 @@ DATCOM_MACH_WARNING = 0.7
 # --- Field factories ---------------------------------------------------------------------------------
 
 
-def weight_field(description: str, required: bool = False) -> Quantity:
+def weight_field(description: str, required: bool = False, example=21000) -> Quantity:
     return Quantity("weight", required=required, minimum=0.0, exclusive_minimum=True, metadata={
         "description": f"{description} [kg]: a mass (kg, t, lb; times g0 = 9.80665 m/s2) or a force (N, kN, "
-                       "lbf), told apart by the unit."})
+                       "lbf), told apart by the unit.", "example": example})
 
 
 def wing_area_field(description: str = "Wing reference area [m2].") -> Quantity:
-    return Quantity("area", minimum=0.0, exclusive_minimum=True, metadata={"description": description})
+    return Quantity("area", minimum=0.0, exclusive_minimum=True, metadata={"description": description, "example": 61})
 
 
 def load_factor_field() -> Number:
     return Number(minimum=0.0, exclusive_minimum=True, metadata={
-        "description": "Load factor n = lift / weight [-]. Not with `bank_angle`; default 1 when neither is given."})
+        "description": "Load factor n = lift / weight [-]. Not with `bank_angle`; default 1 when neither is given.",
+        "example": 1.5})
 
 
 def bank_angle_field() -> Quantity:
     return Quantity("angle", minimum=0.0, maximum=90.0, exclusive_maximum=True, metadata={
         "description": "Bank angle of a level, coordinated turn [deg], 0 <= bank < 90; sets the load factor "
-                       "n = 1 / cos(bank). Not with `load_factor`."})
+                       "n = 1 / cos(bank). Not with `load_factor`.", "example": [30, 45]})
 
 
 def cl_max_field() -> Number:
     return Number(minimum=0.0, exclusive_minimum=True, metadata={
-        "description": "Maximum lift coefficient CLmax of the configuration [-]."})
+        "description": "Maximum lift coefficient CLmax of the configuration [-].", "example": 1.6})
 
 
 def aspect_ratio_field() -> Number:
     return Number(required=True, minimum=0.0, exclusive_minimum=True, metadata={
-        "description": "Wing aspect ratio A = span^2 / area [-]."})
+        "description": "Wing aspect ratio A = span^2 / area [-].", "example": 11})
 
 
 def sweep_field() -> Quantity:
     return Quantity("angle", required=True, minimum=-90.0, maximum=90.0, exclusive_minimum=True,
                     exclusive_maximum=True, metadata={
-                        "description": "Sweep of the wing's half-chord line [deg], between -90 and 90."})
+                        "description": "Sweep of the wing's half-chord line [deg], between -90 and 90.",
+                        "example": 0})
 
 
 def airfoil_efficiency_field() -> Number:
     return Number(minimum=0.0, exclusive_minimum=True, metadata={
         "description": "Airfoil efficiency kappa: the section's lift-curve slope divided by 2 pi per rad [-]. "
-                       "Default 1 (thin-airfoil theory). Not with `airfoil_lift_slope`."})
+                       "Default 1 (thin-airfoil theory). Not with `airfoil_lift_slope`.", "example": 0.95})
 
 
 def airfoil_lift_slope_field() -> Quantity:
     return Quantity("lift_slope", minimum=0.0, exclusive_minimum=True, metadata={
         "description": "The section's (two-dimensional) low-speed lift-curve slope [1/rad]; kappa = slope / 2 pi. "
-                       "Not with `airfoil_efficiency`."})
+                       "Not with `airfoil_efficiency`.", "example": {"value": 0.105, "unit": "1/deg"}})
 
 
 def zero_lift_angle_field() -> Quantity:
     return Quantity("angle", minimum=-90.0, maximum=90.0, exclusive_minimum=True, exclusive_maximum=True,
                     metadata={"description": "Angle of attack of zero lift [deg], negative for a cambered section; "
-                                             "default 0. CL = lift slope x (angle of attack - zero-lift angle)."})
+                                             "default 0. CL = lift slope x (angle of attack - zero-lift angle).",
+                              "example": -2.5})
 
 
 class SubsonicMach(Number):
@@ -157,10 +161,11 @@ class StallReferenceSchema(ma.Schema):
         ordered = True
 
     stall_speed = Quantity("speed", required=True, minimum=0.0, exclusive_minimum=True, maximum=SPEED_MAX_KT, metadata={
-        "description": "The 1 g stall speed as a calibrated airspeed (CAS), as the flight manual gives it [kt]."})
-    weight = weight_field("The weight at which `stall_speed` holds", required=True)
+        "description": "The 1 g stall speed as a calibrated airspeed (CAS), as the flight manual gives it [kt].",
+        "example": 108})
+    weight = weight_field("The weight at which `stall_speed` holds", required=True, example=22000)
     altitude = air.altitude_field("Pressure altitude at which `stall_speed` holds [ft] (FL allowed); default the "
-                                  "request's pressure altitude.", required=False)
+                                  "request's pressure altitude.", required=False, example=0)
 
 
 # --- POST /v1/lift/solve -----------------------------------------------------------------------------
@@ -197,10 +202,11 @@ class LiftSolveRequest(ComputeSchema):
         "required": "Missing: name the unknown, one of " + ", ".join(UNKNOWNS) + "."}, metadata={
         "description": "The unknown: one of " + ", ".join(UNKNOWNS) + ". Give every other input and leave this "
                        "one out. `speed` gives every speed kind; `altitude` needs a Mach, TAS or CAS/IAS (at a "
-                       "given EAS the lift does not depend on altitude)."})
+                       "given EAS the lift does not depend on altitude).", "example": "cl"})
     weight = weight_field("Weight")
     wing_area = wing_area_field()
-    cl = Number(minimum=0.0, exclusive_minimum=True, metadata={"description": "Lift coefficient CL [-]."})
+    cl = Number(minimum=0.0, exclusive_minimum=True, metadata={"description": "Lift coefficient CL [-].",
+                                                                "example": 0.6})
     ias = speed_field("ias", _SPEED_NOTE)
     cas = speed_field("cas", _SPEED_NOTE)
     eas = speed_field("eas", _SPEED_NOTE)
@@ -219,7 +225,8 @@ class LiftSolveRequest(ComputeSchema):
     wing = ma.fields.Nested(LiftWingSchema, metadata={
         "description": "Optional: the wing's lift-curve inputs (as for POST /v1/lift/curve, with the Mach number "
                        "of the flight condition); the answer then adds `angle_of_attack`, and `beyond_stall` with "
-                       "`cl_max`. Arrays here broadcast against the points (length 1 or the number of points)."})
+                       "`cl_max`. Arrays here broadcast against the points (length 1 or the number of points).",
+        "example": NR200_WING})
     outputs = outputs_field(tuple(SOLVE_OUTPUTS))
 
     @ma.validates_schema
@@ -264,9 +271,6 @@ SolveResponse = response_schema("LiftSolveResponse", {
        for name, (dim, desc) in SOLVE_OUTPUTS.items()},
 }, inputs=LiftSolveRequest)
 
-SOLVE_EXAMPLE = {"solve_for": "cl", "weight": 21000, "wing_area": 61, "mach": 0.45,
-                 "altitude": {"value": 250, "unit": "FL"}, "isa_deviation": 5}
-
 
 # --- POST /v1/lift/stall -----------------------------------------------------------------------------
 
@@ -280,11 +284,12 @@ class LiftStallRequest(ComputeSchema):
     wing_area = wing_area_field("Wing reference area [m2]. With `cl_max`; not with `reference`.")
     cl_max = Number(minimum=0.0, exclusive_minimum=True, metadata={
         "description": "Maximum lift coefficient CLmax of the configuration [-]. With `wing_area`; not with "
-                       "`reference`."})
+                       "`reference`.", "example": 1.6})
     reference = ma.fields.Nested(StallReferenceSchema, metadata={
         "description": "Instead of `wing_area` and `cl_max`: a stall speed from the flight manual, turned into EAS "
                        "at its altitude, scaled by sqrt(weight / reference weight). Arrays here broadcast against "
-                       "the points (length 1 or the number of points)."})
+                       "the points (length 1 or the number of points).",
+        "example": {"stall_speed": 108, "weight": 22000, "altitude": 0}})
     altitude = air.altitude_field(
         "Altitude [ft]: a pressure altitude (FL allowed), or the indicated altitude with `qnh`, or a geometric height "
         "with `altitude_kind: geometric`.")
@@ -296,7 +301,7 @@ class LiftStallRequest(ComputeSchema):
     bank_angle = bank_angle_field()
     speed_factors = SpeedFactors(metadata={
         "description": "Multiples of the stall speed at this load factor, e.g. [1.13, 1.23, 1.3] (not a grid axis; "
-                       f"at most {MAX_SPEED_FACTORS}); each gives an entry of `multiples`."})
+                       f"at most {MAX_SPEED_FACTORS}); each gives an entry of `multiples`.", "example": [1.13, 1.3]})
     ias = speed_field("ias", "Optional, for `margin`: one speed of ias, cas, eas, tas, mach.")
     cas = speed_field("cas", "Optional, for `margin`.")
     eas = speed_field("eas", "Optional, for `margin`.")
@@ -353,9 +358,6 @@ StallResponse = response_schema("LiftStallResponse", {
     "margin": ma.fields.Nested(LiftMarginOut, metadata={"description": "With a speed: the margins at that speed."}),
 }, inputs=LiftStallRequest)
 
-STALL_EXAMPLE = {"weight": 22000, "wing_area": 61, "cl_max": 1.6, "altitude": 3000, "isa_deviation": 10,
-                 "bank_angle": [0, 30, 45, 60], "speed_factors": [1.13, 1.23, 1.3], "cas": 160}
-
 
 # --- POST /v1/lift/curve -----------------------------------------------------------------------------
 
@@ -373,13 +375,15 @@ class LiftCurveRequest(_WingInputs, ComputeSchema):
     aspect_ratio = aspect_ratio_field()
     sweep_half_chord = sweep_field()
     mach = SubsonicMach(required=True, minimum=0.0, maximum=1.0, exclusive_maximum=True, metadata={
-        "description": "Free-stream Mach number [-], 0 <= M < 1 (subsonic; a warning above 0.7)."})
+        "description": "Free-stream Mach number [-], 0 <= M < 1 (subsonic; a warning above 0.7).", "example": 0.3})
     airfoil_efficiency = airfoil_efficiency_field()
     airfoil_lift_slope = airfoil_lift_slope_field()
     zero_lift_angle = zero_lift_angle_field()
     angle_of_attack = Quantity("angle", minimum=-90.0, maximum=90.0, exclusive_minimum=True, exclusive_maximum=True,
-                               metadata={"description": "Angle of attack [deg] -> `cl`. Not with `cl`."})
-    cl = Number(metadata={"description": "Lift coefficient [-] -> `angle_of_attack`. Not with `angle_of_attack`."})
+                               metadata={"description": "Angle of attack [deg] -> `cl`. Not with `cl`.",
+                                         "example": [0, 4, 8]})
+    cl = Number(metadata={"description": "Lift coefficient [-] -> `angle_of_attack`. Not with `angle_of_attack`.",
+                          "example": 0.9})
     cl_max = cl_max_field()
     outputs = outputs_field(tuple(CURVE_OUTPUTS))
 
@@ -399,7 +403,3 @@ CurveResponse = response_schema("LiftCurveResponse", {
                                            else ratio_out(desc)))
     for name, (dim, desc) in CURVE_OUTPUTS.items()
 }, inputs=LiftCurveRequest)
-
-CURVE_EXAMPLE = {"aspect_ratio": 11, "sweep_half_chord": 0, "mach": 0.3,
-                 "airfoil_lift_slope": {"value": 0.105, "unit": "1/deg"}, "zero_lift_angle": -2.5, "cl": 0.9,
-                 "cl_max": 1.6}

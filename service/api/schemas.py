@@ -7,6 +7,7 @@ import marshmallow as ma
 
 from service.api.base import WarningSchema
 from service.api.fields import Number
+from service.api.outputs import unit_for
 
 _NUMBERS = {"oneOf": [{"type": ["number", "null"]}, {"type": "array", "items": {"type": ["number", "null"]}}]}
 
@@ -68,8 +69,9 @@ def response_schema(name: str, fields: dict, inputs: type[ma.Schema] | None = No
         "description": "Outputs that are null or doubtful at some points, with why and where."})
     if inputs is not None:
         input_fields = {
-            key: (quantity_out(f.metadata.get("description", "")) if getattr(f, "dimension", None)
-                  else ratio_out(f.metadata.get("description", "")))
+            key: (quantity_out(f"`{key}` as given, at every point, in the output unit of its dimension "
+                               f"[{unit_for(f.dimension, {})}].") if getattr(f, "dimension", None)
+                  else ratio_out(f"`{key}` as given, at every point [-]."))
             for key, f in inputs._declared_fields.items() if isinstance(f, Number)
         }
         inputs_schema = type(name + "Inputs", (ma.Schema,), input_fields)

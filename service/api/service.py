@@ -125,7 +125,10 @@ class ProblemTypeSchema(ma.Schema):
     description = ma.fields.String(required=True, metadata={"description": "What it means and what to do."})
 
 
-@blp.route("/problems/<slug>", methods=["GET"])
+@blp.route("/problems/<slug>", methods=["GET"], parameters=[{
+    "in": "path", "name": "slug", "required": True, "example": "validation",
+    "description": "The end of a problem document's `type` URI, e.g. `validation` for /problems/validation.",
+    "schema": {"type": "string", "minLength": 1}}])
 @blp.doc(security=[])  # open without an API key (service.api.ops.OPEN_PATHS)
 @blp.response(200, ProblemTypeSchema)
 @blp.problems(404)

@@ -10,6 +10,7 @@ import marshmallow as ma
 import numpy as np
 
 from service.api.air import Air
+from service.api.examples import NR200_CALIBRATION
 from service.api.fields import Number, Quantity, parse_numbers
 from service.api.inputs import Inputs, first_indices, no_solution
 from service.api.lazy import lazy
@@ -30,16 +31,19 @@ _NAMES = {
     "eas": "Equivalent airspeed",
     "tas": "True airspeed",
 }
+#: The spec's example of each speed input: our demo type NR-200 climbing through FL240 on an ISA+10 day
+#: (the TAS and EAS belong to that CAS).
+_EXAMPLES = {"ias": 250, "cas": {"value": 250, "unit": "kt"}, "eas": 241, "tas": [350, 380, 410]}
 
 
 def speed_field(kind: str, note: str = "") -> Quantity:
     return Quantity("speed", minimum=0.0, exclusive_minimum=True, maximum=SPEED_MAX_KT, metadata={
-        "description": f"{_NAMES[kind]} [kt].{(' ' + note) if note else ''}"})
+        "description": f"{_NAMES[kind]} [kt].{(' ' + note) if note else ''}", "example": _EXAMPLES[kind]})
 
 
 def mach_field(note: str = "") -> Number:
     return Number(minimum=0.0, exclusive_minimum=True, maximum=MACH_MAX, metadata={
-        "description": f"Mach number [-], a bare number or array.{(' ' + note) if note else ''}"})
+        "description": f"Mach number [-], a bare number or array.{(' ' + note) if note else ''}", "example": 0.76})
 
 
 class CalibrationField(ma.fields.Field):
@@ -99,7 +103,8 @@ def calibration_field() -> CalibrationField:
     return CalibrationField(metadata={
         "description": "The airspeed system's calibration from the flight manual: IAS -> CAS by linear "
                        "interpolation between rows [kt by default]. An IAS input outside the table is refused "
-                       "(nothing is extrapolated); an IAS output whose CAS lies outside it is null with a warning."})
+                       "(nothing is extrapolated); an IAS output whose CAS lies outside it is null with a warning.",
+        "example": NR200_CALIBRATION})
 
 
 def given_speed(inputs: Inputs, kinds: tuple[str, ...] = KINDS, required: bool = True) -> str | None:

@@ -1,0 +1,118 @@
+"""The spec's request examples, set around our invented operator and aircraft.
+
+Northwind Regional (an invented operator) flies the NR-200 (an invented type): wing area 61 m2, aspect ratio
+11, unswept, MTOW 23 000 kg, clean CLmax 1.6, a 290 kt / M0.76 climb. Its high airfield Kestrel Ridge (also
+invented) lies at 7,200 ft. Each endpoint's examples, taken together, give every numeric input at least once,
+so that every field of the answers, the grid's `inputs` among them, has a computed example
+(service.api.spec runs them through the service; nothing here is an answer).
+"""
+
+from __future__ import annotations
+
+#: The NR-200's airspeed calibration, IAS -> CAS [kt].
+NR200_CALIBRATION = {"ias": [120, 160, 200, 240, 280, 320], "cas": [123, 162, 201, 240, 278.5, 317], "unit": "kt"}
+#: The NR-200's wing for the lift curve: a cambered section of 0.105 per degree.
+NR200_WING = {"aspect_ratio": 11, "sweep_half_chord": 0, "airfoil_lift_slope": {"value": 0.105, "unit": "1/deg"},
+              "zero_lift_angle": -2.5, "cl_max": 1.6}
+
+
+def _examples(*items: tuple[str, str, dict]) -> dict:
+    """OpenAPI named examples from (name, summary, request body)."""
+    return {name: {"summary": summary, "value": value} for name, summary, value in items}
+
+
+ATMOSPHERE = _examples(
+    ("fl350-isa10", "FL350 on an ISA+10 day",
+     {"altitude": {"value": 350, "unit": "FL"}, "isa_deviation": 10}),
+    ("kestrel-ridge-hot-day", "Density altitude at Kestrel Ridge (7,200 ft) on a 32 degC day, QNH 1008 hPa",
+     {"altitude": 7200, "qnh": 1008, "temperature": 32,
+      "outputs": ["pressure_altitude", "density_altitude", "isa_deviation", "density"]}),
+    ("si-table", "A grid of geometric heights and ISA deviations, in SI units",
+     {"altitude": {"value": [0, 3000, 6000], "unit": "m"}, "altitude_kind": "geometric", "isa_deviation": [-10, 15],
+      "grid": True, "outputs": ["temperature", "pressure", "density"],
+      "output_units": {"temperature": "K", "pressure": "Pa"}}),
+)
+
+AIRSPEED = _examples(
+    ("nr200-ias", "The NR-200 at 250 kt IAS (through its calibration) at FL330, ISA+15",
+     {"ias": 250, "altitude": {"value": 330, "unit": "FL"}, "isa_deviation": 15, "calibration": NR200_CALIBRATION}),
+    ("cas-fl240", "250 kt CAS at FL240 on an ISA+12 day",
+     {"cas": 250, "altitude": {"value": 240, "unit": "FL"}, "isa_deviation": 12}),
+    ("cruise-mach-kmh", "Two cruise Mach numbers at two levels with the outside air temperature, speeds in km/h",
+     {"mach": [0.72, 0.76], "altitude": {"value": [310, 350], "unit": "FL"}, "temperature": [-42, -51],
+      "outputs": ["tas", "cas", "atmosphere"], "output_units": {"speed": "km/h"}}),
+    ("flight-plan-tas", "A flight plan's TAS at FL280, -38 degC, as CAS and Mach",
+     {"tas": 410, "altitude": {"value": 280, "unit": "FL"}, "temperature": -38, "outputs": ["cas", "mach", "eas"]}),
+    ("eas-grid", "A grid of EAS and altitudes",
+     {"eas": [150, 200], "altitude": [0, 10000], "grid": True, "outputs": ["cas", "tas"]}),
+)
+
+CROSSOVER = _examples(
+    ("nr200-climb-options", "Three climb CAS options of the NR-200 against its M0.78 limit",
+     {"cas": [280, 300, 320], "mach": 0.78}),
+    ("grid-in-metres", "A grid of CAS and Mach numbers, altitudes in metres",
+     {"cas": [280, 300], "mach": [0.74, 0.78], "grid": True, "output_units": {"altitude": "m", "pressure": "inHg"}}),
+)
+
+SCHEDULE = _examples(
+    ("nr200-climb", "The NR-200's 290 kt / M0.76 climb on an ISA+10 day",
+     {"cas": 290, "mach": 0.76, "altitude": {"value": [100, 200, 250, 300, 350], "unit": "FL"}, "isa_deviation": 10}),
+    ("descent-with-oat", "A M0.74 / 280 kt descent with the outside air temperature at each level",
+     {"cas": 280, "mach": 0.74, "altitude": {"value": [350, 300, 250, 200], "unit": "FL"},
+      "temperature": [-50, -41, -31, -20], "outputs": ["governing", "cas", "mach", "tas"]}),
+)
+
+LIFT_SOLVE = _examples(
+    ("cl-at-cruise", "The NR-200's CL at cruise: 21 000 kg, Mach 0.45, FL250, ISA+5, with its wing's angle of attack",
+     {"solve_for": "cl", "weight": 21000, "wing_area": 61, "mach": 0.45, "altitude": {"value": 250, "unit": "FL"},
+      "isa_deviation": 5, "wing": NR200_WING}),
+    ("speed-for-cl", "Every speed kind for CL 1.2 at 22 000 kg, 3000 ft, ISA+10",
+     {"solve_for": "speed", "weight": 22000, "wing_area": 61, "cl": 1.2, "altitude": 3000, "isa_deviation": 10,
+      "outputs": ["cas", "eas", "tas", "mach", "dynamic_pressure"]}),
+    ("altitude-for-mach", "The pressure altitude where Mach 0.45 needs CL 0.6",
+     {"solve_for": "altitude", "weight": 21000, "wing_area": 61, "mach": 0.45, "cl": 0.6, "isa_deviation": 5,
+      "outputs": ["pressure_altitude", "density_altitude", "tas", "cas"]}),
+    ("load-factor-over-kestrel-ridge", "The load factor at 160 kt IAS and CL 1.3 over Kestrel Ridge, QNH 1008 hPa",
+     {"solve_for": "load_factor", "weight": 20000, "wing_area": 61, "cl": 1.3, "ias": 160,
+      "calibration": NR200_CALIBRATION, "altitude": 8200, "qnh": 1008, "temperature": 27,
+      "outputs": ["load_factor", "bank_angle", "cas", "tas"]}),
+    ("weight-in-a-turn", "The weight a 30 deg level turn at 180 kt TAS and CL 1.0 supports, in kN",
+     {"solve_for": "weight", "wing_area": 61, "cl": 1.0, "tas": 180, "altitude": 5000, "temperature": 20,
+      "bank_angle": 30, "outputs": ["weight", "lift", "load_factor", "cas"], "output_units": {"force": "kN"}}),
+    ("cl-grid", "CL over a grid of weights (in tonnes) and EAS at 10 000 ft",
+     {"solve_for": "cl", "weight": {"value": [18, 23], "unit": "t"}, "wing_area": 61, "eas": [140, 180, 220],
+      "altitude": 10000, "load_factor": 1.0, "grid": True, "outputs": ["cl", "mach"]}),
+    ("wing-area-for-cas", "The wing area that carries 23 000 kg at 125 kt CAS and CL 1.5 at sea level, in ft2",
+     {"solve_for": "wing_area", "weight": 23000, "cl": 1.5, "cas": 125, "altitude": 0,
+      "outputs": ["wing_area", "wing_loading"], "output_units": {"area": "ft2", "wing_loading": "kg/m2"}}),
+)
+
+LIFT_STALL = _examples(
+    ("turns-and-margins", "NR-200 stall speeds in level turns, 1.13/1.23/1.3 of them, and the margins at 160 kt CAS",
+     {"weight": 22000, "wing_area": 61, "cl_max": 1.6, "altitude": 3000, "isa_deviation": 10,
+      "bank_angle": [0, 30, 45, 60], "speed_factors": [1.13, 1.23, 1.3], "cas": 160}),
+    ("flight-manual-reference", "A flight-manual stall speed (108 kt CAS at 22 000 kg) scaled to 19 000 kg",
+     {"weight": 19000, "reference": {"stall_speed": 108, "weight": 22000, "altitude": 0}, "altitude": 5000,
+      "isa_deviation": 10}),
+    ("kestrel-ridge-circuit", "In the circuit at Kestrel Ridge: 8,200 ft on QNH 1008 hPa, 25 degC, 150 kt IAS",
+     {"weight": 22000, "wing_area": 61, "cl_max": 1.6, "altitude": 8200, "qnh": 1008, "temperature": 25,
+      "load_factor": [1.0, 1.2], "ias": 150, "calibration": NR200_CALIBRATION}),
+    ("margins-eas-grid", "Stall margins at 140 kt EAS over a grid of weights and bank angles",
+     {"weight": [18000, 22000], "wing_area": 61, "cl_max": 1.6, "altitude": 3000, "bank_angle": [0, 30],
+      "eas": 140, "grid": True, "outputs": ["stall", "margin"]}),
+    ("cruise-mach", "The margin at Mach 0.45, FL250, ISA+5, in a 1.3 g manoeuvre",
+     {"weight": 21000, "wing_area": 61, "cl_max": 1.3, "altitude": {"value": 250, "unit": "FL"}, "isa_deviation": 5,
+      "load_factor": 1.3, "mach": 0.45}),
+    ("hot-day-tas", "The margin at 170 kt TAS, 3000 ft, 30 degC",
+     {"weight": 22000, "wing_area": 61, "cl_max": 1.6, "altitude": 3000, "temperature": 30, "tas": 170,
+      "outputs": ["stall", "margin"]}),
+)
+
+LIFT_CURVE = _examples(
+    ("angle-for-cl", "The NR-200 wing's angle of attack for CL 0.9 at Mach 0.3",
+     {"aspect_ratio": 11, "sweep_half_chord": 0, "mach": 0.3, "airfoil_lift_slope": {"value": 0.105, "unit": "1/deg"},
+      "zero_lift_angle": -2.5, "cl": 0.9, "cl_max": 1.6}),
+    ("cl-at-angles", "CL at three angles of attack for two aspect ratios, slope per degree",
+     {"aspect_ratio": [9, 11], "sweep_half_chord": {"value": 0, "unit": "deg"}, "mach": 0.3,
+      "airfoil_efficiency": 0.95, "angle_of_attack": [0, 4, 8], "grid": True, "output_units": {"lift_slope": "1/deg"}}),
+)
