@@ -143,8 +143,8 @@ def test_density_altitude_beyond_range_is_null_with_warning(client):
 @pytest.mark.parametrize(("body", "pointer"), [
     ({"altitude": 300000}, "/altitude"),
     ({"altitude": -17000}, "/altitude"),
-    ({"altitude": {"value": 90, "unit": "km"}, "altitude_kind": "geometric"}, "/altitude"),
-    ({"altitude": [0, 1e6]}, "/altitude"),
+    ({"altitude": {"value": 90, "unit": "km"}, "altitude_kind": "geometric"}, "/altitude/value"),
+    ({"altitude": [0, 1e6]}, "/altitude/1"),
     ({"altitude": 0, "temperature": -300}, "/temperature"),
     ({"altitude": 0, "temperature": {"value": 0, "unit": "K"}}, "/temperature/value"),
     ({"altitude": 0, "temperature": {"value": -460, "unit": "degF"}}, "/temperature/value"),

@@ -10,7 +10,7 @@ from __future__ import annotations
 import marshmallow as ma
 import numpy as np
 
-from service.api.fields import Quantity
+from service.api.fields import Quantity, quantity_schema
 from service.api.inputs import Inputs
 from service.api.lazy import lazy
 from service.api.problems import invalid
@@ -27,9 +27,68 @@ TEMPERATURE_MIN_C, TEMPERATURE_MAX_C = -150.0, 100.0
 QNH_MIN_HPA, QNH_MAX_HPA = 800.0, 1100.0
 
 
-def altitude_field(description: str, required: bool = True, example=None) -> Quantity:
+#: The model's range of geometric heights [m] (the range of pressure altitudes, H_MIN..H_MAX, converted).
+GEOMETRIC_MIN, GEOMETRIC_MAX = float(atm.geometric_altitude(H_MIN)), float(atm.geometric_altitude(H_MAX))
+
+KIND_FIELD, QNH_FIELD = "altitude_kind", "qnh"
+_GEOMETRIC = {"required": [KIND_FIELD], "properties": {KIND_FIELD: {"const": "geometric"}}}
+
+
+class Altitude(Quantity):
+    """An altitude, within the model's range in the unit given.
+
+    The range is that of pressure altitudes, H_MIN..H_MAX, or of geometric heights when the
+    request has ``altitude_kind: "geometric"``. With QNH the corrected pressure altitude is
+    checked later (:func:`pressure_altitude`): its range depends on two inputs at once.
+    """
+
+    def __init__(self, **kwargs):
+        super().__init__("altitude", minimum=H_MIN, maximum=H_MAX, bounds_unit="m", **kwargs)
+        self.geometric_bounds = self.unit_bounds(GEOMETRIC_MIN, GEOMETRIC_MAX, "m")
+
+    def _beside(self, name: str) -> bool:
+        """Whether the request schema holding this field also has field ``name``."""
+        return name in getattr(self.parent, "fields", {})
+
+    def describe_range(self, lo, hi, unit_text=""):
+        kind = "geometric heights" if (lo, hi) == self.geometric_bounds.get(unit_text) else "pressure altitudes"
+        return f"Must lie within the model's range of {kind}, {lo:.12g} to {hi:.12g} {unit_text}."
+
+    def bounds_in(self, unit, data):
+        if self._beside(KIND_FIELD) and isinstance(data, dict) and data.get(KIND_FIELD) == "geometric":
+            return self.geometric_bounds[unit]
+        return self.bounds[unit]
+
+    def openapi(self) -> dict:
+        """Within the model's range; with altitude_kind, the wider of the two (spec_rules narrows it)."""
+        bounds = self.bounds
+        if self._beside(KIND_FIELD):
+            bounds = {unit: (min(lo, self.geometric_bounds[unit][0]), max(hi, self.geometric_bounds[unit][1]))
+                      for unit, (lo, hi) in self.bounds.items()}
+        return quantity_schema(self, bounds) | {"x-default-unit": self.default_unit}
+
+    def spec_rules(self, name: str) -> list[dict]:
+        """What the request schema says about this altitude beside altitude_kind and qnh (see base.Converter)."""
+        rules = super().spec_rules(name)
+        flight_level = {"type": "object", "required": ["unit"], "properties": {"unit": {"const": "FL"}}}
+        if self._beside(KIND_FIELD):
+            rules.append({  # the range of the kind of altitude given
+                "if": _GEOMETRIC,
+                "then": {"properties": {name: quantity_schema(self, self.geometric_bounds)}},
+                "else": {"properties": {name: quantity_schema(self, self.bounds)}},
+            })
+            rules.append({"not": {"required": [name, KIND_FIELD], "properties": {
+                name: flight_level, KIND_FIELD: {"const": "geometric"}}}})  # FL is a pressure altitude
+        if self._beside(QNH_FIELD):
+            rules.append({"not": {"required": [name, QNH_FIELD], "properties": {name: flight_level}}})
+            if self._beside(KIND_FIELD):
+                rules.append({"not": {"allOf": [_GEOMETRIC, {"required": [QNH_FIELD]}]}})
+        return rules
+
+
+def altitude_field(description: str, required: bool = True, example=None) -> Altitude:
     example = {"value": 350, "unit": "FL"} if example is None else example
-    return Quantity("altitude", required=required, metadata={"description": description, "example": example})
+    return Altitude(required=required, metadata={"description": description, "example": example})
 
 
 def isa_deviation_field() -> Quantity:
@@ -40,7 +99,8 @@ def isa_deviation_field() -> Quantity:
 
 
 def temperature_field() -> Quantity:
-    return Quantity("temperature", minimum=TEMPERATURE_MIN_C, maximum=TEMPERATURE_MAX_C, metadata={
+    return Quantity("temperature", minimum=TEMPERATURE_MIN_C, maximum=TEMPERATURE_MAX_C, excludes=("isa_deviation",),
+                    metadata={
         "description": "Outside (static) air temperature at the point [degC]. Not with `isa_deviation`.",
         "example": 32})
 
@@ -171,19 +231,14 @@ def pressure_altitude(inputs: Inputs, field: str = "altitude", *, allow_kind: bo
     if kind == "geometric":
         if qnh is not None:
             raise invalid({"qnh": "QNH corrects an indicated altitude; it does not apply to a geometric height."})
-        lo, hi = atm.geometric_altitude(H_MIN), atm.geometric_altitude(H_MAX)
-        bad = (H < lo) | (H > hi)
-        if np.any(bad):
-            message = (f"The geometric height must lie within the model's range, {_show_ft(lo)} to "
-                       f"{_show_ft(hi)}.")
-            raise invalid(_pointed(field, bad, message))
-        return atm.geopotential_altitude(H)
-    if qnh is not None:
+        H = atm.geopotential_altitude(H)
+    elif qnh is not None:
         H = H + atm.qnh_offset(qnh.si)
         check_altitude_range(H, field, "pressure altitude (indicated altitude corrected for QNH)")
         return H
-    check_altitude_range(H, field)
-    return H
+    # The field checked the range in the caller's unit (Altitude); the conversion to metres can
+    # put a value at an end of the range an ulp beyond it.
+    return np.clip(H, H_MIN, H_MAX)
 
 
 def air(inputs: Inputs, field: str = "altitude", **kwargs) -> Air:

@@ -8,10 +8,18 @@ import numpy as np
 from service import units
 from service.api import air, examples
 from service.api.base import COMPUTE_PROBLEMS, Blueprint
-from service.api.inputs import ComputeSchema, first_indices, no_solution, outputs_field
+from service.api.inputs import (
+    ComputeSchema,
+    exactly_one,
+    first_indices,
+    needs,
+    no_solution,
+    output_needs,
+    outputs_field,
+)
 from service.api.outputs import Leaf, Result, unit_for
 from service.api.schemas import LabelOut, quantity_out, ratio_out, response_schema
-from service.api.speeds import Speeds, calibration_field, given_speed, mach_field, speed_field
+from service.api.speeds import KINDS, Speeds, calibration_field, given_speed, mach_field, speed_field
 from service.physics import airspeed as spd
 from service.physics.constants import FT, H_MAX, H_MIN, P0
 
@@ -58,6 +66,7 @@ _ONE_OF = "Give exactly one of `ias`, `cas`, `eas`, `tas`, `mach`."
 
 class AirspeedRequest(ComputeSchema):
     OUTPUTS = tuple(OUTPUTS)
+    SPEC_RULES = (exactly_one(*KINDS), needs("ias", "calibration"), output_needs("ias", {"required": ["calibration"]}))
 
     ias = speed_field("ias", _ONE_OF + " Arrays allowed.")
     cas = speed_field("cas", _ONE_OF + " Arrays allowed.")

@@ -8,6 +8,9 @@ from copy import deepcopy
 import flask
 import flask_smorest
 import marshmallow as ma
+from apispec.ext.marshmallow import MarshmallowPlugin as _MarshmallowPlugin
+from apispec.ext.marshmallow.common import resolve_schema_instance
+from apispec.ext.marshmallow.openapi import OpenAPIConverter
 
 from service.api import fields, problems
 from service.api.inputs import BodyParser
@@ -71,6 +74,30 @@ class ProblemSchema(ma.Schema):
         "description": "For no-solution: the first (up to ten) indices of those points."})
 
 
+class Converter(OpenAPIConverter):
+    """apispec's schema converter, plus the rules that concern several fields of a schema.
+
+    Each field may publish rules through ``spec_rules(name)`` (one field excluding another, an
+    altitude's range that depends on altitude_kind, ...); a schema may add its own in
+    ``SPEC_RULES``. They become the schema's ``allOf``, so that schema-valid data is data the
+    endpoint accepts.
+    """
+
+    def schema2jsonschema(self, schema):
+        jsonschema = super().schema2jsonschema(schema)
+        instance = resolve_schema_instance(schema)
+        rules = [rule for name, field in instance.fields.items() if hasattr(field, "spec_rules")
+                 for rule in field.spec_rules(field.data_key or name)]
+        rules.extend(getattr(instance, "SPEC_RULES", ()))
+        if rules:
+            jsonschema["allOf"] = rules
+        return jsonschema
+
+
+class MarshmallowPlugin(_MarshmallowPlugin):
+    Converter = Converter
+
+
 class Api(flask_smorest.Api):
     """flask-smorest Api answering every error with a problem document, publishing the completed spec."""
 
@@ -102,6 +129,7 @@ class Api(flask_smorest.Api):
         problems.register(self._app)
 
     def _init_spec(self, *args, **kwargs):
+        kwargs.setdefault("marshmallow_plugin", MarshmallowPlugin())
         super()._init_spec(*args, **kwargs)
         self.ma_plugin.converter.add_attribute_function(fields.field_to_properties)
 

@@ -13,6 +13,8 @@ float range (1e400) are refused the same way.
 
 from __future__ import annotations
 
+import math
+from decimal import ROUND_CEILING, ROUND_FLOOR, Decimal
 from typing import NamedTuple
 
 import marshmallow as ma
@@ -112,63 +114,120 @@ class Number(ma.fields.Field):
     """
 
     def __init__(self, *, minimum=None, maximum=None, exclusive_minimum=False,
-                 exclusive_maximum=False, allow_array=True, **kwargs):
+                 exclusive_maximum=False, allow_array=True, excludes: tuple[str, ...] = (), **kwargs):
         super().__init__(**kwargs)
         self.minimum = minimum
         self.maximum = maximum
         self.exclusive_minimum = exclusive_minimum
         self.exclusive_maximum = exclusive_maximum
         self.allow_array = allow_array
+        self.excludes = excludes
+
+    def spec_rules(self, name: str) -> list[dict]:
+        """JSON Schema rules for the request schema that holds this field (see api.base.Converter).
+
+        ``excludes``: fields of that schema that may not be given together with this one (the
+        endpoint refuses them; this publishes it).
+        """
+        present = getattr(self.parent, "fields", {})
+        return [{"not": {"required": [name, other]}} for other in self.excludes if other in present]
 
     dimension: str | None = None
 
-    def _check_range(self, array, si_min, si_max, unit_text=""):
-        """Refuse values outside [si_min, si_max]; messages name the bound in the given unit."""
+    def _check_range(self, array, lo, hi, message_for):
+        """Refuse values outside [lo, hi] (bounds as published); ``message_for()`` says why."""
         bad = None
-        if si_min is not None:
-            bad = array <= si_min if self.exclusive_minimum else array < si_min
-        if si_max is not None:
-            over = array >= si_max if self.exclusive_maximum else array > si_max
+        if lo is not None:
+            bad = array <= lo if self.exclusive_minimum else array < lo
+        if hi is not None:
+            over = array >= hi if self.exclusive_maximum else array > hi
             bad = over if bad is None else bad | over
         if bad is None or not bad.any():
             return
-        message = self.range_message(unit_text)
+        message = message_for()
         if array.ndim == 0:
             raise ma.ValidationError(message)
         indices = np.flatnonzero(bad)[:_MAX_REPORTED]
         raise ma.ValidationError({int(i): [message] for i in indices})
 
     def range_message(self, unit_text="") -> str:
-        lo = hi = None
-        if self.minimum is not None:
-            lo = f"{'above' if self.exclusive_minimum else 'at least'} {self._show(self.minimum, unit_text)}"
-        if self.maximum is not None:
-            hi = f"{'below' if self.exclusive_maximum else 'at most'} {self._show(self.maximum, unit_text)}"
-        return "Must be " + " and ".join(x for x in (lo, hi) if x) + "."
+        return self.describe_range(self.minimum, self.maximum, unit_text)
+
+    def describe_range(self, lo, hi, unit_text="") -> str:
+        """"Must be at least lo unit and below hi unit." for the bounds as published."""
+        parts = []
+        if lo is not None:
+            parts.append(f"{'above' if self.exclusive_minimum else 'at least'} {self._show(lo, unit_text)}")
+        if hi is not None:
+            parts.append(f"{'below' if self.exclusive_maximum else 'at most'} {self._show(hi, unit_text)}")
+        return "Must be " + " and ".join(parts) + "."
 
     @staticmethod
     def _show(bound, unit_text):
-        text = f"{bound:g}"
+        text = f"{bound:.12g}"
         return f"{text} {unit_text}".strip()
+
+    @property
+    def bounded(self) -> bool:
+        return self.minimum is not None or self.maximum is not None
 
     def _deserialize(self, value, attr, data, **kwargs):
         array, is_array = parse_numbers(value, allow_array=self.allow_array)
-        if self.minimum is not None or self.maximum is not None:
-            self._check_range(array, self.minimum, self.maximum)
+        if self.bounded:
+            self._check_range(array, self.minimum, self.maximum, self.range_message)
         return Value(array, None, None, is_array)
+
+
+def inward(value: float | None, *, up: bool) -> float | None:
+    """A bound converted to another unit, as published and checked: 12 significant digits.
+
+    A conversion that is exact but for floating-point noise (100 degC = 212 degF) gives the
+    exact number; any other is rounded toward the inside of the range (``up`` for a lower
+    bound), so that a value which passes it lies inside the range in every unit.
+    """
+    if value is None or value == 0.0:
+        return value
+    nearest = float(f"{value:.12g}")
+    if abs(nearest - value) <= 1e-12 * abs(value):
+        return nearest
+    exponent = math.floor(math.log10(abs(value))) - 11
+    rounded = Decimal(value).quantize(Decimal(1).scaleb(exponent), rounding=ROUND_CEILING if up else ROUND_FLOOR)
+    return float(rounded)
 
 
 class Quantity(Number):
     """A physical input of one dimension (see service.units), loaded to SI.
 
-    ``minimum``/``maximum`` are given in the field's default unit and checked in SI.
+    ``minimum``/``maximum`` are given in ``bounds_unit`` (default: the field's default unit).
+    Each unit has its own bounds (:meth:`bounds_in`), published in the spec and checked in the
+    unit the request gives, so that what the spec calls valid is exactly what is accepted.
     """
 
-    def __init__(self, dimension: str, **kwargs):
+    def __init__(self, dimension: str, *, bounds_unit: str | None = None, **kwargs):
         super().__init__(**kwargs)
         self.dimension = dimension
         self.dim = units.DIMENSIONS[dimension]
         self.default_unit = self.dim.default
+        self.bounds = self.unit_bounds(self.minimum, self.maximum, bounds_unit or self.default_unit)
+        # the bare-number form is in the default unit: publish its bounds there
+        self.minimum, self.maximum = self.bounds[self.default_unit]
+
+    def unit_bounds(self, lo, hi, given_in: str) -> dict[str, tuple[float | None, float | None]]:
+        """{unit: (lo, hi)}: the bounds ``lo``/``hi`` (in unit ``given_in``) in every unit of the field."""
+        out = {}
+        source = self.dim.units[given_in]
+        for name, unit in self.dim.units.items():
+            if (unit.factor, unit.offset) == (source.factor, source.offset):
+                out[name] = (inward(lo, up=True), inward(hi, up=False))
+                continue
+            converted = [None if b is None else float(units.from_si(units.to_si(b, self.dimension, given_in),
+                                                                    self.dimension, name)) for b in (lo, hi)]
+            out[name] = (inward(converted[0], up=True), inward(converted[1], up=False))
+        return out
+
+    def bounds_in(self, unit: str, data) -> tuple[float | None, float | None]:
+        """The bounds of a value given in ``unit`` (``data``: the raw request, for subclasses)."""
+        return self.bounds[unit]
 
     def _deserialize(self, value, attr, data, **kwargs):
         unit = self.default_unit
@@ -180,7 +239,7 @@ class Quantity(Number):
             if errors:
                 raise ma.ValidationError(errors)
             unit = value["unit"]
-            if unit not in self.dim.units:
+            if type(unit) is not str or unit not in self.dim.units:  # {} or [] would not even hash
                 raise ma.ValidationError({"unit": [str(units.UnitError(self.dimension, unit))]})
             try:
                 array, is_array = parse_numbers(value["value"], allow_array=self.allow_array)
@@ -188,17 +247,15 @@ class Quantity(Number):
                 raise ma.ValidationError({"value": err.messages}) from None
         else:
             array, is_array = parse_numbers(value, allow_array=self.allow_array)
-        si = units.to_si(array, self.dimension, unit)
-        if self.minimum is not None or self.maximum is not None:
-            to_si = units.to_si
-            lo = None if self.minimum is None else to_si(self.minimum, self.dimension, self.default_unit)
-            hi = None if self.maximum is None else to_si(self.maximum, self.dimension, self.default_unit)
+        if self.bounded:
+            lo, hi = self.bounds_in(unit, data)
             try:
-                self._check_range(si, lo, hi, self.default_unit)
+                self._check_range(array, lo, hi, lambda: self.describe_range(lo, hi, unit))
             except ma.ValidationError as err:
                 if type(value) is dict:
                     raise ma.ValidationError({"value": err.messages}) from None
                 raise
+        si = units.to_si(array, self.dimension, unit)
         return Value(np.asarray(si, dtype=np.float64) if is_array else np.float64(si), unit, self.dimension, is_array)
 
 
@@ -224,36 +281,54 @@ class OutputUnits(ma.fields.Field):
 
 # --- OpenAPI descriptions of the fields (registered with the apispec marshmallow plugin) ---
 
-def _bounded(schema: dict, field: Number) -> dict:
-    if field.minimum is not None:
-        schema["exclusiveMinimum" if field.exclusive_minimum else "minimum"] = field.minimum
-    if field.maximum is not None:
-        schema["exclusiveMaximum" if field.exclusive_maximum else "maximum"] = field.maximum
+def _bounded_number(lo, hi, field: Number) -> dict:
+    schema = {"type": "number"}
+    if lo is not None:
+        schema["exclusiveMinimum" if field.exclusive_minimum else "minimum"] = lo
+    if hi is not None:
+        schema["exclusiveMaximum" if field.exclusive_maximum else "maximum"] = hi
     return schema
 
 
-def number_schema(field: Number) -> dict:
-    """OpenAPI 3.1 schema of a bare number or flat array of numbers, with bounds if any."""
-    number = _bounded({"type": "number"}, field)
+def number_schema(field: Number, lo=None, hi=None, *, bounded: bool = True) -> dict:
+    """OpenAPI 3.1 schema of a bare number or flat array of numbers, within the field's bounds
+    (or ``lo``/``hi``; none with ``bounded=False``)."""
+    if bounded and lo is None and hi is None:
+        lo, hi = field.minimum, field.maximum
+    number = _bounded_number(lo, hi, field) if bounded else {"type": "number"}
     if not field.allow_array:
         return number
     return {"oneOf": [number, {"type": "array", "items": number, "minItems": 1}]}
 
 
-def quantity_schema(field: Quantity) -> dict:
-    """OpenAPI schema of a Quantity: number, array, or {value, unit}."""
-    plain = number_schema(field)
-    free = Number(allow_array=field.allow_array)
-    obj = {
-        "type": "object",
-        "properties": {
-            "value": number_schema(free) | {"description": "The number or numbers, in `unit`."},
-            "unit": {"type": "string", "enum": list(field.dim.units), "description": "The unit of `value`."},
-        },
-        "required": ["value", "unit"],
-        "additionalProperties": False,
-    }
-    return {"oneOf": [*plain.get("oneOf", [plain]), obj]}
+def quantity_schema(field: Quantity, bounds: dict | None = None) -> dict:
+    """OpenAPI schema of a Quantity: number or array in the default unit, or {value, unit}.
+
+    With bounds (``field.bounds`` unless given: {unit: (lo, hi)}), the object form is one
+    branch per unit, each with the bounds in that unit.
+    """
+    bounds = field.bounds if bounds is None else bounds
+    lo, hi = bounds[field.default_unit]
+    plain = number_schema(field, lo, hi)
+    if not field.bounded:
+        objects = [{
+            "type": "object",
+            "properties": {
+                "value": number_schema(field, bounded=False) | {"description": "The number or numbers, in `unit`."},
+                "unit": {"type": "string", "enum": list(field.dim.units), "description": "The unit of `value`."},
+            },
+            "required": ["value", "unit"],
+            "additionalProperties": False,
+        }]
+    else:
+        objects = [{
+            "type": "object",
+            "properties": {"value": number_schema(field, *bounds[unit]) | {"description": f"The number(s) in {unit}."},
+                           "unit": {"const": unit, "description": "The unit of `value`."}},
+            "required": ["value", "unit"],
+            "additionalProperties": False,
+        } for unit in field.dim.units]
+    return {"oneOf": [*plain.get("oneOf", [plain]), *objects]}
 
 
 def field_to_properties(self, field, ret):

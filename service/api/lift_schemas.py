@@ -13,7 +13,7 @@ import marshmallow as ma
 from service.api import air
 from service.api.examples import NR200_WING
 from service.api.fields import Number, Quantity, parse_numbers
-from service.api.inputs import ComputeSchema, outputs_field
+from service.api.inputs import ComputeSchema, exactly_one, needs, none_of, not_together, output_needs, outputs_field
 from service.api.schemas import FlagOut, LabelOut, quantity_out, ratio_out, response_schema
 from service.api.speeds import KINDS, SPEED_MAX_KT, calibration_field, mach_field, speed_field
 
@@ -133,6 +133,8 @@ def _selected_needs(data: dict, needs: dict[str, tuple[bool, str]]) -> None:
 class _WingInputs(ma.Schema):
     """Shared check of the lift-curve inputs: one of airfoil_efficiency and airfoil_lift_slope."""
 
+    SPEC_RULES = (not_together("airfoil_efficiency", "airfoil_lift_slope"),)
+
     @ma.validates_schema
     def _one_airfoil_input(self, data, **kwargs):
         _not_both(data, "airfoil_efficiency", "airfoil_lift_slope", "kappa = airfoil_lift_slope / 2 pi.")
@@ -195,8 +197,30 @@ SOLVE_OUTPUTS = {
 _SPEED_NOTE = "One speed of ias, cas, eas, tas, mach (none when solving for speed)."
 
 
+def _solve_rules() -> tuple[dict, ...]:
+    """The checks of LiftSolveRequest._check_solve (and of the speed given), as JSON Schema for the spec."""
+    unknown_inputs = {"cl": ("cl",), "weight": ("weight",), "wing_area": ("wing_area",),
+                      "load_factor": ("load_factor", "bank_angle"), "speed": KINDS, "altitude": ("altitude",)}
+    branches = []
+    for unknown in UNKNOWNS:  # one branch per unknown: what it needs, what it leaves out
+        branch = {"properties": {"solve_for": {"const": unknown}},
+                  "required": ["solve_for", *(n for n in ("weight", "wing_area", "cl", "altitude") if n != unknown)],
+                  "allOf": [none_of(*unknown_inputs[unknown])]}
+        if unknown != "speed":
+            branch["allOf"].append(exactly_one(*KINDS))
+        if unknown == "altitude":  # a pressure altitude from a speed that fixes it
+            branch["allOf"] += [none_of("qnh", "eas"), {"not": {"required": ["altitude_kind"], "properties": {
+                "altitude_kind": {"const": "geometric"}}}}]
+        branches.append(branch)
+    return (not_together("load_factor", "bank_angle"), needs("calibration", "ias"), needs("ias", "calibration"),
+            output_needs("angle_of_attack", {"required": ["wing"]}),
+            output_needs("beyond_stall", {"required": ["wing"], "properties": {"wing": {"required": ["cl_max"]}}}),
+            {"oneOf": branches})
+
+
 class LiftSolveRequest(ComputeSchema):
     OUTPUTS = tuple(SOLVE_OUTPUTS)
+    SPEC_RULES = _solve_rules()
 
     solve_for = ma.fields.String(required=True, validate=ma.validate.OneOf(UNKNOWNS), error_messages={
         "required": "Missing: name the unknown, one of " + ", ".join(UNKNOWNS) + "."}, metadata={
@@ -279,6 +303,14 @@ STALL_OUTPUTS = ("stall", "multiples", "margin")
 
 class LiftStallRequest(ComputeSchema):
     OUTPUTS = STALL_OUTPUTS
+    SPEC_RULES = (  # _check_stall and the speed for the margin, for the spec
+        not_together("load_factor", "bank_angle"),
+        {"oneOf": [{"required": ["wing_area", "cl_max"], "not": {"required": ["reference"]}},
+                   {"required": ["reference"], **none_of("wing_area", "cl_max")}]},
+        not_together(*KINDS), needs("calibration", "ias"), needs("ias", "calibration"),
+        output_needs("multiples", {"required": ["speed_factors"]}),
+        output_needs("margin", {"anyOf": [{"required": [kind]} for kind in KINDS]}),
+    )
 
     weight = weight_field("Weight", required=True)
     wing_area = wing_area_field("Wing reference area [m2]. With `cl_max`; not with `reference`.")
@@ -369,8 +401,15 @@ CURVE_OUTPUTS = {
 }
 
 
+_POINT = {"anyOf": [{"required": ["angle_of_attack"]}, {"required": ["cl"]}]}
+
+
 class LiftCurveRequest(_WingInputs, ComputeSchema):
     OUTPUTS = tuple(CURVE_OUTPUTS)
+    SPEC_RULES = _WingInputs.SPEC_RULES + (  # _check_curve, for the spec
+        not_together("angle_of_attack", "cl"), output_needs("cl", _POINT), output_needs("angle_of_attack", _POINT),
+        output_needs("beyond_stall", {"required": ["cl_max"], **_POINT}),
+    )
 
     aspect_ratio = aspect_ratio_field()
     sweep_half_chord = sweep_field()

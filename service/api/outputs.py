@@ -16,7 +16,7 @@ import orjson
 from flask import Response, g, request
 
 from service import units
-from service.api.inputs import Inputs, first_indices
+from service.api.inputs import Inputs, first_indices, no_solution
 from service.api.problems import Problem
 
 _JSON_OPTIONS = orjson.OPT_SERIALIZE_NUMPY
@@ -66,6 +66,7 @@ class Result:
         g.points = math.prod(self.shape)  # for the access log and the points-computed metric
         self.tree: dict = {}
         self.warnings: list[dict] = []
+        self._null_masks: dict[str, object] = {}  # output -> where null_where made it null
 
     def wants(self, name: str) -> bool:
         return self.inputs.wants(name)
@@ -91,6 +92,8 @@ class Result:
                 values = values.copy()
             values[mask] = np.nan
             self.warn(field, message, mask)
+            previous = self._null_masks.get(field)
+            self._null_masks[field] = mask if previous is None else previous | mask
         return values
 
     def warn(self, field: str, message: str, mask=None):
@@ -106,20 +109,55 @@ class Result:
 
     # --- rendering ---------------------------------------------------------------------------
 
-    def _render(self, node):
+    def _render(self, node, path: str = "", check: bool = True):
         if isinstance(node, Leaf):
             if self.shape == ():
-                return self._render_scalar(node)
+                rendered = self._render_scalar(node)
+                if check:
+                    self._check_finite(path, rendered["value"] if type(rendered) is dict else rendered)
+                return rendered
             if node.dimension is None:
-                return _plain(node.si, self.shape)
+                rendered = _plain(node.si, self.shape)
+                if check:
+                    self._check_finite(path, rendered)
+                return rendered
             unit = unit_for(node.dimension, self.inputs.output_units)
-            value = units.from_si(node.si, _output_dimension(node.dimension), unit)
-            return {"value": _plain(value, self.shape), "unit": unit}
+            value = _plain(units.from_si(node.si, _output_dimension(node.dimension), unit), self.shape)
+            if check:
+                self._check_finite(path, value)
+            return {"value": value, "unit": unit}
         if isinstance(node, dict):
-            return {key: self._render(value) for key, value in node.items()}
+            return {key: self._render(value, f"{path}.{key}" if path else key, check) for key, value in node.items()}
         if isinstance(node, (list, tuple)):
-            return [self._render(value) for value in node]
+            return [self._render(value, f"{path}.{index}", check) for index, value in enumerate(node)]
         return node
+
+    def _check_finite(self, path: str, value):
+        """A 422 (no solution) where an output is not a finite number and no null_where made it null.
+
+        The physics gives NaN where a relation has no solution and infinity where a result
+        overflows; an endpoint turns each into a 422 or a null with a warning. This catches what
+        it did not foresee, so that no null ever appears without a warning (orjson writes NaN and
+        infinity as null).
+        """
+        kind = type(value)
+        if kind is float:
+            if value - value == 0.0:
+                return
+            bad = np.True_
+        elif kind is np.ndarray and value.dtype.kind == "f":
+            bad = ~np.isfinite(value)
+            if not bad.any():
+                return
+        else:
+            return
+        for field, mask in self._null_masks.items():
+            if path == field or path.startswith(field + "."):
+                bad = bad & ~np.broadcast_to(mask, np.shape(bad))
+        if np.any(bad):
+            top = path.split(".", 1)[0]
+            raise no_solution(top, bad, f"{path} is not a finite number here (beyond the floating-point range, "
+                                        "or outside the domain of the relations).")
 
     def _render_scalar(self, node: Leaf):
         """One point: plain Python arithmetic, no NumPy call per output."""
@@ -147,7 +185,7 @@ class Result:
         doc = self._render(self.tree)
         doc["warnings"] = self.warnings
         if self.inputs.grid:
-            doc["inputs"] = self._render(self.input_leaves())
+            doc["inputs"] = self._render(self.input_leaves(), check=False)
         return doc
 
     def json_response(self) -> Response:
@@ -158,14 +196,18 @@ class Result:
         """(header, values) for every leaf: inputs first, then outputs, dotted names."""
         columns = []
 
-        def walk(prefix, node):
+        def walk(prefix, node, check=True):
             if isinstance(node, Leaf):
                 if node.dimension is None:
-                    columns.append((prefix, _plain(node.si, self.shape or (1,))))
+                    value = _plain(node.si, self.shape or (1,))
+                    header = prefix
                 else:
                     unit = unit_for(node.dimension, self.inputs.output_units)
-                    value = units.from_si(node.si, _output_dimension(node.dimension), unit)
-                    columns.append((f"{prefix} [{unit}]", _plain(value, self.shape or (1,))))
+                    value = _plain(units.from_si(node.si, _output_dimension(node.dimension), unit), self.shape or (1,))
+                    header = f"{prefix} [{unit}]"
+                if check:
+                    self._check_finite(prefix, value)
+                columns.append((header, value))
             elif isinstance(node, dict):
                 for key, value in node.items():
                     walk(f"{prefix}.{key}" if prefix else key, value)
@@ -174,7 +216,7 @@ class Result:
                     walk(f"{prefix}.{index}", value)
 
         for name, leaf in self.input_leaves().items():
-            walk(f"input.{name}", leaf)
+            walk(f"input.{name}", leaf, check=False)
         walk("", self.tree)
         return columns
 
