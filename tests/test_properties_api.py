@@ -1,0 +1,327 @@
+"""Property tests (hypothesis) of the input fields and of the API as a whole.
+
+- The Quantity field: a value within the bounds it publishes for a unit, in that unit, loads to a
+  finite SI value inside the range; the next float beyond a bound is refused with a pointer; any
+  JSON value at all either loads or is refused with a ValidationError, never another exception.
+- Through the API, at every compute endpoint: any valid request gives 200 with finite numbers
+  (a null only where a warning names the output) or, where the primary result does not exist for
+  those values, a 422 no-solution problem; any request with one input replaced by an arbitrary
+  JSON value gives 200 or a 4xx problem document, never a 5xx, never NaN or Infinity in a body.
+
+Bounded: max_examples per property (EXAMPLES), derandomized, no deadline.
+"""
+
+from __future__ import annotations
+
+import json
+import math
+
+import marshmallow as ma
+import numpy as np
+import pytest
+from hypothesis import HealthCheck, given, settings
+from hypothesis import strategies as st
+
+from service import create_app
+from service import units as unit_table
+from service.api import air
+from service.api.fields import Quantity
+from service.api.problems import flatten_messages
+from tests.test_bad_inputs import ENDPOINTS
+
+EXAMPLES = 60
+SETTINGS = settings(max_examples=EXAMPLES, deadline=None, derandomize=True,
+                    suppress_health_check=[HealthCheck.function_scoped_fixture, HealthCheck.too_slow])
+PROBLEM = "application/problem+json"
+
+
+@pytest.fixture(scope="module")
+def client():
+    """One application for the module (it keeps no state between requests)."""
+    return create_app({"TESTING": True}).test_client()
+
+
+def _refuse(name):
+    raise AssertionError(f"{name} in a JSON body")
+
+
+def strict(response) -> dict:
+    return json.loads(response.get_data(as_text=True), parse_constant=_refuse)
+
+
+# --- The Quantity field -----------------------------------------------------------------------------
+
+FIELDS = {
+    "altitude": air.altitude_field("Altitude", required=False),
+    "isa_deviation": air.isa_deviation_field(),
+    "temperature": air.temperature_field(),
+    "qnh": air.qnh_field(),
+    "speed": Quantity("speed", minimum=0.0, exclusive_minimum=True, maximum=3000.0),
+    "bank": Quantity("angle", minimum=0.0, maximum=90.0, exclusive_maximum=True),
+}
+
+
+class FieldSchema(ma.Schema):
+    locals().update(FIELDS)
+
+
+SCHEMA = FieldSchema()
+
+
+def _inside(field, lo, hi):
+    low = math.nextafter(lo, math.inf) if field.exclusive_minimum else lo
+    high = math.nextafter(hi, -math.inf) if field.exclusive_maximum else hi
+    return st.floats(low, high, allow_nan=False)
+
+
+@st.composite
+def field_value(draw):
+    """(field name, unit, value inside the bounds published for that unit)."""
+    name = draw(st.sampled_from(sorted(FIELDS)))
+    field = SCHEMA.fields[name]
+    unit = draw(st.sampled_from(sorted(field.bounds)))
+    lo, hi = field.bounds[unit]
+    return name, unit, draw(_inside(field, lo, hi))
+
+
+@SETTINGS
+@given(field_value())
+def test_quantity_within_published_bounds_loads_inside_the_range(case):
+    name, unit, value = case
+    field = SCHEMA.fields[name]
+    loaded = SCHEMA.load({name: {"value": value, "unit": unit}})[name]
+    si = float(loaded.si)
+    assert math.isfinite(si)
+    lo_si, hi_si = (float(unit_table.to_si(b, field.dimension, field.default_unit)) for b in field.bounds[
+        field.default_unit])
+    span = hi_si - lo_si
+    assert lo_si - 1e-9 * span <= si <= hi_si + 1e-9 * span  # inside, up to the conversion's rounding
+    as_array = SCHEMA.load({name: {"value": [value, value], "unit": unit}})[name]
+    assert as_array.si.shape == (2,) and np.all(as_array.si == loaded.si)
+
+
+@SETTINGS
+@given(st.sampled_from(sorted(FIELDS)), st.data())
+def test_the_next_float_beyond_a_published_bound_is_refused(name, data):
+    field = SCHEMA.fields[name]
+    unit = data.draw(st.sampled_from(sorted(field.bounds)))
+    lo, hi = field.bounds[unit]
+    beyond = data.draw(st.sampled_from([
+        lo if field.exclusive_minimum else math.nextafter(lo, -math.inf),
+        hi if field.exclusive_maximum else math.nextafter(hi, math.inf),
+    ]))
+    with pytest.raises(ma.ValidationError) as err:
+        SCHEMA.load({name: {"value": [beyond], "unit": unit}})
+    assert [e["pointer"] for e in flatten_messages(err.value.messages)] == [f"/{name}/value/0"]
+
+
+JSON = st.recursive(
+    st.none() | st.booleans() | st.integers(-(10**400), 10**400) | st.floats(allow_nan=False, allow_infinity=False)
+    | st.text(max_size=8),
+    lambda children: st.lists(children, max_size=4) | st.dictionaries(st.text(max_size=6), children, max_size=4),
+    max_leaves=12,
+)
+
+
+UNIT_NAMES = sorted({unit for dim in unit_table.DIMENSIONS.values() for unit in dim.units})
+#: Anything, and anything shaped like the object form (so that its members get arbitrary values too).
+ANY_INPUT = JSON | st.fixed_dictionaries({"value": JSON, "unit": JSON | st.sampled_from(UNIT_NAMES)},
+                                         optional={"extra": JSON})
+
+
+@SETTINGS
+@given(st.sampled_from(sorted(FIELDS)), ANY_INPUT)
+def test_quantity_loads_or_refuses_any_json_value(name, value):
+    try:
+        loaded = SCHEMA.load({name: value})[name]
+    except ma.ValidationError as err:
+        for error in flatten_messages(err.value.messages if hasattr(err, "value") else err.messages):
+            assert error["pointer"].startswith(f"/{name}") and error["message"]
+        return
+    assert np.all(np.isfinite(loaded.si))
+
+
+# --- Through the API: valid requests ------------------------------------------------------------------
+
+def _unit_value(field, unit, min_size=0, max_size=0):
+    """A value of ``field`` inside its bounds for ``unit``: a number, or an array of max_size."""
+    lo, hi = field.bounds[unit]
+    inside = _inside(field, lo, hi)
+    values = st.lists(inside, min_size=min_size, max_size=max_size) if max_size else inside
+    return values.map(lambda v: {"value": v, "unit": unit})
+
+
+@st.composite
+def quantity(draw, field, size):
+    unit = draw(st.sampled_from(sorted(field.bounds)))
+    return draw(_unit_value(field, unit, size, size) if size else _unit_value(field, unit))
+
+
+@st.composite
+def day(draw, size):
+    """A standard day, an ISA deviation or an outside air temperature."""
+    kind = draw(st.sampled_from(["standard", "isa_deviation", "temperature"]))
+    if kind == "standard":
+        return {}
+    return {kind: draw(quantity(SCHEMA.fields[kind], size))}
+
+
+ALTITUDE = SCHEMA.fields["altitude"]
+SPEED = SCHEMA.fields["speed"]
+BANK = SCHEMA.fields["bank"]
+SIZES = st.sampled_from([0, 0, 1, 3])  # 0: scalars
+
+
+@st.composite
+def atmosphere_request(draw):
+    size = draw(SIZES)
+    return {"altitude": draw(quantity(ALTITUDE, size)), **draw(day(size))}
+
+
+@st.composite
+def airspeed_request(draw):
+    size = draw(SIZES)
+    kind = draw(st.sampled_from(["cas", "eas", "tas", "mach"]))
+    speed = (draw(st.floats(1e-6, 5.0)) if kind == "mach" else draw(quantity(SPEED, size)))
+    return {kind: speed, "altitude": draw(quantity(ALTITUDE, size)), **draw(day(size))}
+
+
+@st.composite
+def schedule_request(draw):
+    size = draw(SIZES)
+    return {"cas": draw(st.floats(50, 500)), "mach": draw(st.floats(0.2, 2.0)),
+            "altitude": draw(quantity(ALTITUDE, size)), **draw(day(size))}
+
+
+@st.composite
+def crossover_request(draw):
+    return {"cas": draw(st.floats(1e-3, 3000)), "mach": draw(st.floats(1e-3, 5.0))}
+
+
+@st.composite
+def solve_request(draw):
+    unknown = draw(st.sampled_from(["cl", "speed", "weight", "wing_area", "load_factor", "altitude"]))
+    known = {"cl": draw(st.floats(0.01, 3.0)), "weight": draw(st.floats(100, 600_000)),
+             "wing_area": draw(st.floats(5, 900)), "altitude": draw(quantity(ALTITUDE, 0)),
+             "mach": draw(st.floats(0.05, 3.0)), **draw(day(0))}
+    if draw(st.booleans()):
+        known["bank_angle"] = draw(quantity(BANK, 0))
+    if unknown in ("speed", "altitude"):
+        known.pop("mach" if unknown == "speed" else "altitude")
+        if unknown == "altitude":
+            known.pop("isa_deviation", None)
+    elif unknown == "load_factor":
+        known.pop("bank_angle", None)
+    if unknown not in ("speed", "load_factor", "altitude"):
+        known.pop(unknown)
+    return {"solve_for": unknown, **known}
+
+
+@st.composite
+def stall_request(draw):
+    size = draw(SIZES)
+    body = {"weight": draw(st.floats(100, 600_000)), "wing_area": draw(st.floats(5, 900)),
+            "cl_max": draw(st.floats(0.3, 4.0)), "altitude": draw(quantity(ALTITUDE, size)), **draw(day(size)),
+            "speed_factors": draw(st.lists(st.floats(0.5, 3.0), min_size=1, max_size=4))}
+    if draw(st.booleans()):
+        body["bank_angle"] = draw(quantity(BANK, size))
+    if draw(st.booleans()):
+        body["cas"] = draw(st.floats(1, 3000))
+    return body
+
+
+@st.composite
+def curve_request(draw):
+    body = {"aspect_ratio": draw(st.floats(0.1, 40)), "sweep_half_chord": draw(st.floats(-80, 80)),
+            "mach": draw(st.floats(0, 0.99)), "cl_max": draw(st.floats(0.5, 3))}
+    body |= ({"cl": draw(st.floats(-2, 2))} if draw(st.booleans()) else {"angle_of_attack": draw(st.floats(-20, 20))})
+    return body
+
+
+VALID = {
+    "/v1/atmosphere": atmosphere_request(), "/v1/airspeed": airspeed_request(),
+    "/v1/airspeed/crossover": crossover_request(), "/v1/airspeed/schedule": schedule_request(),
+    "/v1/lift/solve": solve_request(), "/v1/lift/stall": stall_request(), "/v1/lift/curve": curve_request(),
+}
+
+
+def _numbers(doc, prefix=""):
+    if isinstance(doc, dict):
+        for key, value in doc.items():
+            if prefix == "" and key in ("warnings", "inputs"):
+                continue
+            yield from _numbers(value, f"{prefix}.{key}" if prefix else key)
+    elif isinstance(doc, list):
+        for value in doc:
+            yield from _numbers(value, prefix)
+    elif doc is None or (isinstance(doc, float | int) and not isinstance(doc, bool)):
+        yield prefix.removesuffix(".value"), doc
+
+
+def assert_answer(response):
+    """200 with finite numbers (nulls only where warned), or a 422 no-solution problem."""
+    doc = strict(response)
+    if response.status_code == 422 and doc.get("type") == "/problems/no-solution":
+        assert response.mimetype == PROBLEM and doc["field"] and doc["count"] >= 1
+        return
+    assert response.status_code == 200, doc
+    warned = {w["field"] for w in doc["warnings"]}
+    for path, value in _numbers(doc):
+        if value is None:
+            assert any(path == f or path.startswith(f + ".") for f in warned), (path, doc["warnings"])
+
+
+def test_every_compute_endpoint_has_a_valid_request_strategy():
+    assert set(VALID) == set(ENDPOINTS)
+
+
+@pytest.mark.parametrize("path", sorted(VALID))
+def test_valid_requests_give_finite_answers(client, path):
+    @SETTINGS
+    @given(VALID[path])
+    def check(body):
+        assert_answer(client.post(path, data=json.dumps(body, allow_nan=False), content_type="application/json"))
+
+    check()
+
+
+# --- Through the API: invalid requests ----------------------------------------------------------------
+
+FIELD_NAMES = st.sampled_from(["altitude", "isa_deviation", "temperature", "qnh", "altitude_kind", "cas", "mach",
+                               "tas", "eas", "ias", "weight", "wing_area", "cl", "cl_max", "bank_angle",
+                               "load_factor", "calibration", "reference", "wing", "speed_factors", "solve_for",
+                               "aspect_ratio", "sweep_half_chord", "angle_of_attack", "outputs", "output_units",
+                               "grid", "unknown_field"])
+
+
+@pytest.mark.parametrize("path", sorted(ENDPOINTS))
+def test_any_json_at_any_input_gives_200_or_a_problem(client, path):
+    @SETTINGS
+    @given(FIELD_NAMES, ANY_INPUT)
+    def check(name, value):
+        body = dict(ENDPOINTS[path]["body"], **{name: value})
+        response = client.post(path, data=json.dumps(body), content_type="application/json")
+        assert response.status_code < 500, response.get_data(as_text=True)
+        doc = strict(response)
+        if response.status_code == 200:
+            assert_answer(response)
+        else:
+            assert response.mimetype == PROBLEM and 400 <= doc["status"] < 500 and doc["type"].startswith("/problems/")
+            for error in doc.get("errors", []):
+                assert error["pointer"] == "" or error["pointer"].startswith("/")
+
+    check()
+
+
+@pytest.mark.parametrize("path", sorted(ENDPOINTS))
+def test_any_bytes_give_a_problem_never_an_error(client, path):
+    @SETTINGS
+    @given(st.binary(max_size=64) | st.text(max_size=64).map(str.encode))
+    def check(body):
+        response = client.post(path, data=body, content_type="application/json")
+        assert response.status_code < 500
+        if response.status_code != 200:
+            assert response.mimetype == PROBLEM
+            strict(response)
+
+    check()
