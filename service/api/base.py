@@ -62,7 +62,7 @@ class ProblemSchema(ma.Schema):
     title = ma.fields.String(required=True, metadata={"description": "Short summary of the problem kind."})
     status = ma.fields.Integer(required=True, metadata={"description": "The HTTP status code."})
     detail = ma.fields.String(required=True, metadata={"description": "What went wrong with this request."})
-    instance = ma.fields.String(metadata={"description": "The request path, where given.",
+    instance = ma.fields.String(metadata={"description": "The path of the request that failed.",
                                           "example": "/v1/atmosphere"})
     errors = ma.fields.List(ma.fields.Nested(ErrorItemSchema), metadata={
         "description": "For invalid input: each offending value with a pointer into the request."})

@@ -13,7 +13,7 @@ from typing import NamedTuple
 
 import marshmallow as ma
 import orjson
-from flask import Flask, Response, g
+from flask import Flask, Response, g, has_request_context, request
 from werkzeug.exceptions import HTTPException
 
 PROBLEM_MEDIA_TYPE = "application/problem+json"
@@ -136,14 +136,15 @@ def invalid(errors: dict | list, detail: str | None = None, slug: str = "validat
             for key, msg in errors.items()
         ]
     if detail is None:
-        detail = "; ".join(f"{e['pointer'] or '(body)'}: {e['message']}" for e in errors[:5])
+        detail = "; ".join(f"{e['pointer'] or '(body)'}: {e['message'].rstrip('.')}" for e in errors[:5])
         if len(errors) > 5:
             detail += f"; and {len(errors) - 5} more"
+        detail += "."
     return Problem(slug, detail, errors=errors)
 
 
 def problem_response(problem: Problem) -> Response:
-    body = orjson.dumps(problem.body())
+    body = orjson.dumps(problem.body(request.path if has_request_context() else None))
     resp = Response(body, status=problem.status, mimetype=PROBLEM_MEDIA_TYPE)
     for key, value in problem.headers.items():
         resp.headers[key] = value
