@@ -10,7 +10,7 @@ from __future__ import annotations
 import marshmallow as ma
 import numpy as np
 
-from service.api.fields import Quantity, quantity_schema
+from service.api.fields import Quantity, any_true, quantity_schema
 from service.api.inputs import Inputs
 from service.api.lazy import lazy
 from service.api.problems import invalid
@@ -199,7 +199,7 @@ class Air:
 def check_altitude_range(H, field: str, what: str = "pressure altitude") -> None:
     """422 naming ``field`` where H is outside the model's range."""
     bad = (H < H_MIN) | (H > H_MAX)
-    if bad.any():
+    if any_true(bad):
         message = (f"The {what} must lie within the model's range, {_show_ft(H_MIN)} to {_show_ft(H_MAX)} "
                    "(geopotential).")
         raise invalid(_pointed(field, bad, message))

@@ -26,6 +26,11 @@ _NUMBER_TYPES = {int, float}
 _MAX_REPORTED = 10
 
 
+def any_true(mask) -> bool:
+    """``mask.any()``, without NumPy's Python-level reduction wrapper for a 0-d mask (one point)."""
+    return bool(mask.any()) if mask.ndim else bool(mask)
+
+
 class Value(NamedTuple):
     """A loaded numeric input: SI values (0-d or 1-D float64) and how it was given."""
 
@@ -142,7 +147,7 @@ class Number(ma.fields.Field):
         if hi is not None:
             over = array >= hi if self.exclusive_maximum else array > hi
             bad = over if bad is None else bad | over
-        if bad is None or not bad.any():
+        if bad is None or not any_true(bad):
             return
         message = message_for()
         if array.ndim == 0:

@@ -12,7 +12,7 @@ import marshmallow as ma
 
 from service.api import air
 from service.api.examples import NR200_WING
-from service.api.fields import Number, Quantity, parse_numbers
+from service.api.fields import Number, Quantity, any_true, parse_numbers
 from service.api.inputs import ComputeSchema, exactly_one, needs, none_of, not_together, output_needs, outputs_field
 from service.api.schemas import FlagOut, LabelOut, quantity_out, ratio_out, response_schema
 from service.api.speeds import KINDS, SPEED_MAX_KT, calibration_field, mach_field, speed_field
@@ -103,7 +103,7 @@ class SpeedFactors(ma.fields.Field):
         if factors.size > MAX_SPEED_FACTORS:
             raise ma.ValidationError(f"At most {MAX_SPEED_FACTORS} factors per request.")
         bad = factors <= 0.0
-        if bad.any():
+        if any_true(bad):
             raise ma.ValidationError({int(i): ["Must be above 0."] for i in bad.nonzero()[0][:10]})
         return factors
 

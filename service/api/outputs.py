@@ -16,6 +16,7 @@ import orjson
 from flask import Response, g, request
 
 from service import units
+from service.api.fields import any_true
 from service.api.inputs import Inputs, first_indices, no_solution
 from service.api.problems import Problem
 
@@ -85,7 +86,7 @@ class Result:
         if mask is None:
             mask = np.isnan(values)
         mask = np.asarray(mask)
-        if mask.any():
+        if any_true(mask):
             if mask.shape != values.shape:
                 values = np.array(np.broadcast_to(values, np.broadcast_shapes(values.shape, mask.shape)))
             else:

@@ -11,7 +11,7 @@ import numpy as np
 
 from service.api.air import Air
 from service.api.examples import NR200_CALIBRATION
-from service.api.fields import Number, Quantity, parse_numbers
+from service.api.fields import Number, Quantity, any_true, parse_numbers
 from service.api.inputs import Inputs, first_indices, no_solution
 from service.api.lazy import lazy
 from service.api.problems import invalid
@@ -187,7 +187,7 @@ class Speeds:
         """Output ``name``; a 422 when a primary speed does not exist at some point."""
         values = getattr(self, name)
         missing = np.isnan(values)
-        if missing.any():
+        if any_true(missing):
             raise no_solution(name, missing, f"the {self.kind} given has no {name} here "
                                              "(beyond the range of the airspeed relations).")
         return values

@@ -121,6 +121,30 @@ def _nan_where(mask, x):
     return np.where(mask, np.nan, x) if _any(mask) else x
 
 
+def _scalar(*xs) -> bool:
+    """True when every argument is one number (the single-point path: plain Python floats)."""
+    return all(type(x) is float or type(x) is np.float64 for x in xs)
+
+
+def _ratio_from_mach_one(M: float) -> float:
+    """:func:`_ratio_from_mach` for one float (the same two relations)."""
+    if not M >= 0.0:
+        return math.nan
+    M2 = M * M
+    if M > 1.0:
+        return _K * M2**_E / (_C * M2 - 1.0) ** (_E - 1.0) - 1.0
+    return math.expm1(_E * math.log1p(_HALF_GM1 * M2))
+
+
+def _mach_from_ratio_one(r: float) -> float:
+    """:func:`_mach_from_ratio` for one float (the same closed form and Newton iteration)."""
+    if not (r >= 0.0 and r < math.inf):
+        return math.nan
+    if r > _RATIO_SONIC:
+        return _newton_supersonic_one(r)
+    return math.sqrt(math.expm1(math.log1p(r) / _E) / _HALF_GM1)
+
+
 def _ratio_from_mach(M):
     """Impact pressure over static pressure, qc/p, for Mach M [-] (NaN for M < 0)."""
     M = np.asarray(M, dtype=float)
@@ -237,6 +261,8 @@ def impact_pressure_from_mach(mach, p):
     .. [1] NACA Report 1135, 1953.
     .. [2] ICAO Doc 7488/3, 1993.
     """
+    if _scalar(mach, p):
+        return np.float64(_ratio_from_mach_one(float(mach)) * float(p))
     return _out(_ratio_from_mach(mach) * np.asarray(p, dtype=float))
 
 
@@ -282,6 +308,8 @@ def mach_from_impact_pressure(qc, p):
     ----------
     .. [1] NACA Report 1135, 1953.
     """
+    if _scalar(qc, p):
+        return np.float64(_mach_from_ratio_one(float(qc) / float(p)) if p > 0.0 else math.nan)
     p = np.asarray(p, dtype=float)
     return _out(_mach_from_ratio(np.asarray(qc, dtype=float) / np.where(p > 0.0, p, np.nan)))
 
@@ -326,6 +354,8 @@ def impact_pressure_from_cas(cas):
     .. [1] NACA Report 1135, 1953.
     .. [2] ICAO Doc 7488/3, 1993.
     """
+    if _scalar(cas):
+        return np.float64(_ratio_from_mach_one(float(cas) / A0) * P0)
     return _out(_ratio_from_mach(np.asarray(cas, dtype=float) / A0) * P0)
 
 
@@ -364,6 +394,8 @@ def cas_from_impact_pressure(qc):
     .. [1] NACA Report 1135, 1953.
     .. [2] ICAO Doc 7488/3, 1993.
     """
+    if _scalar(qc):
+        return np.float64(A0 * _mach_from_ratio_one(float(qc) / P0))
     return _out(A0 * _mach_from_ratio(np.asarray(qc, dtype=float) / P0))
 
 
