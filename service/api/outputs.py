@@ -191,7 +191,7 @@ class Result:
 
     def json_response(self) -> Response:
         body = orjson.dumps(self.document(), option=_JSON_OPTIONS)
-        return Response(body, status=200, mimetype="application/json")
+        return Response(body, status=200, content_type="application/json")
 
     def _columns(self):
         """(header, values) for every leaf: inputs first, then outputs, dotted names."""
@@ -233,7 +233,7 @@ class Result:
             text = orjson.dumps(rows)
         body = text[2:-2].replace(b"],[", b"\r\n").replace(b"null", b"")
         body = header + b"\r\n" + body + b"\r\n"
-        response = Response(body, status=200, mimetype=CSV_MEDIA_TYPE)
+        response = Response(body, status=200, content_type="text/csv; charset=utf-8")
         if self.warnings:
             response.headers["X-Warnings"] = str(len(self.warnings))
         return response
@@ -249,8 +249,15 @@ def _csv_text(name: str) -> str:
     return f'"{name}"' if ("," in name or '"' in name) else name
 
 
+#: Accept headers that mean JSON, answered without parsing (curl, browsers' fetch, most clients).
+_JSON_ACCEPTS = frozenset({"", "*/*", "application/json", "application/json, */*", "application/problem+json"})
+
+
 def wants_csv() -> bool:
     """True when the client's Accept header prefers text/csv over JSON; 406 if it accepts neither."""
+    header = request.environ.get("HTTP_ACCEPT")
+    if header is None or header in _JSON_ACCEPTS:  # the common cases, without parsing the header
+        return False
     accept = request.accept_mimetypes
     if not accept:
         return False
