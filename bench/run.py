@@ -26,6 +26,7 @@ import re
 import shutil
 import signal
 import socket
+import statistics
 import subprocess
 import sys
 import tempfile
@@ -156,18 +157,22 @@ def _wrk(port: int, path: str, body: str, seconds: int) -> float:
 
 
 def bench_single_point(quick: bool) -> dict:
+    """Both servers up at once (idle between runs), measured in alternation; medians of the rounds."""
     if shutil.which("wrk") is None:
         raise RuntimeError("wrk is not installed (apt-get install wrk)")
-    seconds = 3 if quick else 10
+    seconds, rounds = (3, 2) if quick else (5, 5)
     body = json.dumps({"cas": {"value": 280, "unit": "kt"}, "altitude": {"value": 330, "unit": "FL"},
                        "isa_deviation": 15})
-    with gunicorn("bench.bare_app:create_app()") as (port, _):
+    with gunicorn("bench.bare_app:create_app()") as (bare_port, _), gunicorn("service:create_app()") as (port, _):
+        _wrk(bare_port, "/v1/airspeed", body, 1)
         _wrk(port, "/v1/airspeed", body, 1)
-        bare = _wrk(port, "/v1/airspeed", body, seconds)
-    with gunicorn("service:create_app()") as (port, _):
-        _wrk(port, "/v1/airspeed", body, 1)
-        ours = _wrk(port, "/v1/airspeed", body, seconds)
-    return {"ours_rps": ours, "bare_rps": bare, "ratio": ours / bare}
+        bare, ours = [], []
+        for _ in range(rounds):
+            bare.append(_wrk(bare_port, "/v1/airspeed", body, seconds))
+            ours.append(_wrk(port, "/v1/airspeed", body, seconds))
+    ratios = sorted(o / b for o, b in zip(ours, bare, strict=True))
+    return {"ours_rps": statistics.median(ours), "bare_rps": statistics.median(bare),
+            "ratio": statistics.median(ratios), "ratio_min": ratios[0], "ratio_max": ratios[-1]}
 
 
 def _children(pid: int) -> list[int]:
