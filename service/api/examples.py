@@ -1,7 +1,7 @@
 """The spec's request examples, set around our invented operator and aircraft.
 
 Northwind Regional (an invented operator) flies the NR-200 (an invented type): wing area 61 m2, aspect ratio
-11, unswept, MTOW 23 000 kg, clean CLmax 1.6, a 290 kt / M0.76 climb. Its high airfield Kestrel Ridge (also
+11, unswept, MTOW 23 000 kg, clean CLmax 1.6, a 290 kt / M0.76 climb. Its high airfield Quillon Ridge (also
 invented) lies at 7,200 ft. Each endpoint's examples, taken together, give every numeric input at least once,
 so that every field of the answers, the grid's `inputs` among them, has a computed example
 (service.api.spec runs them through the service; nothing here is an answer).
@@ -24,7 +24,7 @@ def _examples(*items: tuple[str, str, dict]) -> dict:
 ATMOSPHERE = _examples(
     ("fl350-isa10", "FL350 on an ISA+10 day",
      {"altitude": {"value": 350, "unit": "FL"}, "isa_deviation": 10}),
-    ("kestrel-ridge-hot-day", "Density altitude at Kestrel Ridge (7,200 ft) on a 32 degC day, QNH 1008 hPa",
+    ("quillon-ridge-hot-day", "Density altitude at Quillon Ridge (7,200 ft) on a 32 degC day, QNH 1008 hPa",
      {"altitude": 7200, "qnh": 1008, "temperature": 32,
       "outputs": ["pressure_altitude", "density_altitude", "isa_deviation", "density"]}),
     ("si-table", "A grid of geometric heights and ISA deviations, in SI units",
@@ -72,7 +72,7 @@ LIFT_SOLVE = _examples(
     ("altitude-for-mach", "The pressure altitude where Mach 0.45 needs CL 0.6",
      {"solve_for": "altitude", "weight": 21000, "wing_area": 61, "mach": 0.45, "cl": 0.6, "isa_deviation": 5,
       "outputs": ["pressure_altitude", "density_altitude", "tas", "cas"]}),
-    ("load-factor-over-kestrel-ridge", "The load factor at 160 kt IAS and CL 1.3 over Kestrel Ridge, QNH 1008 hPa",
+    ("load-factor-over-quillon-ridge", "The load factor at 160 kt IAS and CL 1.3 over Quillon Ridge, QNH 1008 hPa",
      {"solve_for": "load_factor", "weight": 20000, "wing_area": 61, "cl": 1.3, "ias": 160,
       "calibration": NR200_CALIBRATION, "altitude": 8200, "qnh": 1008, "temperature": 27,
       "outputs": ["load_factor", "bank_angle", "cas", "tas"]}),
@@ -94,7 +94,7 @@ LIFT_STALL = _examples(
     ("flight-manual-reference", "A flight-manual stall speed (108 kt CAS at 22 000 kg) scaled to 19 000 kg",
      {"weight": 19000, "reference": {"stall_speed": 108, "weight": 22000, "altitude": 0}, "altitude": 5000,
       "isa_deviation": 10}),
-    ("kestrel-ridge-circuit", "In the circuit at Kestrel Ridge: 8,200 ft on QNH 1008 hPa, 25 degC, 150 kt IAS",
+    ("quillon-ridge-circuit", "In the circuit at Quillon Ridge: 8,200 ft on QNH 1008 hPa, 25 degC, 150 kt IAS",
      {"weight": 22000, "wing_area": 61, "cl_max": 1.6, "altitude": 8200, "qnh": 1008, "temperature": 25,
       "load_factor": [1.0, 1.2], "ias": 150, "calibration": NR200_CALIBRATION}),
     ("margins-eas-grid", "Stall margins at 140 kt EAS over a grid of weights and bank angles",
