@@ -462,14 +462,15 @@ def test_unrequested_schedule_physics_does_not_run(client, monkeypatch):
     assert post(client, SCHEDULE, body | {"outputs": ["governing", "tas"]}).status_code == 200
 
 
-def test_crossover_pressure_runs_only_when_asked(client, monkeypatch):
+def test_crossover_pressure_is_computed_once(client, monkeypatch):
+    """The crossover altitude and the pressure there come from one evaluation of the pressure."""
     calls = []
     original = spd.crossover_pressure
     monkeypatch.setattr(spd, "crossover_pressure", lambda *a: calls.append(1) or original(*a))
     post(client, CROSSOVER, {"cas": 300, "mach": 0.78, "outputs": ["crossover_altitude"]})
-    assert len(calls) == 1  # inside crossover_altitude
+    assert len(calls) == 1
     post(client, CROSSOVER, {"cas": 300, "mach": 0.78})
-    assert len(calls) == 3
+    assert len(calls) == 2
 
 
 # --------------------------------------------------------------------------------------------

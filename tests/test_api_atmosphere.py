@@ -201,3 +201,14 @@ def test_no_nan_anywhere(client):
     for _key, value in r.json.items():
         if isinstance(value, dict):
             assert all(v is None or math.isfinite(v) for v in value["value"])
+
+
+def test_layers_evaluated_once_per_request(client, monkeypatch):
+    """Every output comes from one evaluation of the layer formulas (the geometric height reuses the pressure)."""
+    from service.physics import atmosphere as atm
+
+    calls = []
+    original = atm._temperature_log_pressure
+    monkeypatch.setattr(atm, "_temperature_log_pressure", lambda H: calls.append(1) or original(H))
+    assert post(client, ATM, {"altitude": [0, 20000, 40000], "isa_deviation": 12}).status_code == 200
+    assert len(calls) == 1

@@ -19,6 +19,7 @@ from fluids.atmosphere import ATMOSPHERE_1976
 from hypothesis import given, settings
 from hypothesis import strategies as st
 
+from bench.atmosphere_physics import ours  # the six properties, as the benchmark computes them
 from service.physics import atmosphere as atm
 from service.physics.constants import (
     EARTH_RADIUS,
@@ -247,19 +248,6 @@ def heights():
     return np.random.default_rng(2026).uniform(-5_000.0, top, 3000)
 
 
-def _ours(h):
-    T, p = atm.standard_state(atm.geopotential_altitude(h))
-    rho = atm.density(p, T)
-    return {
-        "pressure": p,
-        "temperature": T,
-        "density": rho,
-        "speed_of_sound": atm.speed_of_sound(T),
-        "dynamic_viscosity": atm.dynamic_viscosity(T),
-        "kinematic_viscosity": atm.kinematic_viscosity(T, rho),
-    }
-
-
 # ambiance types its base pressures to six figures (22 632.0, 5474.87, ...), so pressure,
 # density and kinematic viscosity differ by up to 2.05e-6 above 11 km (measured); between 0 and
 # 11 km, where it starts from P0 itself, they agree to 1.4e-15 (measured), below 0 to 2.6e-7
@@ -280,10 +268,10 @@ def test_against_ambiance(heights, name):
     # check_bounds=False: ambiance stops at 81 020 m geometric and otherwise extends its last
     # layer (-2 K/km from 71 km), which is the 1976 standard's layer up to 86 km.
     theirs = getattr(Atmosphere(heights, check_bounds=False), name)
-    ours = _ours(heights)[name]
-    np.testing.assert_allclose(ours, theirs, rtol=AMBIANCE_RTOL[name], atol=0.0)
+    mine = ours(heights)[name]
+    np.testing.assert_allclose(mine, theirs, rtol=AMBIANCE_RTOL[name], atol=0.0)
     troposphere = (heights >= 0.0) & (heights < 11_000.0)
-    np.testing.assert_allclose(ours[troposphere], theirs[troposphere], rtol=1e-13, atol=0.0)
+    np.testing.assert_allclose(mine[troposphere], theirs[troposphere], rtol=1e-13, atol=0.0)
 
 
 # fluids implements the U.S. Standard Atmosphere 1976 with R = 8314.32 / 28.9644, 7.0e-7 above
@@ -308,7 +296,7 @@ def fluids_states(heights):
 def test_against_fluids(heights, fluids_states, name):
     attribute, rtol = FLUIDS[name]
     theirs = np.array([getattr(state, attribute) for state in fluids_states])
-    np.testing.assert_allclose(_ours(heights)[name], theirs, rtol=rtol, atol=0.0)
+    np.testing.assert_allclose(ours(heights)[name], theirs, rtol=rtol, atol=0.0)
 
 
 def test_inverses_against_ambiance_newton_solutions():
@@ -524,3 +512,11 @@ def test_pressure_level_height_increases_with_deviation_above_the_datum(H, dT, s
     assert atm.pressure_level_height(H, dT) < atm.pressure_level_height(H, dT + step)
     # and below the datum a warmer column puts the level further down
     assert atm.pressure_level_height(-H / 20.0, dT) > atm.pressure_level_height(-H / 20.0, dT + step)
+
+
+@pytest.mark.parametrize("dT", [-30.0, 0.0, 25.0])
+def test_pressure_level_height_with_the_pressure_given(dT):
+    """Passing the standard pressure the caller already has gives the same height."""
+    H = np.linspace(-5_000.0, H_MAX, 101)
+    np.testing.assert_allclose(atm.pressure_level_height(H, dT, atm.standard_pressure(H)),
+                               atm.pressure_level_height(H, dT), rtol=1e-12, atol=1e-9)

@@ -181,7 +181,7 @@ class Air:
 
     @lazy
     def geometric_altitude(self):
-        return atm.pressure_level_height(self.H, self.dT)
+        return atm.pressure_level_height(self.H, self.dT, self.p)  # the standard state already evaluated
 
     @property
     def delta(self):

@@ -21,6 +21,7 @@ from service.api.outputs import Leaf, Result, unit_for
 from service.api.schemas import LabelOut, quantity_out, ratio_out, response_schema
 from service.api.speeds import KINDS, Speeds, calibration_field, given_speed, mach_field, speed_field
 from service.physics import airspeed as spd
+from service.physics import atmosphere as atm
 from service.physics.constants import FT, H_MAX, H_MIN, P0
 
 blp = Blueprint("airspeed", __name__, url_prefix="/v1", description=(
@@ -196,7 +197,8 @@ def crossover(inputs):
     """
     result = Result(inputs)
     cas, mach = inputs.si("cas"), inputs.si("mach")
-    H = spd.crossover_altitude(cas, mach)
+    p = spd.crossover_pressure(cas, mach)
+    H = atm.pressure_altitude(p)  # what spd.crossover_altitude does, keeping p for the answer
     missing = np.isnan(H)
     if np.any(missing):
         raise no_solution("crossover_altitude", missing, "the CAS and the Mach number given are the same speed "
@@ -204,7 +206,7 @@ def crossover(inputs):
     if inputs.wants("crossover_altitude"):
         result.add("crossover_altitude", H, "altitude")
     if inputs.wants("pressure"):
-        result.add("pressure", spd.crossover_pressure(cas, mach), "pressure")
+        result.add("pressure", p, "pressure")
     return result.response()
 
 

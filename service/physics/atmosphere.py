@@ -816,7 +816,7 @@ def temperature_from_deviation(H, dT):
     return np.add(standard_temperature(H), dT)
 
 
-def pressure_level_height(H, dT):
+def pressure_level_height(H, dT, p=None):
     r"""Geometric height of the pressure level of pressure altitude ``H`` on a day with
     ISA deviation ``dT``, above the standard-pressure datum.
 
@@ -838,6 +838,9 @@ def pressure_level_height(H, dT):
         range.
     dT : float or array_like
         ISA deviation, constant from the datum up [K].
+    p : float or array_like, optional
+        The standard pressure at ``H`` [Pa], when the caller has it already (from
+        :func:`standard_state`): the layers are then not evaluated a second time.
 
     Returns
     -------
@@ -867,7 +870,11 @@ def pressure_level_height(H, dT):
     .. [1] ICAO Doc 7488/3 (1993), hydrostatic equation; U.S. Standard Atmosphere 1976.
     """
     H = np.asarray(H, dtype=np.float64)
-    _, log_p, k = _temperature_log_pressure(H.reshape(-1))
-    log_p += _LUT_LN_PB_P0.take(k)  # now ln(p / P0)
-    integral = np.divide(log_p, -_G0_R, out=log_p)
-    return geometric_altitude(H + np.multiply(dT, _shaped(integral, H.shape)))
+    if p is None:
+        _, log_p, k = _temperature_log_pressure(H.reshape(-1))
+        log_p += _LUT_LN_PB_P0.take(k)  # now ln(p / P0)
+        log_p = _shaped(log_p, H.shape)
+    else:
+        log_p = np.log(np.divide(p, P0))
+    integral = np.divide(log_p, -_G0_R)
+    return geometric_altitude(H + np.multiply(dT, integral))
