@@ -8,18 +8,20 @@ import numpy as np
 from service import units
 from service.api import air, examples
 from service.api.base import COMPUTE_PROBLEMS, Blueprint
-from service.api.inputs import (
-    ComputeSchema,
-    exactly_one,
-    first_indices,
-    needs,
-    no_solution,
-    output_needs,
-    outputs_field,
-)
+from service.api.inputs import ComputeSchema, first_indices, no_solution, outputs_field
 from service.api.outputs import Leaf, Result, unit_for
+from service.api.rules import Given, OutputNeeds
 from service.api.schemas import LabelOut, quantity_out, ratio_out, response_schema
-from service.api.speeds import KINDS, Speeds, calibration_field, given_speed, mach_field, speed_field
+from service.api.speeds import (
+    IAS_NEEDS_CALIBRATION,
+    KINDS,
+    Speeds,
+    calibration_field,
+    given_speed,
+    mach_field,
+    one_speed,
+    speed_field,
+)
 from service.physics import airspeed as spd
 from service.physics import atmosphere as atm
 from service.physics.constants import FT, H_MAX, H_MIN, P0
@@ -67,7 +69,9 @@ _ONE_OF = "Give exactly one of `ias`, `cas`, `eas`, `tas`, `mach`."
 
 class AirspeedRequest(ComputeSchema):
     OUTPUTS = tuple(OUTPUTS)
-    SPEC_RULES = (exactly_one(*KINDS), needs("ias", "calibration"), output_needs("ias", {"required": ["calibration"]}))
+    RULES = (one_speed(f"Give one speed: {', '.join(KINDS)}."), IAS_NEEDS_CALIBRATION,
+             OutputNeeds("ias", Given("calibration"),
+                         "The output ias needs `calibration` (the airspeed system's IAS -> CAS table)."))
 
     ias = speed_field("ias", _ONE_OF + " Arrays allowed.")
     cas = speed_field("cas", _ONE_OF + " Arrays allowed.")
@@ -79,14 +83,6 @@ class AirspeedRequest(ComputeSchema):
     temperature = air.temperature_field()
     calibration = calibration_field()
     outputs = outputs_field(tuple(OUTPUTS))
-
-    @ma.validates_schema
-    def _ias_needs_calibration(self, data, **kwargs):
-        wanted = data.get("outputs") or ()
-        if "ias" in wanted and "calibration" not in data:
-            index = list(wanted).index("ias")
-            raise ma.ValidationError({"outputs": {index: [
-                "The output ias needs `calibration` (the airspeed system's IAS -> CAS table)."]}})
 
 
 AirspeedAtmosphere = type("AirspeedAtmosphere", (ma.Schema,), {
@@ -115,7 +111,7 @@ def airspeed(inputs):
     """
     kind = given_speed(inputs)
     result = Result(inputs)
-    speeds = Speeds(air.air(inputs, allow_kind=False, allow_qnh=False), kind, inputs.si(kind),
+    speeds = Speeds(air.air(inputs), kind, inputs.si(kind),
                     inputs.get("calibration"))
     for name in inputs.outputs:
         if name in PRIMARY:
@@ -258,7 +254,7 @@ def schedule(inputs):
     altitude. The example is the NR-200's 290 kt / M0.76 climb on an ISA+10 day.
     """
     result = Result(inputs)
-    state = air.air(inputs, allow_kind=False, allow_qnh=False)
+    state = air.air(inputs)
     cas, mach = inputs.si("cas"), inputs.si("mach")
     if any(map(inputs.wants, _SCHEDULE_SPEEDS)):
         flown = spd.speed_schedule(cas, mach, state.p, state.T)

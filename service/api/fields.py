@@ -119,23 +119,18 @@ class Number(ma.fields.Field):
     """
 
     def __init__(self, *, minimum=None, maximum=None, exclusive_minimum=False,
-                 exclusive_maximum=False, allow_array=True, excludes: tuple[str, ...] = (), **kwargs):
+                 exclusive_maximum=False, allow_array=True, rules: tuple = (), **kwargs):
         super().__init__(**kwargs)
         self.minimum = minimum
         self.maximum = maximum
         self.exclusive_minimum = exclusive_minimum
         self.exclusive_maximum = exclusive_maximum
         self.allow_array = allow_array
-        self.excludes = excludes
+        self.rules = rules
 
-    def spec_rules(self, name: str) -> list[dict]:
-        """JSON Schema rules for the request schema that holds this field (see api.base.Converter).
-
-        ``excludes``: fields of that schema that may not be given together with this one (the
-        endpoint refuses them; this publishes it).
-        """
-        present = getattr(self.parent, "fields", {})
-        return [{"not": {"required": [name, other]}} for other in self.excludes if other in present]
+    def rules_for(self, name: str) -> tuple:
+        """The rules (api.rules) this field brings to the schema that holds it under ``name``."""
+        return self.rules
 
     dimension: str | None = None
 

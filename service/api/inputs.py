@@ -17,6 +17,7 @@ from flask import current_app, request
 
 from service.api.fields import Number, OutputUnits, Value
 from service.api.problems import Problem, flatten_messages, invalid, pointer
+from service.api.rules import RuleSchema
 
 JSON_MEDIA_TYPES = ("application/json",)
 
@@ -98,40 +99,6 @@ def check_point_limit(points: int) -> None:
                       "(QBAR_MAX_POINTS).", extra={"limit": limit})
 
 
-# --- Rules over several fields, published in the request schema's allOf (api.base.Converter) -----
-# Each endpoint enforces its own rules with messages of its own; these say the same in JSON
-# Schema, so that data valid by the spec is data the endpoint accepts (tests/test_fuzz_spec.py).
-
-def exactly_one(*names: str) -> dict:
-    """Exactly one of ``names`` is given."""
-    return {"oneOf": [{"required": [name]} for name in names]}
-
-
-def none_of(*names: str) -> dict:
-    """None of ``names`` is given."""
-    if len(names) == 1:
-        return {"not": {"required": list(names)}}
-    return {"not": {"anyOf": [{"required": [name]} for name in names]}}
-
-
-def not_together(*names: str) -> dict:
-    """At most one of ``names`` is given."""
-    if len(names) == 2:
-        return {"not": {"required": list(names)}}
-    return {"oneOf": [none_of(*names), *({"required": [name]} for name in names)]}  # (generators handle this form)
-
-
-def needs(name: str, *needed: str) -> dict:
-    """Where ``name`` is given, so is each of ``needed``."""
-    return {"if": {"required": [name]}, "then": {"required": list(needed)}}
-
-
-def output_needs(output: str, then: dict) -> dict:
-    """Where ``outputs`` names ``output``, the request satisfies ``then``."""
-    return {"if": {"required": ["outputs"], "properties": {"outputs": {"contains": {"const": output}}}},
-            "then": then}
-
-
 class StrictBoolean(ma.fields.Boolean):
     """JSON true or false only (marshmallow's Boolean also takes 0, 1, "yes", ...)."""
 
@@ -141,7 +108,7 @@ class StrictBoolean(ma.fields.Boolean):
         return value
 
 
-class ComputeSchema(ma.Schema):
+class ComputeSchema(RuleSchema):
     """Base of every compute request: output units, output selection, grid.
 
     Subclasses list their output names in ``OUTPUTS``; every numeric top-level field is an

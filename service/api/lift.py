@@ -91,13 +91,6 @@ def _kappa(efficiency, section_slope):
     return 1.0 if efficiency is None else efficiency
 
 
-def _air_at(inputs: Inputs, H) -> Air:
-    """The Air at a solved pressure altitude, with the request's ISA deviation or temperature."""
-    if "temperature" in inputs:
-        return Air(H, T=inputs.si("temperature"))
-    return Air(H, dT=inputs.si("isa_deviation"))
-
-
 # --- POST /v1/lift/solve -----------------------------------------------------------------------------
 
 
@@ -108,7 +101,7 @@ class _Solve:
         self.inputs = inputs
         self.result = result
         self.unknown = inputs.get("solve_for")
-        self.kind = given_speed(inputs, required=False)  # None when solving for speed
+        self.kind = given_speed(inputs)  # None when solving for speed
         # The solved-for value first: where it does not exist the request is a 422.
         getattr(self, {"speed": "speeds", "altitude": "air"}.get(self.unknown, self.unknown))
 
@@ -190,7 +183,7 @@ class _Solve:
             self.result.warn("pressure_altitude", "At a given CAS the dynamic pressure falls only slowly with "
                              "altitude, so this altitude is very sensitive to the inputs: 1 % in weight, CL or speed "
                              "can move it by thousands of feet. Prefer a Mach number or TAS where one is known.")
-        speeds.air = _air_at(self.inputs, _primary("pressure_altitude", H, reason))
+        speeds.air = air.air_at(self.inputs, _primary("pressure_altitude", H, reason))
         self.__dict__["air"], self.__dict__["speeds"] = speeds.air, speeds
         return speeds.air, speeds
 
@@ -336,7 +329,7 @@ def stall(inputs):
             for i in range(factors.size)])
         if np.any(factors < 1.0):
             result.warn("multiples", "A speed factor below 1 is below the stall speed: CL/CLmax is above 1 there.")
-    kind = given_speed(inputs, required=False)
+    kind = given_speed(inputs)
     if kind is not None and inputs.wants("margin"):
         eas = Speeds(state, kind, inputs.si(kind), inputs.get("calibration")).eas
         eas = _primary("margin", eas, f"the {kind} given has no EAS here.")

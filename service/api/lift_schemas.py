@@ -13,9 +13,20 @@ import marshmallow as ma
 from service.api import air
 from service.api.examples import NR200_WING
 from service.api.fields import Number, Quantity, any_true, parse_numbers
-from service.api.inputs import ComputeSchema, exactly_one, needs, none_of, not_together, output_needs, outputs_field
+from service.api.inputs import ComputeSchema, outputs_field
+from service.api.rules import Cases, Either, Given, Never, NoneOf, NotTogether, OutputNeeds, RuleSchema
 from service.api.schemas import FlagOut, LabelOut, quantity_out, ratio_out, response_schema
-from service.api.speeds import KINDS, SPEED_MAX_KT, calibration_field, mach_field, speed_field
+from service.api.speeds import (
+    AT_MOST_ONE_SPEED,
+    CALIBRATION_NEEDS_IAS,
+    IAS_NEEDS_CALIBRATION,
+    KINDS,
+    SPEED_MAX_KT,
+    calibration_field,
+    mach_field,
+    one_speed,
+    speed_field,
+)
 
 #: What /v1/lift/solve can solve for.
 UNKNOWNS = ("cl", "speed", "weight", "wing_area", "load_factor", "altitude")
@@ -112,36 +123,22 @@ class SpeedFactors(ma.fields.Field):
                 "maxItems": MAX_SPEED_FACTORS}
 
 
-# --- Cross-field checks ------------------------------------------------------------------------------
+# --- Rules over several fields (api.rules) ------------------------------------------------------------
+
+#: n from the load factor or from the bank angle of a level turn, not both.
+LOAD_FACTOR_OR_BANK = NotTogether("load_factor", "bank_angle")
+#: The section's efficiency or its lift slope, not both.
+ONE_AIRFOIL_INPUT = NotTogether("airfoil_efficiency", "airfoil_lift_slope", why="kappa = airfoil_lift_slope / 2 pi.")
 
 
-def _not_both(data: dict, first: str, second: str, why: str = "") -> None:
-    if first in data and second in data:
-        message = f"Give either {first} or {second}, not both.{(' ' + why) if why else ''}"
-        raise ma.ValidationError({first: [message], second: [message]})
+def _needs(output: str, then: Given, what: str) -> OutputNeeds:
+    return OutputNeeds(output, then, f"{output!r} needs {what}.")
 
 
-def _selected_needs(data: dict, needs: dict[str, tuple[bool, str]]) -> None:
-    """422 on ``outputs`` entries whose inputs are missing: needs = {output: (available, what it needs)}."""
-    wanted = data.get("outputs") or ()
-    errors = {i: [f"{name!r} needs {needs[name][1]}."] for i, name in enumerate(wanted)
-              if name in needs and not needs[name][0]}
-    if errors:
-        raise ma.ValidationError({"outputs": errors})
-
-
-class _WingInputs(ma.Schema):
-    """Shared check of the lift-curve inputs: one of airfoil_efficiency and airfoil_lift_slope."""
-
-    SPEC_RULES = (not_together("airfoil_efficiency", "airfoil_lift_slope"),)
-
-    @ma.validates_schema
-    def _one_airfoil_input(self, data, **kwargs):
-        _not_both(data, "airfoil_efficiency", "airfoil_lift_slope", "kappa = airfoil_lift_slope / 2 pi.")
-
-
-class LiftWingSchema(_WingInputs):
+class LiftWingSchema(RuleSchema):
     """The wing block of /v1/lift/solve: what is needed for the angle of attack."""
+
+    RULES = (ONE_AIRFOIL_INPUT,)
 
     class Meta:
         unknown = ma.RAISE
@@ -197,30 +194,36 @@ SOLVE_OUTPUTS = {
 _SPEED_NOTE = "One speed of ias, cas, eas, tas, mach (none when solving for speed)."
 
 
-def _solve_rules() -> tuple[dict, ...]:
-    """The checks of LiftSolveRequest._check_solve (and of the speed given), as JSON Schema for the spec."""
-    unknown_inputs = {"cl": ("cl",), "weight": ("weight",), "wing_area": ("wing_area",),
-                      "load_factor": ("load_factor", "bank_angle"), "speed": KINDS, "altitude": ("altitude",)}
-    branches = []
-    for unknown in UNKNOWNS:  # one branch per unknown: what it needs, what it leaves out
-        branch = {"properties": {"solve_for": {"const": unknown}},
-                  "required": ["solve_for", *(n for n in ("weight", "wing_area", "cl", "altitude") if n != unknown)],
-                  "allOf": [none_of(*unknown_inputs[unknown])]}
-        if unknown != "speed":
-            branch["allOf"].append(exactly_one(*KINDS))
-        if unknown == "altitude":  # a pressure altitude from a speed that fixes it
-            branch["allOf"] += [none_of("qnh", "eas"), {"not": {"required": ["altitude_kind"], "properties": {
-                "altitude_kind": {"const": "geometric"}}}}]
-        branches.append(branch)
-    return (not_together("load_factor", "bank_angle"), needs("calibration", "ias"), needs("ias", "calibration"),
-            output_needs("angle_of_attack", {"required": ["wing"]}),
-            output_needs("beyond_stall", {"required": ["wing"], "properties": {"wing": {"required": ["cl_max"]}}}),
-            {"oneOf": branches})
+#: What the lift equation needs besides a speed; each unknown is one of them, or the speed, or n.
+LIFT_INPUTS = ("weight", "wing_area", "cl", "altitude")
+#: Unknown -> the inputs that give it (left out when solving for it).
+GIVEN_BY = {"cl": ("cl",), "weight": ("weight",), "wing_area": ("wing_area",),
+            "load_factor": ("load_factor", "bank_angle"), "speed": KINDS, "altitude": ("altitude",)}
+
+
+def _solve_case(unknown: str):
+    """(inputs needed, message when missing, rules) of solving for ``unknown``."""
+    rules = [NoneOf(*GIVEN_BY[unknown], message=lambda name: f"{name} is given, but solve_for is {unknown!r}: "
+                                                             "leave out the unknown.")]
+    if unknown != "speed":
+        rules.append(one_speed(f"Missing: one speed of {', '.join(KINDS)}, needed to solve for {unknown}."))
+    if unknown == "altitude":  # a pressure altitude from a speed that fixes it
+        rules += [NoneOf("qnh", "eas", message={
+            "qnh": "QNH corrects a given altitude; solving for altitude gives a pressure altitude. Leave qnh out.",
+            "eas": "At a given EAS the dynamic pressure is 1/2 rho0 EAS^2 at every altitude, so the lift equation "
+                   "does not fix the altitude. Give a Mach number, TAS or CAS instead."}),
+                  Never(Given("altitude_kind", value={"altitude_kind": "geometric"}), "altitude_kind",
+                        "Solving for altitude gives a pressure altitude; leave out altitude_kind.")]
+    needed = tuple(name for name in LIFT_INPUTS if name != unknown)
+    return needed, f"Missing: needed to solve for {unknown}.", tuple(rules)
 
 
 class LiftSolveRequest(ComputeSchema):
     OUTPUTS = tuple(SOLVE_OUTPUTS)
-    SPEC_RULES = _solve_rules()
+    RULES = (LOAD_FACTOR_OR_BANK, CALIBRATION_NEEDS_IAS, IAS_NEEDS_CALIBRATION,
+             _needs("angle_of_attack", Given("wing"), "the `wing` block"),
+             _needs("beyond_stall", Given("wing", inside={"wing": Given("cl_max")}), "`wing.cl_max`"),
+             Cases("solve_for", {unknown: _solve_case(unknown) for unknown in UNKNOWNS}))
 
     solve_for = ma.fields.String(required=True, validate=ma.validate.OneOf(UNKNOWNS), error_messages={
         "required": "Missing: name the unknown, one of " + ", ".join(UNKNOWNS) + "."}, metadata={
@@ -253,40 +256,6 @@ class LiftSolveRequest(ComputeSchema):
         "example": NR200_WING})
     outputs = outputs_field(tuple(SOLVE_OUTPUTS))
 
-    @ma.validates_schema
-    def _check_solve(self, data, **kwargs):
-        unknown = data.get("solve_for")
-        _not_both(data, "load_factor", "bank_angle")
-        _not_both(data, "isa_deviation", "temperature")
-        speeds = [k for k in KINDS if k in data]
-        errors: dict = {}
-        given = {"cl": ("cl",), "weight": ("weight",), "wing_area": ("wing_area",),
-                 "load_factor": ("load_factor", "bank_angle"), "speed": KINDS, "altitude": ("altitude",)}[unknown]
-        for name in given:
-            if name in data:
-                errors[name] = [f"{name} is given, but solve_for is {unknown!r}: leave out the unknown."]
-        if unknown == "altitude":
-            if "qnh" in data:
-                errors["qnh"] = ["QNH corrects a given altitude; solving for altitude gives a pressure altitude. "
-                                 "Leave qnh out."]
-            if data.get("altitude_kind") == "geometric":
-                errors["altitude_kind"] = ["Solving for altitude gives a pressure altitude; leave out altitude_kind."]
-        needed = [n for n in ("weight", "wing_area", "cl", "altitude") if n != unknown and n not in data]
-        for name in needed:
-            errors[name] = [f"Missing: needed to solve for {unknown}."]
-        if unknown != "speed" and not speeds:
-            errors["_schema"] = [f"Missing: one speed of {', '.join(KINDS)}, needed to solve for {unknown}."]
-        if "calibration" in data and "ias" not in data and "calibration" not in errors:
-            errors["calibration"] = ["The calibration converts an ias, and this request gives none: leave it out."]
-        if unknown == "altitude" and "eas" in data:
-            errors["eas"] = ["At a given EAS the dynamic pressure is 1/2 rho0 EAS^2 at every altitude, so the lift "
-                             "equation does not fix the altitude. Give a Mach number, TAS or CAS instead."]
-        if errors:
-            raise ma.ValidationError(errors)
-        wing = data.get("wing") or {}
-        _selected_needs(data, {"angle_of_attack": ("wing" in data, "the `wing` block"),
-                               "beyond_stall": ("cl_max" in wing, "`wing.cl_max`")})
-
 
 SolveResponse = response_schema("LiftSolveResponse", {
     "solved_for": LabelOut(UNKNOWNS, metadata={"description": "The unknown that was solved for (always present)."}),
@@ -303,13 +272,14 @@ STALL_OUTPUTS = ("stall", "multiples", "margin")
 
 class LiftStallRequest(ComputeSchema):
     OUTPUTS = STALL_OUTPUTS
-    SPEC_RULES = (  # _check_stall and the speed for the margin, for the spec
-        not_together("load_factor", "bank_angle"),
-        {"oneOf": [{"required": ["wing_area", "cl_max"], "not": {"required": ["reference"]}},
-                   {"required": ["reference"], **none_of("wing_area", "cl_max")}]},
-        not_together(*KINDS), needs("calibration", "ias"), needs("ias", "calibration"),
-        output_needs("multiples", {"required": ["speed_factors"]}),
-        output_needs("margin", {"anyOf": [{"required": [kind]} for kind in KINDS]}),
+    RULES = (
+        LOAD_FACTOR_OR_BANK,
+        Either(("wing_area", "cl_max"), ("reference",),
+               both="Give either wing_area and cl_max, or reference, not both.",
+               missing="Missing: give wing_area and cl_max, or a reference stall speed (reference)."),
+        AT_MOST_ONE_SPEED, CALIBRATION_NEEDS_IAS, IAS_NEEDS_CALIBRATION,
+        _needs("multiples", Given("speed_factors"), "`speed_factors`"),
+        _needs("margin", Given(any_of=KINDS), "a speed (ias, cas, eas, tas or mach)"),
     )
 
     weight = weight_field("Weight", required=True)
@@ -341,22 +311,6 @@ class LiftStallRequest(ComputeSchema):
     mach = mach_field("Optional, for `margin`.")
     calibration = calibration_field()
     outputs = outputs_field(STALL_OUTPUTS)
-
-    @ma.validates_schema
-    def _check_stall(self, data, **kwargs):
-        _not_both(data, "load_factor", "bank_angle")
-        if "reference" in data:
-            errors = {name: ["Give either wing_area and cl_max, or reference, not both."]
-                      for name in ("wing_area", "cl_max") if name in data}
-        else:
-            errors = {name: ["Missing: give wing_area and cl_max, or a reference stall speed (reference)."]
-                      for name in ("wing_area", "cl_max") if name not in data}
-        if "calibration" in data and "ias" not in data:
-            errors["calibration"] = ["The calibration converts an ias, and this request gives none: leave it out."]
-        if errors:
-            raise ma.ValidationError(errors)
-        _selected_needs(data, {"multiples": ("speed_factors" in data, "`speed_factors`"),
-                               "margin": (any(k in data for k in KINDS), "a speed (ias, cas, eas, tas or mach)")})
 
 
 class LiftStallSpeedsOut(ma.Schema):
@@ -401,14 +355,16 @@ CURVE_OUTPUTS = {
 }
 
 
-_POINT = {"anyOf": [{"required": ["angle_of_attack"]}, {"required": ["cl"]}]}
+_POINT = ("angle_of_attack", "cl")
+_POINT_TEXT = "`angle_of_attack` or `cl`"
 
 
-class LiftCurveRequest(_WingInputs, ComputeSchema):
+class LiftCurveRequest(ComputeSchema):
     OUTPUTS = tuple(CURVE_OUTPUTS)
-    SPEC_RULES = _WingInputs.SPEC_RULES + (  # _check_curve, for the spec
-        not_together("angle_of_attack", "cl"), output_needs("cl", _POINT), output_needs("angle_of_attack", _POINT),
-        output_needs("beyond_stall", {"required": ["cl_max"], **_POINT}),
+    RULES = (
+        ONE_AIRFOIL_INPUT, NotTogether(*_POINT),
+        _needs("cl", Given(any_of=_POINT), _POINT_TEXT), _needs("angle_of_attack", Given(any_of=_POINT), _POINT_TEXT),
+        _needs("beyond_stall", Given("cl_max", any_of=_POINT), f"`cl_max` and {_POINT_TEXT}"),
     )
 
     aspect_ratio = aspect_ratio_field()
@@ -425,16 +381,6 @@ class LiftCurveRequest(_WingInputs, ComputeSchema):
                           "example": 0.9})
     cl_max = cl_max_field()
     outputs = outputs_field(tuple(CURVE_OUTPUTS))
-
-    @ma.validates_schema
-    def _check_curve(self, data, **kwargs):
-        _not_both(data, "angle_of_attack", "cl")
-        point = "angle_of_attack" in data or "cl" in data
-        _selected_needs(data, {
-            "cl": (point, "`angle_of_attack` or `cl`"),
-            "angle_of_attack": (point, "`angle_of_attack` or `cl`"),
-            "beyond_stall": (point and "cl_max" in data, "`cl_max` and `angle_of_attack` or `cl`"),
-        })
 
 
 CurveResponse = response_schema("LiftCurveResponse", {
