@@ -10,9 +10,10 @@ from __future__ import annotations
 import marshmallow as ma
 import numpy as np
 
-from service.api.fields import Quantity, any_true, quantity_schema
+from service.api.fields import Quantity, quantity_schema
 from service.api.inputs import Inputs
 from service.api.lazy import lazy
+from service.api.masks import any_true, first_indices
 from service.api.problems import invalid
 from service.api.rules import Given, Never, NotTogether, Rule, Unit
 from service.physics import atmosphere as atm
@@ -215,15 +216,9 @@ def check_altitude_range(H, field: str, what: str = "pressure altitude") -> None
     if any_true(bad):
         message = (f"The {what} must lie within the model's range, {_show_ft(H_MIN)} to {_show_ft(H_MAX)} "
                    "(geopotential).")
-        raise invalid(_pointed(field, bad, message))
-
-
-def _pointed(field: str, bad, message: str) -> list[dict]:
-    bad = np.asarray(bad)
-    if bad.ndim == 0 or bad.size == 1:
-        return [{"pointer": f"/{field}", "message": message}]
-    return [{"pointer": f"/{field}", "message": f"{message} Offending indices: "
-                                                 f"{[int(i) for i in np.flatnonzero(bad)[:10]]}."}]
+        if np.size(bad) > 1:
+            message += f" Offending indices: {first_indices(bad)}."
+        raise invalid({f"/{field}": message})
 
 
 def pressure_altitude(inputs: Inputs, field: str = "altitude"):

@@ -8,8 +8,9 @@ import numpy as np
 from service import units
 from service.api import air, examples
 from service.api.base import COMPUTE_PROBLEMS, Blueprint
-from service.api.inputs import ComputeSchema, first_indices, no_solution, outputs_field
-from service.api.outputs import Leaf, Result, unit_for
+from service.api.inputs import ComputeSchema, outputs_field
+from service.api.masks import any_true, first_indices
+from service.api.outputs import Leaf, Result, no_solution, unit_for
 from service.api.rules import Given, OutputNeeds
 from service.api.schemas import LabelOut, quantity_out, ratio_out, response_schema
 from service.api.speeds import (
@@ -173,7 +174,7 @@ def _beyond_model(cas, mach, missing, indices: bool = True) -> str:
     parts = []
     for mask, where, lower in ((missing & below, "below it", "the Mach number"),
                                (missing & ~below, "above it", "the CAS")):
-        if np.any(mask):
+        if any_true(mask):
             at = f" at points {first_indices(mask)}" if indices and np.ndim(mask) else ""
             parts.append(f"{where}{at}, so {lower} is the lower speed at every altitude")
     return f"outside {_RANGE}: " + "; ".join(parts)
@@ -196,7 +197,7 @@ def crossover(inputs):
     p = spd.crossover_pressure(cas, mach)
     H = atm.pressure_altitude(p)  # what spd.crossover_altitude does, keeping p for the answer
     missing = np.isnan(H)
-    if np.any(missing):
+    if any_true(missing):
         raise no_solution("crossover_altitude", missing, "the CAS and the Mach number given are the same speed "
                                                          f"only {_beyond_model(cas, mach, missing)}.")
     if inputs.wants("crossover_altitude"):
@@ -259,7 +260,7 @@ def schedule(inputs):
     if any(map(inputs.wants, _SCHEDULE_SPEEDS)):
         flown = spd.speed_schedule(cas, mach, state.p, state.T)
         missing = np.isnan(flown.mach)
-        if np.any(missing):
+        if any_true(missing):
             raise no_solution("mach", missing, "the CAS given has no Mach number here (beyond the range of the "
                                                "airspeed relations).")
         for name in _SCHEDULE_SPEEDS:
@@ -269,7 +270,7 @@ def schedule(inputs):
     if inputs.wants("crossover_altitude"):
         H = spd.crossover_altitude(cas, mach)
         missing = np.isnan(H)
-        if np.any(missing):
+        if any_true(missing):
             where = _beyond_model(cas, mach, missing, indices=False)
             H = result.null_where("crossover_altitude", H, f"The CAS and the Mach number given cross only {where}. "
                                                            "The schedule holds that lower speed throughout.")

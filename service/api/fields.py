@@ -21,14 +21,9 @@ import marshmallow as ma
 import numpy as np
 
 from service import units
+from service.api.masks import MAX_REPORTED, any_true, first_indices
 
 _NUMBER_TYPES = {int, float}
-_MAX_REPORTED = 10
-
-
-def any_true(mask) -> bool:
-    """``mask.any()``, without NumPy's Python-level reduction wrapper for a 0-d mask (one point)."""
-    return bool(mask.any()) if mask.ndim else bool(mask)
 
 
 class Value(NamedTuple):
@@ -51,7 +46,7 @@ def _element_error(items: list, message_for) -> dict:
         message = message_for(item)
         if message:
             errors[index] = [message]
-            if len(errors) >= _MAX_REPORTED:
+            if len(errors) >= MAX_REPORTED:
                 break
     return errors
 
@@ -147,8 +142,7 @@ class Number(ma.fields.Field):
         message = message_for()
         if array.ndim == 0:
             raise ma.ValidationError(message)
-        indices = np.flatnonzero(bad)[:_MAX_REPORTED]
-        raise ma.ValidationError({int(i): [message] for i in indices})
+        raise ma.ValidationError({i: [message] for i in first_indices(bad)})
 
     def range_message(self, unit_text="") -> str:
         return self.describe_range(self.minimum, self.maximum, unit_text)

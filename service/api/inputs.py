@@ -241,25 +241,6 @@ class Inputs:
         return [name for name in names if name in self.data]
 
 
-def first_indices(mask) -> list[int]:
-    """Up to the first ten indices where ``mask`` is true (0-d masks give [0])."""
-    mask = np.asarray(mask)
-    if mask.ndim == 0:
-        return [0] if bool(mask) else []
-    return [int(i) for i in np.flatnonzero(mask)[:10]]
-
-
-def no_solution(field: str, mask, reason: str) -> Problem:
-    """The 422 for a primary result that does not exist at some points."""
-    mask = np.asarray(mask)
-    count = int(np.count_nonzero(mask))
-    where = first_indices(mask)
-    at = "" if mask.ndim == 0 else f" at {count} point(s), first indices {where}"
-    return Problem("no-solution", f"No {field}{at}: {reason}",
-                   errors=[{"pointer": pointer(field), "message": reason}],
-                   extra={"field": field, "count": count, "indices": where})
-
-
 class BodyParser:
     """The flask-smorest ARGUMENTS_PARSER: our body checks, then the schema load."""
 
@@ -286,4 +267,4 @@ class BodyParser:
         return decorator
 
 
-__all__ = ["BodyParser", "ComputeSchema", "Inputs", "Number", "OutputUnits", "no_solution", "outputs_field"]
+__all__ = ["BodyParser", "ComputeSchema", "Inputs", "Number", "OutputUnits", "outputs_field"]

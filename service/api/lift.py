@@ -13,7 +13,7 @@ import numpy as np
 from service.api import air, examples
 from service.api.air import Air
 from service.api.base import COMPUTE_PROBLEMS, Blueprint
-from service.api.inputs import Inputs, no_solution
+from service.api.inputs import Inputs
 from service.api.lift_schemas import (
     CURVE_OUTPUTS,
     DATCOM_MACH_WARNING,
@@ -25,7 +25,8 @@ from service.api.lift_schemas import (
     SolveResponse,
     StallResponse,
 )
-from service.api.outputs import Leaf, Result
+from service.api.masks import any_true
+from service.api.outputs import Leaf, Result, require
 from service.api.problems import invalid
 from service.api.speeds import Speeds, given_speed
 from service.physics import atmosphere as atm
@@ -46,14 +47,6 @@ _SUPERSONIC = "No lift-curve slope at Mach 1 or above: the DATCOM formula is for
 _TRANSONIC = (f"Above Mach {DATCOM_MACH_WARNING} the DATCOM lift-curve slope loses accuracy as the flow "
               "approaches transonic; treat the value as an estimate.")
 _BEYOND_RIGHT_ANGLE = "The linear lift curve reaches this CL only beyond +/-90 deg angle of attack."
-
-
-def _primary(name: str, values, reason: str):
-    """``values``, or the no-solution 422 naming ``name`` where they are not finite."""
-    bad = ~np.isfinite(values)
-    if np.any(bad):
-        raise no_solution(name, bad, reason)
-    return values
 
 
 def _secondary(result: Result, name: str, values, message: str):
@@ -112,28 +105,28 @@ class _Solve:
     def weight(self):
         if self.unknown != "weight":
             return self._given("weight")
-        return _primary("weight", lf.weight_supported(self.q, self.wing_area, self.cl, self.load_factor),
+        return require("weight", lf.weight_supported(self.q, self.wing_area, self.cl, self.load_factor),
                         "the lift equation has no finite weight here.")
 
     @cached_property
     def wing_area(self):
         if self.unknown != "wing_area":
             return self._given("wing_area")
-        return _primary("wing_area", lf.wing_area_required(self.weight, self.load_factor, self.q, self.cl),
+        return require("wing_area", lf.wing_area_required(self.weight, self.load_factor, self.q, self.cl),
                         "the lift equation has no finite wing area here.")
 
     @cached_property
     def cl(self):
         if self.unknown != "cl":
             return self._given("cl")
-        return _primary("cl", lf.lift_coefficient(self.weight, self.load_factor, self.q, self.wing_area),
+        return require("cl", lf.lift_coefficient(self.weight, self.load_factor, self.q, self.wing_area),
                         "the lift equation has no finite CL here.")
 
     @cached_property
     def load_factor(self):
         if self.unknown != "load_factor":
             return _load_factor(self.inputs)
-        return _primary("load_factor", lf.load_factor_supported(self.q, self.wing_area, self.cl, self.weight),
+        return require("load_factor", lf.load_factor_supported(self.q, self.wing_area, self.cl, self.weight),
                         "the lift equation has no finite load factor here.")
 
     @cached_property
@@ -150,7 +143,7 @@ class _Solve:
         if self.unknown == "altitude":
             return self._altitude_solve()[1]
         if self.unknown == "speed":
-            eas = _primary("eas", lf.eas_from_dynamic_pressure(self.q), "the lift equation has no finite speed here.")
+            eas = require("eas", lf.eas_from_dynamic_pressure(self.q), "the lift equation has no finite speed here.")
             return Speeds(self.air, "eas", eas)
         return Speeds(self.air, self.kind, self._given(self.kind), self.inputs.get("calibration"))
 
@@ -183,14 +176,14 @@ class _Solve:
             self.result.warn("pressure_altitude", "At a given CAS the dynamic pressure falls only slowly with "
                              "altitude, so this altitude is very sensitive to the inputs: 1 % in weight, CL or speed "
                              "can move it by thousands of feet. Prefer a Mach number or TAS where one is known.")
-        speeds.air = air.air_at(self.inputs, _primary("pressure_altitude", H, reason))
+        speeds.air = air.air_at(self.inputs, require("pressure_altitude", H, reason))
         self.__dict__["air"], self.__dict__["speeds"] = speeds.air, speeds
         return speeds.air, speeds
 
     def speed(self, name: str):
         values = getattr(self.speeds, name)
         if self.unknown == "speed":
-            return _primary(name, values, f"the {name} for this q does not exist here.")
+            return require(name, values, f"the {name} for this q does not exist here.")
         return _secondary(self.result, name, values, f"No {name} for the given speed here.")
 
     def angle_of_attack(self):
@@ -202,9 +195,9 @@ class _Solve:
         with np.errstate(invalid="ignore"):
             beyond = np.abs(alpha) >= _RIGHT_ANGLE
             transonic = self.speeds.mach > DATCOM_MACH_WARNING
-        if np.any(beyond):
+        if any_true(beyond):
             alpha = self.result.null_where("angle_of_attack", alpha, _BEYOND_RIGHT_ANGLE, beyond)
-        if np.any(transonic & np.isfinite(alpha)):
+        if any_true(transonic & np.isfinite(alpha)):
             self.result.warn("angle_of_attack", _TRANSONIC, transonic & np.isfinite(alpha))
         return alpha
 
@@ -284,7 +277,7 @@ def _stall_eas(inputs: Inputs, state: Air, n):
         air.check_altitude_range(H_ref, "reference/altitude")
     # CAS -> EAS depends on the static pressure only, so the standard day at the reference altitude serves.
     ref_eas = Speeds(Air(H_ref), "cas", _block(inputs, "reference", "stall_speed")).eas
-    ref_eas = _primary("stall", ref_eas, "the reference stall speed has no EAS at its altitude.")
+    ref_eas = require("stall", ref_eas, "the reference stall speed has no EAS at its altitude.")
     W_ref = _block(inputs, "reference", "weight")
     return lf.scale_stall_eas(ref_eas, W, W_ref), lf.scale_stall_eas(ref_eas, W, W_ref, n)
 
@@ -292,7 +285,7 @@ def _stall_eas(inputs: Inputs, state: Air, n):
 def _speed_values(speeds: Speeds, output: str) -> dict:
     """EAS, CAS, TAS and Mach of a stall speed (or a multiple): SI values and dimension."""
     def kind(name):
-        return _primary(output, getattr(speeds, name), f"no {name} for this speed here.")
+        return require(output, getattr(speeds, name), f"no {name} for this speed here.")
     return {"eas": (kind("eas"), "speed"), "cas": (kind("cas"), "speed"), "tas": (kind("tas"), "speed"),
             "mach": (kind("mach"), None)}
 
@@ -327,15 +320,15 @@ def stall(inputs):
             {"factor": Leaf(factors[i]), **{key: Leaf(rows[i], dim) for key, (rows, dim) in values.items()},
              "cl_fraction": Leaf(fractions[i])}
             for i in range(factors.size)])
-        if np.any(factors < 1.0):
+        if any_true(factors < 1.0):
             result.warn("multiples", "A speed factor below 1 is below the stall speed: CL/CLmax is above 1 there.")
     kind = given_speed(inputs)
     if kind is not None and inputs.wants("margin"):
         eas = Speeds(state, kind, inputs.si(kind), inputs.get("calibration")).eas
-        eas = _primary("margin", eas, f"the {kind} given has no EAS here.")
+        eas = require("margin", eas, f"the {kind} given has no EAS here.")
         stall_n = lf.stall_load_factor(eas, vs_1g)
         fraction = lf.cl_fraction(eas / vs_n)
-        if np.any(fraction > 1.0):
+        if any_true(fraction > 1.0):
             result.warn("margin.cl_fraction", "The speed is below the stall speed at this load factor: CL/CLmax "
                                               "is above 1.", fraction > 1.0)
         result.add_tree("margin", {
@@ -368,7 +361,7 @@ def curve(inputs):
     mach = inputs.si("mach")
     kappa = _kappa(inputs.si("airfoil_efficiency"), inputs.si("airfoil_lift_slope"))
     slope = wing.lift_slope(inputs.si("aspect_ratio"), inputs.si("sweep_half_chord"), mach, kappa)
-    if np.any(mach > DATCOM_MACH_WARNING):
+    if any_true(mach > DATCOM_MACH_WARNING):
         result.warn("lift_slope", _TRANSONIC, mach > DATCOM_MACH_WARNING)
     alpha0 = inputs.si("zero_lift_angle", 0.0)
     values = {"lift_slope": slope}
@@ -380,7 +373,7 @@ def curve(inputs):
         values["cl"] = inputs.si("cl")
         if inputs.wants("angle_of_attack"):
             alpha = wing.angle_from_cl(values["cl"], slope, alpha0)
-            values["angle_of_attack"] = _primary("angle_of_attack", np.where(np.abs(alpha) < _RIGHT_ANGLE, alpha,
+            values["angle_of_attack"] = require("angle_of_attack", np.where(np.abs(alpha) < _RIGHT_ANGLE, alpha,
                                                                              np.nan), _BEYOND_RIGHT_ANGLE)
     if "cl" in values and "cl_max" in inputs:
         values["beyond_stall"] = values["cl"] > inputs.si("cl_max")

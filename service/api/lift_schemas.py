@@ -12,8 +12,9 @@ import marshmallow as ma
 
 from service.api import air
 from service.api.examples import NR200_WING
-from service.api.fields import Number, Quantity, any_true, parse_numbers
+from service.api.fields import Number, Quantity, parse_numbers
 from service.api.inputs import ComputeSchema, outputs_field
+from service.api.masks import any_true, first_indices
 from service.api.rules import Cases, Either, Given, Never, NoneOf, NotTogether, OutputNeeds, RuleSchema
 from service.api.schemas import FlagOut, LabelOut, quantity_out, ratio_out, response_schema
 from service.api.speeds import (
@@ -115,7 +116,7 @@ class SpeedFactors(ma.fields.Field):
             raise ma.ValidationError(f"At most {MAX_SPEED_FACTORS} factors per request.")
         bad = factors <= 0.0
         if any_true(bad):
-            raise ma.ValidationError({int(i): ["Must be above 0."] for i in bad.nonzero()[0][:10]})
+            raise ma.ValidationError({i: ["Must be above 0."] for i in first_indices(bad)})
         return factors
 
     def openapi(self):

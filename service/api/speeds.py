@@ -11,9 +11,11 @@ import numpy as np
 
 from service.api.air import Air
 from service.api.examples import NR200_CALIBRATION
-from service.api.fields import Number, Quantity, any_true, parse_numbers
-from service.api.inputs import Inputs, first_indices, no_solution
+from service.api.fields import Number, Quantity, parse_numbers
+from service.api.inputs import Inputs
 from service.api.lazy import lazy
+from service.api.masks import any_true, first_indices
+from service.api.outputs import require
 from service.api.problems import invalid
 from service.api.rules import ExactlyOne, Needs, NotTogether
 from service.physics import airspeed as spd
@@ -146,7 +148,7 @@ class Speeds:
         if kind == "ias":
             cas = spd.ias_to_cas(value, *calibration)
             outside = np.isnan(cas)
-            if np.any(outside):
+            if any_true(outside):
                 lo, hi = from_si(calibration[0][[0, -1]], "speed", "kt")
                 at = f" at points {first_indices(outside)}" if np.ndim(outside) else ""
                 raise invalid([{"pointer": "/ias", "message": f"IAS outside the calibration table's IAS column, "
@@ -192,9 +194,5 @@ class Speeds:
 
     def require(self, name: str):
         """Output ``name``; a 422 when a primary speed does not exist at some point."""
-        values = getattr(self, name)
-        missing = np.isnan(values)
-        if any_true(missing):
-            raise no_solution(name, missing, f"the {self.kind} given has no {name} here "
-                                             "(beyond the range of the airspeed relations).")
-        return values
+        return require(name, getattr(self, name), f"the {self.kind} given has no {name} here "
+                                                  "(beyond the range of the airspeed relations).")
