@@ -12,7 +12,7 @@ from service.api.inputs import ComputeSchema, outputs_field
 from service.api.masks import any_true, first_indices
 from service.api.outputs import Leaf, Result, no_solution, unit_for
 from service.api.rules import Given, OutputNeeds
-from service.api.schemas import LabelOut, quantity_out, ratio_out, response_schema
+from service.api.schemas import LabelOut, quantity_out, response_schema
 from service.api.speeds import (
     IAS_NEEDS_CALIBRATION,
     KINDS,
@@ -69,7 +69,7 @@ _ONE_OF = "Give exactly one of `ias`, `cas`, `eas`, `tas`, `mach`."
 
 
 class AirspeedRequest(ComputeSchema):
-    OUTPUTS = tuple(OUTPUTS)
+    OUTPUTS = OUTPUTS
     RULES = (one_speed(f"Give one speed: {', '.join(KINDS)}."), IAS_NEEDS_CALIBRATION,
              OutputNeeds("ias", Given("calibration"),
                          "The output ias needs `calibration` (the airspeed system's IAS -> CAS table)."))
@@ -83,17 +83,14 @@ class AirspeedRequest(ComputeSchema):
     isa_deviation = air.isa_deviation_field()
     temperature = air.temperature_field()
     calibration = calibration_field()
-    outputs = outputs_field(tuple(OUTPUTS))
+    outputs = outputs_field(OUTPUTS)
 
 
 AirspeedAtmosphere = type("AirspeedAtmosphere", (ma.Schema,), {
     name: quantity_out(desc) for name, (_, desc, _) in ATMOSPHERE.items()})
 
-AirspeedResponse = response_schema("AirspeedResponse", {
-    **{name: (quantity_out(desc) if dim else ratio_out(desc))
-       for name, (dim, desc) in OUTPUTS.items() if name != "atmosphere"},
-    "atmosphere": ma.fields.Nested(AirspeedAtmosphere, metadata={"description": OUTPUTS["atmosphere"][1]}),
-}, inputs=AirspeedRequest)
+AirspeedResponse = response_schema("AirspeedResponse", OUTPUTS, AirspeedRequest, fields={
+    "atmosphere": ma.fields.Nested(AirspeedAtmosphere, metadata={"description": OUTPUTS["atmosphere"][1]})})
 
 
 
@@ -116,15 +113,15 @@ def airspeed(inputs):
                     inputs.get("calibration"))
     for name in inputs.outputs:
         if name in PRIMARY:
-            result.add(name, speeds.require(name), OUTPUTS[name][0])
+            result.add(name, speeds.require(name))
         elif name == "atmosphere":
             result.add_tree(name, {key: Leaf(getattr(speeds.air, attr), dim)
                                    for key, (dim, _, attr) in ATMOSPHERE.items()})
         elif name == "ias":
             if speeds.calibration is not None:
-                result.add(name, result.null_where(name, speeds.ias, _outside_table(inputs)), "speed")
+                result.add(name, result.null_where(name, speeds.ias, _outside_table(inputs)))
         else:
-            result.add(name, getattr(speeds, _SOURCE[name]), OUTPUTS[name][0])
+            result.add(name, getattr(speeds, _SOURCE[name]))
     return result.response()
 
 
@@ -151,17 +148,16 @@ CROSSOVER_OUTPUTS = {
 
 
 class CrossoverRequest(ComputeSchema):
-    OUTPUTS = tuple(CROSSOVER_OUTPUTS)
+    OUTPUTS = CROSSOVER_OUTPUTS
 
     cas = speed_field("cas", "The CAS of the pair. Arrays allowed.")
     cas.required = True  # the shared field factories make optional fields
     mach = mach_field("The Mach number of the pair.")
     mach.required = True
-    outputs = outputs_field(tuple(CROSSOVER_OUTPUTS))
+    outputs = outputs_field(CROSSOVER_OUTPUTS)
 
 
-CrossoverResponse = response_schema("CrossoverResponse", {
-    name: quantity_out(desc) for name, (_, desc) in CROSSOVER_OUTPUTS.items()}, inputs=CrossoverRequest)
+CrossoverResponse = response_schema("CrossoverResponse", CROSSOVER_OUTPUTS, CrossoverRequest)
 
 
 _RANGE = (f"the model's range of pressure altitudes, {H_MIN:.0f} m ({H_MIN / FT:.0f} ft) to {H_MAX:.0f} m "
@@ -201,9 +197,9 @@ def crossover(inputs):
         raise no_solution("crossover_altitude", missing, "the CAS and the Mach number given are the same speed "
                                                          f"only {_beyond_model(cas, mach, missing)}.")
     if inputs.wants("crossover_altitude"):
-        result.add("crossover_altitude", H, "altitude")
+        result.add("crossover_altitude", H)
     if inputs.wants("pressure"):
-        result.add("pressure", p, "pressure")
+        result.add("pressure", p)
     return result.response()
 
 
@@ -225,7 +221,7 @@ _SCHEDULE_SPEEDS = ("governing", "cas", "mach", "tas", "eas")
 
 
 class ScheduleRequest(ComputeSchema):
-    OUTPUTS = tuple(SCHEDULE_OUTPUTS)
+    OUTPUTS = SCHEDULE_OUTPUTS
 
     cas = speed_field("cas", "The schedule's CAS, flown below the crossover altitude. Arrays allowed.")
     cas.required = True
@@ -234,13 +230,11 @@ class ScheduleRequest(ComputeSchema):
     altitude = air.altitude_field(_ALTITUDE)
     isa_deviation = air.isa_deviation_field()
     temperature = air.temperature_field()
-    outputs = outputs_field(tuple(SCHEDULE_OUTPUTS))
+    outputs = outputs_field(SCHEDULE_OUTPUTS)
 
 
-ScheduleResponse = response_schema("ScheduleResponse", {
-    name: (LabelOut(["cas", "mach"], metadata={"description": desc}) if name == "governing"
-           else quantity_out(desc) if dim else ratio_out(desc))
-    for name, (dim, desc) in SCHEDULE_OUTPUTS.items()}, inputs=ScheduleRequest)
+ScheduleResponse = response_schema("ScheduleResponse", SCHEDULE_OUTPUTS, ScheduleRequest, fields={
+    "governing": LabelOut(["cas", "mach"], metadata={"description": SCHEDULE_OUTPUTS["governing"][1]})})
 
 
 @blp.route("/airspeed/schedule", methods=["POST"])
@@ -266,7 +260,7 @@ def schedule(inputs):
         for name in _SCHEDULE_SPEEDS:
             if inputs.wants(name):
                 values = np.where(flown.governing_mach, "mach", "cas") if name == "governing" else getattr(flown, name)
-                result.add(name, values, SCHEDULE_OUTPUTS[name][0])
+                result.add(name, values)
     if inputs.wants("crossover_altitude"):
         H = spd.crossover_altitude(cas, mach)
         missing = np.isnan(H)
@@ -274,5 +268,5 @@ def schedule(inputs):
             where = _beyond_model(cas, mach, missing, indices=False)
             H = result.null_where("crossover_altitude", H, f"The CAS and the Mach number given cross only {where}. "
                                                            "The schedule holds that lower speed throughout.")
-        result.add("crossover_altitude", H, "altitude")
+        result.add("crossover_altitude", H)
     return result.response()

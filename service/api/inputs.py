@@ -111,15 +111,16 @@ class StrictBoolean(ma.fields.Boolean):
 class ComputeSchema(RuleSchema):
     """Base of every compute request: output units, output selection, grid.
 
-    Subclasses list their output names in ``OUTPUTS``; every numeric top-level field is an
-    axis of the grid, in field order.
+    Subclasses list their outputs in ``OUTPUTS`` ({name: (dimension or None, description)}, in the
+    answer's order; or a tuple of names when they are nested) and their rules in ``RULES``
+    (api.rules); every numeric top-level field is an axis of the grid, in field order.
     """
 
     class Meta:
         unknown = ma.RAISE
         ordered = True
 
-    OUTPUTS: tuple[str, ...] = ()
+    OUTPUTS: dict | tuple[str, ...] = ()
 
     def __init__(self, *args, **kwargs):
         super().__init__(*args, **kwargs)
@@ -167,8 +168,9 @@ class ComputeSchema(RuleSchema):
         return Inputs(data, self.AXES, self.OUTPUTS)
 
 
-def outputs_field(names: tuple[str, ...]) -> ma.fields.List:
+def outputs_field(names) -> ma.fields.List:
     """The ``outputs`` selection field for a schema whose outputs are ``names`` (enum and minItems in the spec)."""
+    names = tuple(names)
     valid = ", ".join(names)
     return ma.fields.List(
         ma.fields.String(validate=ma.validate.OneOf(names, error=f"Unknown output {{input!r}}; valid: {valid}.")),
@@ -180,11 +182,13 @@ def outputs_field(names: tuple[str, ...]) -> ma.fields.List:
 class Inputs:
     """A loaded request: the values by field name, broadcast or gridded, and the output choices."""
 
-    def __init__(self, data: dict, axes: tuple[str, ...], outputs: tuple[str, ...]):
+    def __init__(self, data: dict, axes: tuple[str, ...], outputs: dict | tuple[str, ...]):
         self.output_units: dict = data.pop("output_units", None) or {}
         self.grid: bool = data.pop("grid", False)
         wanted = data.pop("outputs", None)
-        self.outputs: tuple[str, ...] = tuple(wanted) if wanted is not None else outputs
+        self.outputs: tuple[str, ...] = tuple(wanted) if wanted is not None else tuple(outputs)
+        #: Output name -> its dimension (None: a bare number), from the schema's OUTPUTS table.
+        self.dimensions: dict = {name: spec[0] for name, spec in outputs.items()} if isinstance(outputs, dict) else {}
         self.data = data
         self.axes = axes
         self.shape: tuple[int, ...] = ()

@@ -76,8 +76,8 @@ class Result:
         return self.inputs.wants(name)
 
     def add(self, name: str, si, dimension: str | None = None):
-        """Add output ``name`` (SI values); ``dimension`` None for a bare number."""
-        self.tree[name] = Leaf(si, dimension)
+        """Add output ``name`` (SI values) of ``dimension`` (default: its dimension in the schema's OUTPUTS)."""
+        self.tree[name] = Leaf(si, dimension or self.inputs.dimensions.get(name))
 
     def add_tree(self, name: str, tree):
         """Add a nested output: a dict (or list of dicts) of Leafs."""
