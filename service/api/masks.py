@@ -1,18 +1,16 @@
-"""Boolean masks over the points of a request, as errors and warnings report them."""
+"""Boolean masks over the points of a request, as errors and warnings report them (``any_true`` is the
+physics' own, service.physics.arrays)."""
 
 from __future__ import annotations
 
 import numpy as np
 
+from service.physics.arrays import any_true
+
+__all__ = ["MAX_REPORTED", "any_true", "first_indices"]
+
 #: How many indices an error or a warning lists (the first ones).
 MAX_REPORTED = 10
-
-
-def any_true(mask) -> bool:
-    """``mask.any()``, without NumPy's Python-level reduction wrapper for a 0-d mask (one point)."""
-    if type(mask) is bool:
-        return mask
-    return bool(mask.any()) if mask.ndim else bool(mask)
 
 
 def first_indices(mask) -> list[int]:
