@@ -22,7 +22,7 @@ from service import server
 METRICS_DIR_VARIABLE = "PROMETHEUS_MULTIPROC_DIR"
 
 try:
-    settings = qbar_config.load()
+    _settings = qbar_config.load()
 except qbar_config.ConfigError as error:
     raise SystemExit(str(error)) from None
 
@@ -94,10 +94,10 @@ def child_exit(arbiter, worker):
 # CPU: the work is CPU-bound NumPy plus JSON, so processes are what scale it; QBAR_WORKERS
 # defaults to the CPUs available and the Deployment passes its CPU limit.
 worker_class = "gevent"
-workers = settings["QBAR_WORKERS"]
-worker_connections = settings["QBAR_CONNECTIONS"]  # open connections per worker, then the backlog
-bind = [settings["QBAR_BIND"]]
-loglevel = settings["QBAR_LOG_LEVEL"].lower()
+workers = _settings["QBAR_WORKERS"]
+worker_connections = _settings["QBAR_CONNECTIONS"]  # open connections per worker, then the backlog
+bind = [_settings["QBAR_BIND"]]
+loglevel = _settings["QBAR_LOG_LEVEL"].lower()
 backlog = 256
 
 # Load the app once in the master, before forking: the workers share the loaded modules' memory.

@@ -31,6 +31,7 @@ from gunicorn.glogging import Logger
 from gunicorn.http import errors as gunicorn_errors
 from gunicorn.http import wsgi as gunicorn_wsgi
 from gunicorn.workers import ggevent
+from prometheus_client import multiprocess as prometheus_multiprocess
 from prometheus_client.mmap_dict import MmapedDict
 
 from service.api.problems import Problem, problem_document
@@ -259,8 +260,10 @@ def archive_dead_worker(path, pid) -> int:
     same key keeps every total exact. prometheus-client has no public API for this: its
     ``MmapedDict`` (the file format it uses itself) reads and writes the files. The archive is
     written beside and renamed into place, so a scrape sees the old archive or the new one.
-    Returns the number of files removed.
+    Its live gauges (none in qbar today) are dropped, as prometheus-client's mark_process_dead does.
+    Returns the number of counter and histogram files removed.
     """
+    prometheus_multiprocess.mark_process_dead(pid, path)
     removed = 0
     for kind in ADDITIVE_KINDS:
         dead = os.path.join(path, f"{kind}_{pid}.db")
