@@ -25,7 +25,7 @@ from typing import NoReturn
 EXIT_CONFIG = 4
 
 #: The settings only the server reads (service/gunicorn_conf.py through :func:`load`), not the app.
-SERVER_SETTINGS = ("QBAR_WORKERS", "QBAR_CONNECTIONS", "QBAR_BIND")
+SERVER_SETTINGS = ("QBAR_WORKERS", "QBAR_CONNECTIONS", "QBAR_BIND", "QBAR_HEADER_TIMEOUT", "QBAR_BODY_TIMEOUT")
 MAX_WORKERS = 128
 #: Where `qbar serve` listens unless told otherwise (the image sets QBAR_BIND=0.0.0.0:8080).
 DEFAULT_BIND = "127.0.0.1:8080"
@@ -161,10 +161,13 @@ SETTINGS: dict[str, tuple[object, Callable]] = {
     "QBAR_LOG_LEVEL": ("INFO", _log_level),
     "QBAR_COMMIT": (None, _commit),  # default: service/_build.py, see load()
     # The server's (service/gunicorn_conf.py): worker processes (default: the CPUs available, see
-    # load()), open connections per worker, the address to listen on.
+    # load()), open connections per worker, the address to listen on, and the seconds a request's
+    # head (also the idle time of a kept-alive connection) and its body may take to arrive.
     "QBAR_WORKERS": (None, lambda n, r: _int(n, r, 1, MAX_WORKERS)),
     "QBAR_CONNECTIONS": (1000, lambda n, r: _int(n, r, 10, 100_000)),
     "QBAR_BIND": (DEFAULT_BIND, _bind),
+    "QBAR_HEADER_TIMEOUT": (15, lambda n, r: _int(n, r, 1, 300)),
+    "QBAR_BODY_TIMEOUT": (30, lambda n, r: _int(n, r, 1, 600)),
 }
 
 

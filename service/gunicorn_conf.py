@@ -74,7 +74,7 @@ def _refusing(arbiter, queued):
 
 def post_worker_init(worker):
     """Worker, app loaded: problem documents for the server's own errors, no Server header, body deadline."""
-    server.install(worker)
+    server.install(worker, body_timeout=_settings["QBAR_BODY_TIMEOUT"])
 
 
 def child_exit(arbiter, worker):
@@ -103,14 +103,15 @@ backlog = 256
 # Load the app once in the master, before forking: the workers share the loaded modules' memory.
 preload_app = True
 
-# Time limits. keepalive: the whole request head (line and headers) must arrive within it, on a
-# new connection and between requests on a kept-alive one (the gevent worker times the head
-# read with it); an idle connection is closed after it. A proxy in front must keep its idle
-# upstream connections for less than this. The body: service.server.BODY_TIMEOUT.
-# timeout: a worker silent for 30 s is stuck (a request takes well under a second).
+# Time limits. keepalive (QBAR_HEADER_TIMEOUT, 15 s): the whole request head (line and headers)
+# must arrive within it, on a new connection and between requests on a kept-alive one (the
+# gevent worker times the head read with it); an idle connection is closed after it, so a proxy
+# in front must keep its idle upstream connections for less. The body: QBAR_BODY_TIMEOUT (30 s,
+# service.server.BodyDeadline). timeout: a worker silent for 30 s is stuck (a request takes well
+# under a second).
 # graceful_timeout: on SIGTERM the workers finish what they accepted within it; Kubernetes'
 # terminationGracePeriodSeconds must exceed the preStop pause plus this (tests/test_deploy.py).
-keepalive = 15
+keepalive = _settings["QBAR_HEADER_TIMEOUT"]
 timeout = 30
 graceful_timeout = 20
 # The request head's size: gunicorn's defaults, said here (414 and 431 problem documents over them).

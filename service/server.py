@@ -37,9 +37,6 @@ from prometheus_client.mmap_dict import MmapedDict
 from service.api.problems import Problem, problem_document
 from service.logs import JsonFormatter, utc_time
 
-#: Seconds a request's body may take to arrive, counted from its head (a client sending a byte
-#: a second is cut off here; 8 MiB, the body limit, in 30 s is 280 kB/s).
-BODY_TIMEOUT = 30.0
 CLOSE = {"Connection": "close"}  # after a body that was not read to its end
 
 # --- logs: one JSON object per line ---------------------------------------------------------
@@ -143,13 +140,14 @@ class DeadlineInput:
     close the connection. Raised as the app's Problem, whoever reads the body.
     """
 
-    def __init__(self, stream, deadline: float):
+    def __init__(self, stream, deadline: float, seconds: float):
         self._stream = stream
         self._deadline = deadline
+        self._seconds = seconds
 
     def _call(self, method, *args):
-        timeout = Problem("request-timeout", f"The body did not arrive within {BODY_TIMEOUT:g} s of the request's "
-                          "head.", headers=CLOSE)
+        timeout = Problem("request-timeout", f"The body did not arrive within {self._seconds:g} s of the "
+                          "request's head.", headers=CLOSE)
         remaining = self._deadline - time.monotonic()
         if remaining <= 0:
             raise timeout
@@ -175,15 +173,30 @@ class DeadlineInput:
 
 
 class BodyDeadline:
-    """WSGI middleware: the body of each request must arrive within ``seconds`` of its head."""
+    """WSGI middleware: the body of each request must arrive within ``seconds`` of its head (QBAR_BODY_TIMEOUT).
 
-    def __init__(self, app, seconds: float = BODY_TIMEOUT):
+    With the 30 s default, the 8 MiB body limit needs 280 kB/s; a client sending a byte a second is cut off.
+    An answer the app marks ``Connection: close`` (a body refused unread: 408, 413, a bad chunk) closes
+    the connection: gunicorn drops that header from the app as hop-by-hop and would otherwise read
+    and discard the rest of the body before the next request; its response's ``force_close()`` is
+    reached through the ``start_response`` it passes (a bound method of that response).
+    """
+
+    def __init__(self, app, seconds: float):
         self.app = app
         self.seconds = seconds
 
     def __call__(self, environ, start_response):
-        environ["wsgi.input"] = DeadlineInput(environ["wsgi.input"], time.monotonic() + self.seconds)
-        return self.app(environ, start_response)
+        environ["wsgi.input"] = DeadlineInput(environ["wsgi.input"], time.monotonic() + self.seconds, self.seconds)
+
+        def start(status, headers, exc_info=None):
+            if status[0] != "2" and ("Connection", "close") in headers:
+                response = getattr(start_response, "__self__", None)
+                if hasattr(response, "force_close"):
+                    response.force_close()
+            return start_response(status, headers, exc_info)
+
+        return self.app(environ, start)
 
 
 class StoppingStreamServer(ggevent.StreamServer):
@@ -205,13 +218,13 @@ class StoppingStreamServer(ggevent.StreamServer):
             return None
 
 
-def install(worker):
+def install(worker, body_timeout: float):
     """In a worker, once its app is loaded: problem documents for gunicorn's own errors, no Server
     header, the body deadline around the app, quiet listeners at a stop."""
     gunicorn_util.write_error = write_problem
     ggevent.StreamServer = StoppingStreamServer
     drop_server_header()
-    worker.wsgi = BodyDeadline(worker.wsgi)
+    worker.wsgi = BodyDeadline(worker.wsgi, body_timeout)
 
 
 # --- start-up checks --------------------------------------------------------------------------

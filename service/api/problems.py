@@ -260,7 +260,8 @@ def invalid(errors: dict | list, detail: str | None = None, slug: str = "validat
 
 def problem_document(status: int, detail: str) -> bytes:
     """The body of a problem document for ``status`` outside the app (the HTTP server's own errors)."""
-    kind = _BY_STATUS.get(status) or (KINDS["bad-request"] if status < 500 else KINDS["internal"])
+    kind = KINDS["bad-request"] if status == 400 else _BY_STATUS.get(status)
+    kind = kind or (KINDS["bad-request"] if status < 500 else KINDS["internal"])
     return orjson.dumps({"type": type_uri(kind.slug), "title": kind.title, "status": status,
                          "detail": bounded(detail)})
 
