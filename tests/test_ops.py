@@ -388,6 +388,12 @@ def test_each_app_has_its_own_registry():
     ("QBAR_CORS_ORIGINS", "https://efb.example.com/app", "no path"),
     ("QBAR_LOG_LEVEL", "loud", "not one of"),
     ("QBAR_COMMIT", "abc def", "commit"),
+    ("QBAR_WORKERS", "0", "outside"),
+    ("QBAR_WORKERS", "many", "not a whole number"),
+    ("QBAR_CONNECTIONS", "5", "outside"),
+    ("QBAR_BIND", "8080", "HOST:PORT"),
+    ("QBAR_BIND", "127.0.0.1:70000", "HOST:PORT"),
+    ("QBAR_BIND", "bad host:80", "HOST:PORT"),
 ])
 def test_an_invalid_setting_exits_with_one_line(monkeypatch, capsys, variable, value, words):
     monkeypatch.setenv(variable, value)
@@ -415,10 +421,27 @@ def test_a_misspelt_variable_is_refused_with_a_suggestion(monkeypatch, capsys):
     assert KEY_OLD not in err
 
 
-def test_server_variables_are_known(monkeypatch):
-    for name in settings.SERVER_SETTINGS:
-        monkeypatch.setenv(name, "2" if name != "QBAR_BIND" else "127.0.0.1:8080")
+def test_server_variables_are_read_by_the_one_config(monkeypatch):
+    monkeypatch.setenv("QBAR_WORKERS", "3")
+    monkeypatch.setenv("QBAR_CONNECTIONS", "50")
+    monkeypatch.setenv("QBAR_BIND", "[::]:9000")
+    loaded = settings.load()
+    assert (loaded["QBAR_WORKERS"], loaded["QBAR_CONNECTIONS"], loaded["QBAR_BIND"]) == (3, 50, "[::]:9000")
     assert create_app({"TESTING": True}).config["QBAR_MAX_POINTS"] == 200_000
+
+
+def test_workers_default_to_the_cpus_the_standard_library_reports(monkeypatch):
+    monkeypatch.delenv("QBAR_WORKERS", raising=False)
+    monkeypatch.setattr(settings.os, "sched_getaffinity", lambda pid: {0, 1, 2}, raising=False)
+    monkeypatch.setattr(settings.os, "process_cpu_count", lambda: 3, raising=False)
+    assert settings.load()["QBAR_WORKERS"] == settings.available_cpus() == 3
+
+
+def test_the_old_threads_setting_is_refused_by_name(monkeypatch, capsys):
+    monkeypatch.setenv("QBAR_THREADS", "2")  # gthread's; the gevent workers have no threads
+    with pytest.raises(SystemExit):
+        create_app()
+    assert capsys.readouterr().err.startswith("QBAR_THREADS: not a qbar setting")
 
 
 @pytest.mark.parametrize("value", ["", "   "])

@@ -16,54 +16,79 @@ import orjson
 from flask import current_app, request
 
 from service.api.fields import Number, OutputUnits, Value
-from service.api.problems import Problem, flatten_messages, invalid, pointer
+from service.api.problems import Problem, echo, flatten_messages, invalid, pointer
 from service.api.rules import RuleSchema
 
 JSON_MEDIA_TYPES = ("application/json",)
+CLOSE = {"Connection": "close"}  # a body left unread: the connection cannot carry another request
+
+
+#: JSON nested deeper than this is refused (orjson's own limit; qbar's inputs nest three levels at most).
+MAX_JSON_DEPTH = 1024
+#: A JSON integer with more digits than this is read as a float (infinity beyond 1.8e308), which the
+#: fields refuse with a pointer: Python's int() gives up at 4300 digits, and no input needs 400.
+MAX_INT_DIGITS = 400
 
 
 def _reject_constant(name):
     raise ValueError(f"{name} is not valid JSON")
 
 
+def _parse_int(text: str):
+    return int(text) if len(text) <= MAX_INT_DIGITS else float(text)
+
+
+def _too_deep() -> Problem:
+    return invalid([{"pointer": "", "message": f"The body nests arrays or objects deeper than {MAX_JSON_DEPTH} "
+                                               "levels; qbar's inputs nest three levels at most."}])
+
+
 def decode_json(body: bytes):
     """Decode a JSON body strictly (no NaN/Infinity); Problem 400 when it is not JSON.
 
     orjson refuses numbers beyond the float range; the standard library reads them as
-    infinity, which the fields then refuse with a pointer (a 422, not a 400).
+    infinity (integers of any length too, see MAX_INT_DIGITS), which the fields then refuse
+    with a pointer (a 422, not a 400). Nesting deeper than MAX_JSON_DEPTH is a 422 whatever the
+    parser (the standard library's would end in a RecursionError).
     """
     try:
         return orjson.loads(body)
     except orjson.JSONDecodeError as first:
+        if str(first).startswith("depth limit"):
+            raise _too_deep() from None
         try:
-            return json.loads(body, parse_constant=_reject_constant)
+            return json.loads(body, parse_constant=_reject_constant, parse_int=_parse_int)
+        except RecursionError:
+            raise _too_deep() from None
         except ValueError as err:
             message = str(err) if "not valid JSON" in str(err) else str(first)
             raise Problem("malformed-json", f"The body is not valid JSON: {message}.") from None
 
 
 def read_json_object() -> dict:
-    """The request body as a dict, after the content-type, size and syntax checks."""
+    """The request body as a dict, after the content-type, size and syntax checks.
+
+    The body is read from the server's input straight (one read of the declared length, or of
+    one byte over the limit for a chunked body): werkzeug's stream wrapper would read in 64 KiB
+    chunks, a Python call per chunk, and cut a chunked body at the limit without a word.
+    """
     mimetype = request.mimetype
     if mimetype not in JSON_MEDIA_TYPES and not mimetype.endswith("+json"):
         shown = mimetype or "none"
         raise Problem("unsupported-media-type",
-                      f"Content-Type is {shown}; send the body as JSON with 'Content-Type: application/json'.")
+                      f"Content-Type is {echo(shown)}; send the body as JSON with 'Content-Type: application/json'.")
     limit = current_app.config["QBAR_MAX_BODY_BYTES"]
     length = request.content_length
     if length is not None and length > limit:
         raise Problem("payload-too-large",
                       f"The body has {length} bytes; the limit is {limit} bytes (QBAR_MAX_BODY_BYTES).",
-                      extra={"limit": limit})
-    if length is not None:
-        # One read of the declared length straight from the server's input: werkzeug's stream
-        # wrapper would read in 64 KiB chunks, a Python call per chunk.
-        body = request.environ["wsgi.input"].read(length)
-    else:
-        body = request.get_data(cache=True)
+                      extra={"limit": limit}, headers=CLOSE)
+    stream = request.environ["wsgi.input"]
+    body = stream.read(length if length is not None else limit + 1)
     if len(body) > limit:
         raise Problem("payload-too-large",
-                      f"The body is over the limit of {limit} bytes (QBAR_MAX_BODY_BYTES).", extra={"limit": limit})
+                      f"The body is over the limit of {limit} bytes (QBAR_MAX_BODY_BYTES).", extra={"limit": limit},
+                      headers=CLOSE)
     if not body.strip():
         raise Problem("malformed-json", "The body is empty: send a JSON object.")
     data = decode_json(body)
