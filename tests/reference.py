@@ -188,7 +188,7 @@ def mach_of_ratio(r: float) -> float:
     """The Mach number with qc / p = r (brentq on pitot_ratio)."""
     if r == 0.0:
         return 0.0
-    lo, hi = (0.0, 1.0) if r <= pitot_ratio(1.0) else (1.0, 60.0)
+    lo, hi = (0.0, 1.0) if r <= pitot_ratio(1.0) else (1.0, 1e4)
     return brentq(lambda M: pitot_ratio(M) - r, lo, hi, xtol=1e-15, rtol=1e-15, maxiter=500)
 
 
