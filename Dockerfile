@@ -60,8 +60,12 @@ ENV QBAR_BIND=0.0.0.0:8080 \
     OMP_NUM_THREADS=1
 
 # The commit the image is built from, for GET /v1/version (empty: unknown). Last, so that a new
-# commit does not rebuild the layers above.
+# commit does not rebuild the layers above. Checked here as the app checks it at start (up to 64
+# letters, digits, . _ + -); the RUN that uses it also keys the layer cache on its value (podman 4's
+# builder would otherwise reuse the ENV and LABEL layers of another commit).
 ARG QBAR_COMMIT=""
+RUN case "$QBAR_COMMIT" in *[!0-9A-Za-z._+-]*) false ;; esac && [ ${#QBAR_COMMIT} -le 64 ] \
+ || { echo "QBAR_COMMIT: expected a commit id (up to 64 letters, digits, . _ + -)" >&2; exit 1; }
 ENV QBAR_COMMIT=${QBAR_COMMIT}
 LABEL org.opencontainers.image.title="qbar" \
       org.opencontainers.image.description="ICAO standard atmosphere, airspeed conversions and the lift equation as a REST service" \

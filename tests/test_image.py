@@ -59,8 +59,8 @@ REQUIRED = os.environ.get("QBAR_IMAGE_TESTS", "") == "required"
 
 # Build products kept between runs: podman's storage (the base image and the build's layers).
 CACHE_DIR = Path(os.environ.get("QBAR_IMAGE_CACHE") or Path.home() / ".cache" / "qbar-image-test")
-# podman's run-time state; a fixed path, because podman's database records it.
-RUN_DIR = Path("/run/qbar-image-test")
+# podman's run-time state: one fixed path per cache (podman's database records it).
+RUN_DIR = Path("/run") / f"qbar-image-test-{hashlib.sha256(str(CACHE_DIR).encode()).hexdigest()[:8]}"
 IMAGE_TAG = "localhost/qbar-image-test:latest"
 # Old build layers (superseded by newer code) are pruned once older than this.
 PRUNE_AFTER = "24h"
