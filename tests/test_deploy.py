@@ -447,14 +447,32 @@ def test_dockerfile_is_multi_stage_on_slim_python():
 def test_builder_makes_wheels_with_the_constraints():
     builder = dockerfile_stages()[0]
     runs = [arguments for keyword, arguments in builder if keyword == "RUN"]
-    assert any(run.startswith("pip wheel") and "-c constraints.txt" in run for run in runs)
+    wheel_runs = [run for run in runs if "pip wheel" in run]
+    assert wheel_runs and all("-c constraints.txt" in run for run in wheel_runs)
+    # One step downloads (the dependencies); the app's wheel is built from them without an index.
+    (download,) = [run for run in wheel_runs if "--no-index" not in run]
+    assert wheel_runs[-1].count("--no-index") == 1 and "cp constraints.txt /wheels/" in wheel_runs[-1]
+
+
+def test_ca_bundle_is_a_secret_of_the_downloading_step_only():
+    """Behind a TLS-intercepting proxy pip needs the proxy's CA: a build secret, never a layer."""
+    builder = dockerfile_stages()[0]
+    runs = [arguments for keyword, arguments in builder if keyword == "RUN"]
+    with_secret = [run for run in runs if "type=secret" in run]
+    assert len(with_secret) == 1 and "pip wheel" in with_secret[0] and "--no-index" not in with_secret[0]
+    assert "id=ca-bundle" in with_secret[0] and "export PIP_CERT=/run/secrets/ca-bundle" in with_secret[0]
+    stages = dockerfile_stages()
+    assert not any("ca-bundle" in arguments or "PIP_CERT" in arguments
+                   for stage in stages[1:] for _, arguments in stage), "the runtime stage never sees the CA bundle"
+    assert not any(keyword == "COPY" and "cert" in arguments.lower()
+                   for stage in stages for keyword, arguments in stage)
 
 
 def test_runtime_installs_only_the_wheel_with_the_constraints():
     runs = [arguments for keyword, arguments in runtime_stage() if keyword == "RUN"]
     (install,) = [run for run in runs if "pip install" in run]
-    assert "--no-index" in install and "-c /tmp/constraints.txt" in install
-    assert "target=/tmp/constraints.txt" in install and "source=constraints.txt" in install
+    assert "--no-index" in install and "-c /wheels/constraints.txt" in install
+    assert "from=builder,source=/wheels,target=/wheels" in install
     name = tomllib.loads((REPO / "pyproject.toml").read_text(encoding="utf-8"))["project"]["name"]
     assert f"/wheels/{name}-*.whl" in install
     assert not any(keyword == "COPY" for keyword, _ in runtime_stage()), "the runtime gets no source"
