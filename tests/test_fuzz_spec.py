@@ -20,7 +20,7 @@ import json
 import jsonschema
 import pytest
 import schemathesis
-from hypothesis import settings
+from hypothesis import HealthCheck, settings
 from schemathesis.checks import positive_data_acceptance
 
 from service import create_app
@@ -121,7 +121,9 @@ def base_url():
 
 
 @schema.parametrize()
-@settings(deadline=None)
+# Generation time depends on the machine's load (CI builds an image in the same run); the data is
+# still generated in full, only the timing health check is off.
+@settings(deadline=None, suppress_health_check=[HealthCheck.too_slow])
 def test_operation_conforms_to_spec(case, base_url):
     headers = {"X-API-Key": KEY}
     response = case.call(base_url=base_url, headers=headers)
