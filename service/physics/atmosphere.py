@@ -761,7 +761,7 @@ def qnh_offset(qnh):
 # Off-standard days
 # --------------------------------------------------------------------------------------------
 
-def temperature_from_deviation(H, dT):
+def temperature_from_deviation(H, dT, T_std=None):
     """Temperature on a day with ISA deviation ``dT``: standard temperature plus ``dT``.
 
     Parameters
@@ -770,6 +770,9 @@ def temperature_from_deviation(H, dT):
         Pressure altitude (geopotential) [m]; callers check the range.
     dT : float or array_like
         ISA deviation [K].
+    T_std : float or array_like, optional
+        The standard temperature at ``H`` when the caller has it already [K] (the layers are then not
+        evaluated again).
 
     Returns
     -------
@@ -790,7 +793,7 @@ def temperature_from_deviation(H, dT):
     ----------
     .. [1] ICAO Doc 7488/3 (1993).
     """
-    return np.add(standard_temperature(H), dT)
+    return np.add(standard_temperature(H) if T_std is None else T_std, dT)
 
 
 def pressure_level_height(H, dT, p=None):
