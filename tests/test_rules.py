@@ -73,7 +73,7 @@ def test_spec_and_check_agree(schema_class, data):
     rules = schema_rules(schema)
     raw, loaded = _request(schema, data.draw)
     by_spec = validator.is_valid(raw)
-    errors = {key: message for rule in rules for key, message in rule.check(loaded).items()}
+    errors = {key: message for rule in rules if rule.check for key, message in rule.check(loaded).items()}
     assert by_spec == (not errors), (raw, errors)
 
 
