@@ -64,7 +64,7 @@ class WarningSchema(ma.Schema):
 
 
 class ProblemSchema(ma.Schema):
-    """RFC 9457 problem document."""
+    """RFC 9457 problem document. Bounded: see service.api.problems.BOUNDS."""
 
     type = ma.fields.String(required=True, metadata={
         "description": "Stable URI of the problem kind, e.g. /problems/validation (GET it for a description)."})
@@ -74,7 +74,9 @@ class ProblemSchema(ma.Schema):
     instance = ma.fields.String(metadata={"description": "The path of the request that failed.",
                                           "example": "/v1/atmosphere"})
     errors = ma.fields.List(ma.fields.Nested(ErrorItemSchema), metadata={
-        "description": "For invalid input: each offending value with a pointer into the request."})
+        "description": "For invalid input: each offending value with a pointer into the request. " + problems.BOUNDS})
+    errors_omitted = ma.fields.Integer(metadata={
+        "description": f"How many further errors were found beyond the {problems.MAX_ERRORS} listed.", "example": 3})
     request_id = ma.fields.String(metadata={"description": "The request id (X-Request-ID) for support."})
     limit = ma.fields.Integer(metadata={"description": "For 413: the limit that was exceeded."})
     field = ma.fields.String(metadata={"description": "For no-solution: the output that does not exist."})
