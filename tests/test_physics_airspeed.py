@@ -27,7 +27,12 @@ from hypothesis import strategies as st
 
 from service.physics import airspeed as asp
 from service.physics.atmosphere import density, standard_pressure, standard_temperature
-from service.physics.constants import A0, FT, GAMMA, KT, P0, R_AIR, RHO0, T0
+from tests import reference as ref
+
+# Typed from the standard and the unit definitions (tests/reference.py), never imported from the code under test.
+FT, KT = 0.3048, 1852.0 / 3600.0  # international foot, knot (exact)
+GAMMA, P0, R_AIR, T0 = ref.KAPPA, ref.P0, ref.R, ref.T0  # ICAO Doc 7488/3
+A0, RHO0 = ref.A0, ref.RHO0  # sqrt(1.4 R T0) = 340.294 m/s, p0 / (R T0) = 1.225 kg/m3
 
 SHAPES = ("scalar", "1d", "2d")
 AEROCALC_RTOL = 5e-6

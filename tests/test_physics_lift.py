@@ -14,7 +14,13 @@ from hypothesis import strategies as st
 from service.physics import lift
 from service.physics.airspeed import cas_from_mach, dynamic_pressure, mach_from_cas, tas_from_eas, tas_from_mach
 from service.physics.atmosphere import density, pressure_altitude, standard_pressure, standard_state
-from service.physics.constants import FT, H_MAX, H_MIN, KT, LBF, RHO0, SLUG
+from tests import reference as ref
+
+# Typed from the unit definitions and the standard (tests/reference.py), never imported from the code under test.
+FT, KT = 0.3048, 1852.0 / 3600.0  # international foot, knot (exact)
+LBF = 4.4482216152605  # 0.45359237 kg x 9.80665 m/s2 (exact)
+SLUG = 14.593902937206364  # lbf s2 / ft (NIST SP 811: 1.459 390 E+01 kg)
+H_MIN, H_MAX, RHO0 = ref.H_LOW, ref.H_TOP, ref.RHO0
 
 SHAPES = [(), (3,), (2, 3)]
 
