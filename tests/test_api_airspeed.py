@@ -451,6 +451,10 @@ def test_unrequested_airspeed_physics_does_not_run(client, monkeypatch):
                                 "outputs": ["mach", "impact_pressure"]})
     assert r.status_code == 200, r.json
     assert list(r.json) == ["mach", "impact_pressure", "warnings"]
+    # The patches are where the service looks: asking for what needs them reaches them (a logged 500).
+    for output in ("ias", "dynamic_pressure", "eas", "tas"):
+        assert post(client, AIRSPEED, {"cas": 250, "altitude": 10000, "calibration": NR200,
+                                       "outputs": [output]}).status_code == 500, output
 
 
 def test_unrequested_schedule_physics_does_not_run(client, monkeypatch):
@@ -460,6 +464,8 @@ def test_unrequested_schedule_physics_does_not_run(client, monkeypatch):
     monkeypatch.undo()
     monkeypatch.setattr(spd, "crossover_altitude", _boom)
     assert post(client, SCHEDULE, body | {"outputs": ["governing", "tas"]}).status_code == 200
+    # The patch is where the service looks: asking for the crossover reaches it (a logged 500).
+    assert post(client, SCHEDULE, body | {"outputs": ["crossover_altitude"]}).status_code == 500
 
 
 def test_crossover_pressure_is_computed_once(client, monkeypatch):

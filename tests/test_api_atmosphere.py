@@ -130,6 +130,10 @@ def test_unselected_physics_does_not_run(client, monkeypatch):
     monkeypatch.setattr(atm, "density_altitude", boom)
     monkeypatch.setattr(atm, "pressure_level_height", boom)
     assert post(client, ATM, {"altitude": 0, "outputs": ["pressure", "density"]}).status_code == 200
+    # The patches are where the service looks (a refactor that moved them would make the check above vacuous):
+    # asking for each output reaches its patched function, a logged 500.
+    for output in ("dynamic_viscosity", "density_altitude", "geometric_altitude"):
+        assert post(client, ATM, {"altitude": 0, "outputs": [output]}).status_code == 500, output
 
 
 def test_density_altitude_beyond_range_is_null_with_warning(client):

@@ -623,6 +623,15 @@ def test_unrequested_physics_does_not_run(client, monkeypatch):
     _forbid(monkeypatch, lf, "stall_load_factor", "cl_fraction", "bank_from_load_factor")
     assert post(client, STALL, {"weight": 22000, "wing_area": 61, "cl_max": 1.6, "altitude": 0, "eas": 150,
                                 "speed_factors": [1.3], "outputs": ["stall"]}).status_code == 200
+    # The patches are where the service looks: asking for what needs them reaches them (a logged 500).
+    assert post(client, STALL, {"weight": 22000, "wing_area": 61, "cl_max": 1.6, "altitude": 0, "eas": 150,
+                                "outputs": ["margin"]}).status_code == 500
+    monkeypatch.undo()
+    _forbid(monkeypatch, atm, "density_altitude")
+    _forbid(monkeypatch, wing, "angle_from_cl")
+    for output in ("density_altitude", "angle_of_attack"):
+        assert post(client, SOLVE, {"solve_for": "cl", **NR200, "mach": 0.45, "altitude": 20000, "wing": wing_block,
+                                    "outputs": [output]}).status_code == 500, output
 
 
 def test_no_nan_anywhere(client):
