@@ -48,6 +48,13 @@ TARGETS = {
                 "tests/test_api_airspeed.py", "tests/test_api_lift.py", "tests/test_bad_inputs.py",
                 "tests/test_edges.py"]),
 }
+#: Functions that run only while the module is imported (tables built once). mutmut forks its workers after the
+#: import, so their mutants are never active in its own run; each surviving one is rechecked here by writing it
+#: into the work copy's source (``mutmut apply``) and running these tests in a fresh interpreter.
+IMPORT_TIME = {
+    "service.physics.atmosphere": (["x__derive_layer_bases", "x__frozen", "x__build_layer_lookup"],
+                                   ["tests/test_physics_atmosphere.py", "tests/test_reference_atmosphere.py"]),
+}
 #: Copied into the work directory (everything the tests read).
 COPY = ["service", "tests", "bench", "openapi", "pyproject.toml", "README.md", "DEVELOPERS.md", "constraints.txt"]
 
@@ -118,6 +125,29 @@ def show(work: Path, name: str) -> str:
         ("+++", "---")))
 
 
+def recheck_import_time(work: Path, statuses: dict[str, str]) -> dict[str, str]:
+    """Survivors in import-time functions, each applied to the work copy and tested in a new interpreter."""
+    verdicts = {}
+    mutmut = str(Path(sys.executable).with_name("mutmut"))
+    for module, (functions, tests) in IMPORT_TIME.items():
+        source = work / (module.replace(".", "/") + ".py")
+        pristine = (ROOT / (module.replace(".", "/") + ".py")).read_text()
+        names = [n for n, s in statuses.items() if s == "survived" and n.startswith(module + ".")
+                 and n.split(".")[-1].split("__mutmut_")[0] in functions]
+        for name in names:
+            try:
+                subprocess.run([mutmut, "apply", name], cwd=work, capture_output=True, check=True)
+                result = subprocess.run(
+                    ["nice", "-n", "19", sys.executable, "-m", "pytest", "-x", "-q", "-p", "no:cacheprovider", "-o",
+                     "addopts=", *tests], cwd=work, capture_output=True, timeout=600, check=False)
+                verdicts[name] = "survived" if result.returncode == 0 else "killed"
+            except subprocess.TimeoutExpired:
+                verdicts[name] = "timeout"
+            finally:
+                source.write_text(pristine)
+    return verdicts
+
+
 def load_equivalent() -> dict[str, dict]:
     if not EQUIVALENT_FILE.exists():
         return {}
@@ -126,6 +156,9 @@ def load_equivalent() -> dict[str, dict]:
 
 def report(work: Path, target: str, seconds: float | None) -> int:
     statuses = results(work) if (work / "mutants").is_dir() else {}
+    rechecked_file = work / "import_time_verdicts.json"
+    rechecked = json.loads(rechecked_file.read_text()) if rechecked_file.exists() else {}
+    statuses.update({n: v for n, v in rechecked.items() if statuses.get(n) == "survived"})
     if not statuses:
         print(f"no mutmut results in {work}", file=sys.stderr)
         return 2
@@ -171,6 +204,8 @@ def main(argv=None) -> int:
     parser.add_argument("--target", choices=sorted(TARGETS), default="physics")
     parser.add_argument("--children", type=int, default=2, help="parallel mutant runs (default 2)")
     parser.add_argument("--report-only", action="store_true", help="print the last run's results")
+    parser.add_argument("--recheck", action="store_true",
+                        help="only recheck the last run's survivors in import-time functions, then report")
     parser.add_argument("--survivors", action="store_true",
                         help="retest only the last run's survivors, against the current tests")
     args = parser.parse_args(argv)
@@ -181,9 +216,12 @@ def main(argv=None) -> int:
         work = prepare(args.target)
         shutil.rmtree(work / "mutants" / "tests", ignore_errors=True)  # mutmut copies the current tests again
         seconds = run(work, args.children, names)
-    elif not args.report_only:
+    elif not (args.report_only or args.recheck):
         work = prepare(args.target)
         seconds = run(work, args.children)
+    if not args.report_only:
+        verdicts = recheck_import_time(work, results(work))
+        (work / "import_time_verdicts.json").write_text(json.dumps(verdicts, indent=1))
     return report(work, args.target, seconds)
 
 
