@@ -22,6 +22,7 @@ tree is never touched; results are cached there by mutmut, so a second run only 
 from __future__ import annotations
 
 import argparse
+import difflib
 import json
 import os
 import re
@@ -119,10 +120,20 @@ def results(work: Path) -> dict[str, str]:
 
 
 def show(work: Path, name: str) -> str:
-    out = subprocess.run([str(Path(sys.executable).with_name("mutmut")), "show", name], cwd=work,
-                         capture_output=True, text=True, check=False).stdout
-    return "\n".join(line for line in out.splitlines() if line.startswith(("+", "-")) and not line.startswith(
-        ("+++", "---")))
+    """The changed lines of mutant ``name``: its function in mutmut's copy against the original (no subprocess)."""
+    module, function = name.rsplit(".", 1)
+    path = work / "mutants" / (module.replace(".", "/") + ".py")
+    if not path.exists():
+        return ""
+    text = path.read_text()
+    base = function.split("__mutmut_")[0]
+
+    def body(fn):
+        match = re.search(rf"^def {re.escape(fn)}\(.*?(?=^\S)", text, flags=re.S | re.M)
+        return match.group(0).splitlines()[1:] if match else []
+
+    diff = difflib.unified_diff(body(f"{base}__mutmut_orig"), body(function), lineterm="", n=0)
+    return "\n".join(line for line in diff if line[:1] in "+-" and not line.startswith(("+++", "---")))
 
 
 def recheck_import_time(work: Path, statuses: dict[str, str]) -> dict[str, str]:
