@@ -62,6 +62,9 @@ def _solve_expected(case):
         else:
             if kind == "mach":
                 H = ref.pressure_altitude(q / (0.7 * si * si))  # q = (kappa / 2) p M^2, kappa = 1.4
+            elif kind == "tas" and "T" in case:  # the gas law gives the pressure: p = rho R T
+                H = ref.pressure_altitude(2.0 * q / (si * si) * ref.R * case["T"])
+                dT = case["T"] - ref.std_tp(H)[0]
             elif kind == "tas":
                 rho = 2.0 * q / (si * si)
                 H = brentq(lambda h: _density_off_standard(h, dT) - rho, -5000.0, 84852.0, xtol=1e-10)
@@ -107,7 +110,9 @@ def _solve_body(case):
         body[case["kind"]] = case["speed"]
     if case["solve_for"] != "altitude":
         body["altitude"] = {"value": case["H"], "unit": "m"}
-    if case.get("dT"):
+    if "T" in case:
+        body["temperature"] = {"value": case["T"], "unit": "K"}
+    elif case.get("dT"):
         body["isa_deviation"] = case["dT"]
     if "bank" in case:
         body["bank_angle"] = case["bank"]
@@ -140,6 +145,7 @@ SOLVES = [
     {"solve_for": "load_factor", "mass": 21000.0, "S": 61.0, "cl": 1.2, "kind": "cas", "speed": 100.0, "H": 7620.0},
     {"solve_for": "altitude", "mass": 21000.0, "S": 61.0, "cl": 0.6, "kind": "mach", "speed": 0.45, "dT": 5.0},
     {"solve_for": "altitude", "mass": 21000.0, "S": 61.0, "cl": 0.6, "kind": "tas", "speed": 270.0, "dT": -7.0},
+    {"solve_for": "altitude", "mass": 21000.0, "S": 61.0, "cl": 0.6, "kind": "tas", "speed": 270.0, "T": 240.0},
     {"solve_for": "altitude", "mass": 21000.0, "S": 61.0, "cl": 0.6, "kind": "cas", "speed": 190.0, "dT": 12.0},
 ]
 
