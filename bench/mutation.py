@@ -25,6 +25,7 @@ import argparse
 import difflib
 import json
 import os
+import random
 import re
 import shutil
 import subprocess
@@ -43,7 +44,8 @@ REFERENCE_TESTS = ["tests/test_reference_atmosphere.py", "tests/test_reference_a
 TARGETS = {
     "physics": (["service/physics/*"],
                 ["tests/test_physics_atmosphere.py", "tests/test_physics_airspeed.py", "tests/test_physics_lift.py",
-                 "tests/test_physics_wing.py", *REFERENCE_TESTS, "tests/test_edges.py"]),
+                 "tests/test_physics_wing.py", "tests/test_physics_contracts.py", *REFERENCE_TESTS,
+                 "tests/test_edges.py"]),
     "shared": (["service/units.py", "service/api/fields.py", "service/api/inputs.py", "service/api/outputs.py"],
                ["tests/test_units.py", "tests/test_fields.py", *REFERENCE_TESTS, "tests/test_api_atmosphere.py",
                 "tests/test_api_airspeed.py", "tests/test_api_lift.py", "tests/test_bad_inputs.py",
@@ -107,6 +109,12 @@ def run(work: Path, children: int, names: list[str] | None = None) -> float:
     return time.monotonic() - start
 
 
+def generate(work: Path) -> None:
+    """Let mutmut write its mutants (a run of no mutant: the name matches none), so they can be listed."""
+    subprocess.run([str(Path(sys.executable).with_name("mutmut")), "run", "none.of.these__mutmut_0"], cwd=work,
+                   capture_output=True, check=False)
+
+
 def results(work: Path) -> dict[str, str]:
     """Mutant name -> status (killed, survived, timeout, suspicious, no tests, skipped, ...)."""
     out = subprocess.run([str(Path(sys.executable).with_name("mutmut")), "results", "--all", "true"], cwd=work,
@@ -167,6 +175,11 @@ def load_equivalent() -> dict[str, dict]:
 
 def report(work: Path, target: str, seconds: float | None) -> int:
     statuses = results(work) if (work / "mutants").is_dir() else {}
+    sample_file = work / "sample.json"
+    sampled = json.loads(sample_file.read_text()) if sample_file.exists() else None
+    if sampled is not None:
+        total = len(statuses)
+        statuses = {n: s for n, s in statuses.items() if n in set(sampled)}
     rechecked_file = work / "import_time_verdicts.json"
     rechecked = json.loads(rechecked_file.read_text()) if rechecked_file.exists() else {}
     statuses.update({n: v for n, v in rechecked.items() if statuses.get(n) == "survived"})
@@ -186,6 +199,9 @@ def report(work: Path, target: str, seconds: float | None) -> int:
     score = killed / denominator if denominator else 0.0
     print(f"qbar mutation score ({target}: {', '.join(TARGETS[target][0])}), mutmut, "
           + (f"{seconds / 60:.1f} min" if seconds is not None else "cached results"))
+    if sampled is not None:
+        print(f"  a seeded random sample of {len(statuses)} of the {total} mutants (--sample); the score is the "
+              "sample's")
     print(f"  mutants              {len(statuses)}  ({', '.join(f'{k} {v}' for k, v in sorted(counts.items()))})")
     print(f"  listed equivalent    {len(listed)}  (bench/mutation_equivalent.json, each with its reason)")
     print(f"  killed               {killed}")
@@ -215,6 +231,9 @@ def main(argv=None) -> int:
     parser.add_argument("--target", choices=sorted(TARGETS), default="physics")
     parser.add_argument("--children", type=int, default=2, help="parallel mutant runs (default 2)")
     parser.add_argument("--report-only", action="store_true", help="print the last run's results")
+    parser.add_argument("--sample", type=int, default=0,
+                        help="test a seeded random sample of this many mutants (0: all); the score is the sample's")
+    parser.add_argument("--seed", type=int, default=20261202, help="seed of the sample")
     parser.add_argument("--recheck", action="store_true",
                         help="only recheck the last run's survivors in import-time functions, then report")
     parser.add_argument("--survivors", action="store_true",
@@ -229,7 +248,17 @@ def main(argv=None) -> int:
         seconds = run(work, args.children, names)
     elif not (args.report_only or args.recheck):
         work = prepare(args.target)
-        seconds = run(work, args.children)
+        if args.sample:
+            if not (work / "mutants").is_dir():
+                generate(work)
+            everything = sorted(results(work))
+            chosen = random.Random(args.seed).sample(everything, min(args.sample, len(everything)))
+            (work / "sample.json").write_text(json.dumps(chosen))
+            done = results(work)
+            seconds = run(work, args.children, [n for n in chosen if done.get(n) == "not checked"])
+        else:
+            (work / "sample.json").unlink(missing_ok=True)
+            seconds = run(work, args.children)
     if not args.report_only:
         verdicts = recheck_import_time(work, results(work))
         (work / "import_time_verdicts.json").write_text(json.dumps(verdicts, indent=1))
