@@ -12,6 +12,7 @@ the reason it cannot change any answer.
 Usage (from the repository root, with the mutation extra: pip install -c constraints.txt -e '.[test,mutation]'):
 
     nice -n 19 .venv/bin/python -m bench.mutation                 # service/physics/ (default)
+    nice -n 19 .venv/bin/python -m bench.mutation --target units  # service/units.py only
     nice -n 19 .venv/bin/python -m bench.mutation --target shared # service/units.py and the api's shared modules
     .venv/bin/python -m bench.mutation --report-only              # the last run's score and survivors again
 
@@ -46,6 +47,7 @@ TARGETS = {
                 ["tests/test_physics_atmosphere.py", "tests/test_physics_airspeed.py", "tests/test_physics_lift.py",
                  "tests/test_physics_wing.py", "tests/test_physics_contracts.py", *REFERENCE_TESTS,
                  "tests/test_edges.py"]),
+    "units": (["service/units.py"], ["tests/test_units.py", *REFERENCE_TESTS]),
     "shared": (["service/units.py", "service/api/fields.py", "service/api/inputs.py", "service/api/outputs.py"],
                ["tests/test_units.py", "tests/test_fields.py", *REFERENCE_TESTS, "tests/test_api_atmosphere.py",
                 "tests/test_api_airspeed.py", "tests/test_api_lift.py", "tests/test_bad_inputs.py",
