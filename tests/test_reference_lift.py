@@ -427,3 +427,24 @@ def test_curve_typed_values():
     # = 4.5287 per rad (the formula worked by hand).
     assert ref.datcom_slope(6.0, 0.0, 0.0) == pytest.approx(2 * math.pi * 6 / (2 + math.sqrt(40)), rel=1e-15)
     assert ref.datcom_slope(6.0, 0.0, 0.0) == pytest.approx(4.5287, abs=1e-4)
+
+
+def test_solve_from_an_ias_through_the_calibration_table(client):
+    # IAS 150 kt lies halfway between the rows 100 -> 102 and 200 -> 201: CAS 151.5 kt (by hand), then as a CAS.
+    answer = post_ok(client, "/v1/lift/solve", {
+        "solve_for": "cl", "weight": 21000, "wing_area": 61, "ias": [150, 250],
+        "calibration": {"ias": [100, 200, 300], "cas": [102, 201, 298]}, "altitude": 4000, "isa_deviation": -6})
+    rows = [_solve_expected({"solve_for": "cl", "mass": 21000.0, "S": 61.0, "kind": "cas", "speed": v, "H": 1219.2,
+                             "dT": -6.0}) for v in (151.5, 249.5)]
+    _compare_solve(answer, {k: [r[k] for r in rows] for k in rows[0]})
+
+
+@pytest.mark.parametrize("qnh", [985.0, 1013.25, 1035.0])
+def test_stall_at_an_indicated_altitude_with_qnh(client, qnh):
+    # The air at indicated 6000 ft on QNH: pressure altitude 6000 ft + H(QNH); OAT 20 degC.
+    H = 6000 * FT + ref.pressure_altitude(qnh * 100.0)
+    dT = 293.15 - ref.std_tp(H)[0]
+    answer = post_ok(client, "/v1/lift/stall", {"weight": 22000, "wing_area": 61, "cl_max": 1.6, "altitude": 6000,
+                                                "qnh": qnh, "temperature": 20, "bank_angle": 30})
+    expected = _stall_expected(22000 * G0, 61.0, 1.6, H, dT, 1 / math.cos(math.radians(30)))
+    _compare_stall(answer, [expected])
