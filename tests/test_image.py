@@ -367,6 +367,7 @@ class RunSpec:
     startup_timeout_s: float
     grace_s: float
     pre_stop: list[str]
+    workdir: str | None = None
     probes: dict[str, str] = field(default_factory=dict)  # probe -> path
 
     def podman_args(self, name, host_port):
@@ -388,6 +389,8 @@ class RunSpec:
         # Kubernetes ignores the image's HEALTHCHECK (its probes do that job), and podman would
         # schedule it with systemd timers; test_healthcheck_command runs it once by hand.
         args += ["--no-healthcheck"]
+        if self.workdir:
+            args += ["--workdir", self.workdir]
         if self.command:
             args += ["--entrypoint", json.dumps(self.command)]
         return args
@@ -399,6 +402,9 @@ class RunSpec:
 # What each securityContext field becomes; a field not listed here fails the derivation, so that a
 # new setting in the manifest is either mapped or consciously left to the cluster.
 POD_SECURITY_FIELDS = {"runAsNonRoot", "runAsUser", "runAsGroup", "fsGroup", "seccompProfile"}
+CONTAINER_FIELDS = {"name", "image", "imagePullPolicy", "command", "args", "workingDir", "ports", "envFrom", "env",
+                    "startupProbe", "readinessProbe", "livenessProbe", "lifecycle", "resources", "securityContext",
+                    "volumeMounts"}
 CONTAINER_SECURITY_FIELDS = {"runAsNonRoot", "runAsUser", "runAsGroup", "allowPrivilegeEscalation",
                              "readOnlyRootFilesystem", "privileged", "capabilities", "seccompProfile"}
 
@@ -412,6 +418,8 @@ def derive_run(deployment, configmap, secret_dir, api_keys_text):
     """The RunSpec of ``deployment``'s one container, writing its Secret volume's files into ``secret_dir``."""
     pod = deployment["spec"]["template"]["spec"]
     (container,) = pod["containers"]
+    unmapped = set(container) - CONTAINER_FIELDS
+    assert not unmapped, f"container fields this test does not map yet: {sorted(unmapped)}"
     pod_security = pod.get("securityContext", {})
     security = container.get("securityContext", {})
     unknown = (set(pod_security) - POD_SECURITY_FIELDS) | (set(security) - CONTAINER_SECURITY_FIELDS)
@@ -486,7 +494,7 @@ def derive_run(deployment, configmap, secret_dir, api_keys_text):
         no_new_privileges=security.get("allowPrivilegeEscalation", True) is False,
         env=env, mounts=mounts, port=port["containerPort"], cpus=cpus,
         memory_bytes=quantity_bytes(limits["memory"]),
-        command=container.get("command"), args=container.get("args"),
+        command=container.get("command"), args=container.get("args"), workdir=container.get("workingDir"),
         startup_budget_s=probe_budget(startup), startup_timeout_s=startup.get("timeoutSeconds", 1),
         grace_s=pod.get("terminationGracePeriodSeconds", 30), pre_stop=pre_stop, probes=probes,
     )
@@ -532,6 +540,9 @@ class RunningContainer:
         self.podman, self.spec, self.name = podman, spec, name
         self.host_port = free_port()
         self.answered = []  # X-Request-ID of every request that got an answer
+        self.healthchecks = 0  # runs of the image's HEALTHCHECK command (their access lines carry no id of ours)
+        self.startup_seconds = None
+        self.drained = None  # the Drain, once drain() has stopped it
         self.started = time.monotonic()
         self.proc = podman.popen("run", *spec.podman_args(name, self.host_port), image_id, *spec.trailing_args(),
                                  stdout=subprocess.PIPE, stderr=subprocess.PIPE)
@@ -860,9 +871,9 @@ def test_healthcheck_command(service, image):
     """The image's HEALTHCHECK command, run once in the container, succeeds."""
     test = image.inspect["Healthcheck"]["Test"]
     assert test[0] == "CMD"
+    service.healthchecks += 1
     result = service.exec(*test[1:], check=False)
     assert result.returncode == 0, result.stderr
-    service.healthchecks = getattr(service, "healthchecks", 0) + 1
 
 
 # --- shutdown, logs and files, after the service has stopped ---------------------------------------
@@ -895,7 +906,7 @@ def new_connection_outcome(port):
 
 def drain(service, api_key):
     """As a rollout stops a pod: preStop hook, then SIGTERM, with a request in flight; once per module."""
-    if hasattr(service, "drained"):
+    if service.drained is not None:
         return service.drained
     body = json.dumps({"altitude": {"value": [0, 11000], "unit": "m"}}).encode()
     sock = socket.create_connection((LOOPBACK, service.host_port), timeout=60)
@@ -964,7 +975,7 @@ def test_stdout_is_one_json_line_per_request(service, api_key):
     ours = [request_id for request_id in logged if request_id.startswith("image-test-")]
     assert sorted(ours) == sorted(service.answered), "one line per answered request, no more, no less"
     others = [line for line in access if not line["request_id"].startswith("image-test-")]
-    assert len(others) == getattr(service, "healthchecks", 0)
+    assert len(others) == service.healthchecks
     assert all(line["path"] == "/v1/health" for line in others)
 
 
