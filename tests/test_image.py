@@ -669,7 +669,7 @@ def service(podman, image, tmp_path_factory, keys_file_text):
 
 
 def image_files(podman, image_id):
-    """(path, size, reader) of every regular file of the image, from `podman export` of a container."""
+    """(path, reader) of every regular file of the image, from `podman export` of a container."""
     name = container_name("export")
     podman.run("create", "--name", name, image_id, "true")
     try:
@@ -677,7 +677,7 @@ def image_files(podman, image_id):
         with tarfile.open(fileobj=export.stdout, mode="r|") as archive:
             for member in archive:
                 if member.isfile():
-                    yield member.name, member.size, archive.extractfile(member)
+                    yield member.name, archive.extractfile(member)
         assert export.wait(timeout=120) == 0
     finally:
         podman.run("rm", "--force", name, check=False)
@@ -690,7 +690,36 @@ def pem_bodies(data):
     return {b"".join(body.split()) for body in PEM.findall(data)}
 
 
-def test_build_keeps_no_ca_bundle_build_output_or_sources(podman, image):
+@dataclass
+class ImageContent:
+    digests: dict[str, str]  # path -> sha256 of every regular file
+    bundle_copies: list[str]  # files that are the host's CA bundle
+    holders: dict[str, set[bytes]]  # path -> the host bundle's certificates it holds
+    public: set[bytes]  # the certificates of certifi's cacert.pem in the image
+
+
+@pytest.fixture(scope="module")
+def image_content(podman, image):
+    """One pass over the image's files."""
+    bundle = image.ca_bundle.read_bytes() if image.ca_bundle else b""
+    # The second 64-character base64 line of each certificate of the bundle, as a PEM file holds it
+    # (the first line is much the same in many certificates).
+    lines = {body: body[64:128] for body in pem_bodies(bundle)}
+    content = ImageContent({}, [], {}, set())
+    for path, reader in image_files(podman, image.id):
+        data = reader.read()
+        content.digests[path] = hashlib.sha256(data).hexdigest()
+        if bundle and data == bundle:
+            content.bundle_copies.append(path)
+        if path.endswith("certifi/cacert.pem"):
+            content.public |= pem_bodies(data)
+        found = {body for body, line in lines.items() if line in data}
+        if found:
+            content.holders[path] = found
+    return content
+
+
+def test_ca_bundle_stays_out_of_the_image(image_content, image):
     """The CA bundle reaches the builder only: no copy of it, nor of a certificate only it holds, in the image.
 
     The certificates only the host's bundle holds (a TLS-intercepting proxy's own CA, added locally)
@@ -698,31 +727,36 @@ def test_build_keeps_no_ca_bundle_build_output_or_sources(podman, image):
     nor certifi's (cacert.pem, as pip carries it in the image). Without such a local CA the check
     comes down to: no file of the image is the host's bundle.
     """
-    bundle = image.ca_bundle.read_bytes() if image.ca_bundle else b""
-    public = set()
+    assert image.ca_bundle is None or image_content.bundle_copies == []
+    public = set(image_content.public)
     for path in Path("/usr/share/ca-certificates").rglob("*.crt"):
         public |= pem_bodies(path.read_bytes())
-    # The second 64-character base64 line of each certificate of the bundle, as a PEM file holds it
-    # (the first line is much the same in many certificates).
-    lines = {body: body[64:128] for body in pem_bodies(bundle)}
-    holders, paths = {}, []
-    for path, _size, reader in image_files(podman, image.id):
-        data = reader.read()
-        paths.append(path)
-        assert not bundle or data != bundle, f"{path} is the host's CA bundle"
-        if path.endswith("certifi/cacert.pem"):
-            public |= pem_bodies(data)
-        found = {body for body, line in lines.items() if line in data}
-        if found:
-            holders[path] = found
-    # the builder's work (its /src and /wheels), the secret's mount point, the app as a wheel
-    leftovers = [p for p in paths if p.startswith(("wheels/", "src/", "run/secrets/"))
+    own = pem_bodies(image.ca_bundle.read_bytes()) - public if image.ca_bundle else set()
+    for path, found in image_content.holders.items():
+        assert not found & own, f"{path} holds a certificate of the host's CA bundle that is not public"
+
+
+def test_no_build_leftovers(image_content):
+    paths = image_content.digests
+    # the builder's work (its /src and /wheels), the secret's mount point, the app as a wheel, and
+    # an empty file where a bind mount's target was
+    leftovers = [p for p in paths if p.startswith(("wheels/", "src/", "run/secrets/", "tmp/"))
                  or (Path(p).name.startswith("qbar-") and p.endswith(".whl"))]
     assert not leftovers, f"build leftovers in the image: {leftovers[:5]}"
-    assert "tmp/constraints.txt" not in paths
-    own = set(lines) - public
-    for path, found in holders.items():
-        assert not found & own, f"{path} holds a certificate of the host's CA bundle that is not public"
+
+
+def test_image_holds_this_checkouts_code(image_content):
+    """Every file of the installed package is the checkout's (a stale layer cache would keep older code)."""
+    installed = {path.split("/site-packages/", 1)[1]: digest for path, digest in image_content.digests.items()
+                 if "/site-packages/service/" in path and "__pycache__" not in path}
+    assert installed
+    for name, digest in installed.items():
+        source = REPO / name
+        assert source.is_file(), f"{name} is in the image but not in the checkout"
+        assert hashlib.sha256(source.read_bytes()).hexdigest() == digest, f"{name} differs from the checkout"
+    checkout = {str(path.relative_to(REPO)) for path in (REPO / "service").rglob("*.py")
+                if "__pycache__" not in path.parts and path.name != "_build.py"}
+    assert checkout <= set(installed), sorted(checkout - set(installed))[:5]
 
 
 def test_image_metadata(image):
