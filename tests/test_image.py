@@ -321,6 +321,24 @@ def quantity_bytes(text):
     return int(number * scale[unit])
 
 
+def downward_value(variable, container):
+    """The value of one ``env`` entry as the kubelet sets it: ``value``, or the container's own CPU or
+    memory limit through the downward API (``resourceFieldRef``: the limit over ``divisor``, rounded up)."""
+    if set(variable) == {"name", "value"}:
+        return str(variable["value"])
+    assert set(variable) == {"name", "valueFrom"}, f"env entry not mapped: {variable}"
+    source = variable["valueFrom"]
+    assert set(source) == {"resourceFieldRef"}, f"env source not mapped: {variable}"
+    field = source["resourceFieldRef"]
+    assert set(field) <= {"resource", "divisor", "containerName"}, f"resourceFieldRef not mapped: {variable}"
+    kind, _, resource = field["resource"].partition(".")
+    assert kind == "limits" and resource in ("cpu", "memory"), f"resource not mapped: {variable}"
+    limit = container["resources"]["limits"][resource]
+    if resource == "cpu":
+        return str(math.ceil(quantity_cpus(limit) / quantity_cpus(str(field.get("divisor", "1")))))
+    return str(math.ceil(quantity_bytes(limit) / quantity_bytes(str(field.get("divisor", "1")))))
+
+
 def quantity_cpus(text):
     """A Kubernetes CPU quantity ("2", "500m") in CPUs."""
     text = str(text)
@@ -447,8 +465,7 @@ def derive_run(deployment, configmap, secret_dir, api_keys_text):
         assert source["configMapRef"]["name"] == configmap["metadata"]["name"]
         env.update({key: str(value) for key, value in configmap["data"].items()})
     for variable in container.get("env", []):
-        assert set(variable) == {"name", "value"}, f"env entry not mapped: {variable}"
-        env[variable["name"]] = str(variable["value"])
+        env[variable["name"]] = downward_value(variable, container)
 
     volumes = {volume["name"]: volume for volume in pod.get("volumes", [])}
     mounts = []
@@ -991,12 +1008,6 @@ def test_sigterm_lets_the_request_in_flight_finish_and_exits_0_within_the_grace_
     assert drained.seconds_to_exit <= service.spec.grace_s
 
 
-@pytest.mark.xfail(strict=True, reason=(
-    "gunicorn's gthread workers keep their inherited listening socket open until they have "
-    "drained: the master closes its copy at SIGTERM, but while a worker finishes a request the "
-    "kernel still accepts new connections into the backlog, and they wait unanswered until that "
-    "worker exits. Needs a change in service/gunicorn_conf.py (server engineer): close the "
-    "worker's listeners when its graceful shutdown begins."))
 def test_new_connections_are_refused_while_draining(service, api_key):
     assert drain(service, api_key).new_connection == "refused"
 
@@ -1041,9 +1052,6 @@ def test_nothing_written_outside_the_writable_mounts(service, api_key):
 # --- a start that must fail -----------------------------------------------------------------------
 
 
-@pytest.mark.xfail(strict=True, reason=(
-    "service/gunicorn_conf.py has no start-up check yet that PROMETHEUS_MULTIPROC_DIR is writable "
-    "(the server engineer adds it on their branch): the workers start, and every request answers 500"))
 def test_an_unwritable_metrics_directory_stops_the_start_with_one_line(podman, image, tmp_path, keys_file_text):
     spec = deployment_run(tmp_path, keys_file_text)
     metrics_dir = spec.env["PROMETHEUS_MULTIPROC_DIR"]
