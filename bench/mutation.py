@@ -140,7 +140,7 @@ def show(work: Path, name: str) -> str:
 
     def body(fn):
         match = re.search(rf"^def {re.escape(fn)}\(.*?(?=^\S)", text, flags=re.S | re.M)
-        return match.group(0).splitlines()[1:] if match else []
+        return match.group(0).replace(fn, base, 1).splitlines() if match else []
 
     diff = difflib.unified_diff(body(f"{base}__mutmut_orig"), body(function), lineterm="", n=0)
     return "\n".join(line for line in diff if line[:1] in "+-" and not line.startswith(("+++", "---")))
