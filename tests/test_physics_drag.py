@@ -41,15 +41,29 @@ def test_anderson_cp1_thrust_required_at_500_ft_s(shape):
     # Tolerances: half a unit of the last printed digit for CL and CD; 0.5 % on L/D and TR, which the book
     # works out from the rounded CL and CD (0.057 / 0.0252 = 2.262; unrounded 2.266).
     k = drag.induced_drag_factor(CP1["aspect_ratio"], CP1["e"])
-    q = 0.5 * (0.002377 * SLUG / FT**3) * (500.0 * FT) ** 2
-    cl = _filled(CP1["weight"], shape) / (q * CP1["wing_area"])
-    cd = drag.drag_coefficient(cl, CP1["cd0"], k)
-    assert np.shape(cd) == shape
-    np.testing.assert_allclose(cl, 0.057, atol=5e-4)
-    np.testing.assert_allclose(cd, 0.0252, atol=5e-5)
-    np.testing.assert_allclose(drag.lift_to_drag(cl, CP1["cd0"], k), 2.26, rtol=5e-3)
-    thrust = drag.aerodynamic_force(q, CP1["wing_area"], cd)
-    np.testing.assert_allclose(thrust / LBF, 1305.0, rtol=5e-3)
+    v = 500.0 * FT
+    q = 0.5 * (0.002377 * SLUG / FT**3) * v**2
+    c = drag.flight_condition(_filled(CP1["weight"], shape), CP1["wing_area"], q, v, CP1["cd0"], k)
+    assert np.shape(c.drag) == shape
+    np.testing.assert_allclose(c.cl, 0.057, atol=5e-4)
+    np.testing.assert_allclose(c.cd, 0.0252, atol=5e-5)
+    np.testing.assert_allclose(c.lift_to_drag, 2.26, rtol=5e-3)
+    np.testing.assert_allclose(c.drag / LBF, 1305.0, rtol=5e-3)
+    np.testing.assert_allclose(c.power, c.drag * v, rtol=1e-14)
+    # The polar's pieces give the same: CD = CD0 + k CL^2, D = q S CD.
+    np.testing.assert_allclose(drag.aerodynamic_force(q, CP1["wing_area"], drag.drag_coefficient(c.cl, CP1["cd0"], k)),
+                               c.drag, rtol=1e-14)
+    np.testing.assert_allclose(drag.lift_to_drag(c.cl, CP1["cd0"], k), c.lift_to_drag, rtol=1e-14)
+
+
+def test_flight_condition_and_level_condition_agree():
+    # The same point from its CL and the density, or from its q and TAS.
+    rho, w, s, cd0, k = 0.7, 200_000.0, 61.0, 0.022, 0.0362
+    a = drag.level_condition(w, s, np.array([0.3, 0.6, 1.2]), cd0, k, rho, load_factor=1.2)
+    b = drag.flight_condition(w, s, a.q, a.tas, cd0, k, load_factor=1.2)
+    for x, y in zip(a, b, strict=True):
+        np.testing.assert_allclose(x, y, rtol=1e-14)
+    np.testing.assert_allclose(a.q, 0.5 * rho * a.tas**2, rtol=1e-14)
 
 
 @pytest.mark.parametrize(("aircraft", "ld_max"), [(CP1, 13.6), (CJ1, 16.9)])

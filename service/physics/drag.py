@@ -52,6 +52,7 @@ __all__ = [
     "drag_coefficient",
     "glide_distance",
     "induced_drag_factor",
+    "flight_condition",
     "level_condition",
     "lift_to_drag",
     "max_lift_to_drag",
@@ -374,14 +375,69 @@ class LevelCondition(NamedTuple):
     power: np.ndarray
 
 
-def level_condition(weight, wing_area, cl, cd0, k, rho, load_factor=1.0):
-    """Steady level flight (or a level turn) at lift coefficient ``cl``.
+def flight_condition(weight, wing_area, q, tas, cd0, k, load_factor=1.0):
+    """Steady flight (level, or a level turn) at dynamic pressure ``q`` and true airspeed ``tas``.
 
     .. math::
 
-        q = \\frac{n W}{S C_L}, \\quad V_E = \\sqrt{\\frac{2 q}{\\rho_0}}, \\quad
-        V = \\sqrt{\\frac{2 q}{\\rho}}, \\quad
-        D = q S (C_{D0} + k C_L^2), \\quad P_R = D V
+        C_L = \\frac{n W}{q S}, \\quad C_D = C_{D0} + k C_L^2, \\quad
+        D = q S C_D, \\quad P_R = D V, \\quad V_E = \\sqrt{\\frac{2 q}{\\rho_0}}
+
+    Parameters
+    ----------
+    weight : array_like
+        Weight (a force) [N].
+    wing_area : array_like
+        Wing reference area [m^2].
+    q : array_like
+        Dynamic pressure [Pa].
+    tas : array_like
+        True airspeed [m/s].
+    cd0 : array_like
+        Zero-lift drag coefficient [-].
+    k : array_like
+        Induced drag factor [-].
+    load_factor : array_like, optional
+        Load factor ``n`` (1 in straight flight) [-].
+
+    Returns
+    -------
+    LevelCondition
+        ``cl`` [-], ``cd`` [-], ``lift_to_drag`` [-], ``q`` [Pa], ``eas`` [m/s],
+        ``tas`` [m/s], ``drag`` [N] (the thrust required) and ``power`` [W], each of the
+        broadcast input shape.
+
+    Notes
+    -----
+    Steady flight: thrust equals drag, lift equals ``n W``; the thrust line is taken
+    along the flight path. ``q`` and ``tas`` describe the same speed (``q = rho V^2 / 2``);
+    the caller gets both from its speed conversions.
+
+    Examples
+    --------
+    >>> c = flight_condition(200_000.0, 61.0, 6000.0, 110.0, 0.025, 0.04)
+    >>> print(round(float(c.cl), 6), round(float(c.drag), 2), round(float(c.power) / 1e3, 2))
+    0.546448 13521.58 1487.37
+
+    References
+    ----------
+    1. Anderson, *Introduction to Flight*, chapter 6 (thrust and power required).
+    """
+    q, cd0, k = _f(q), _f(cd0), _f(k)
+    cl = _f(load_factor) * _f(weight) / (q * _f(wing_area))
+    cd = cd0 + k * cl * cl
+    drag = q * _f(wing_area) * cd
+    return LevelCondition(*broadcast_out(cl, cd, cl / cd, q, np.sqrt(2.0 * q / RHO0), tas, drag, drag * _f(tas)))
+
+
+def level_condition(weight, wing_area, cl, cd0, k, rho, load_factor=1.0):
+    """Steady flight (level, or a level turn) at lift coefficient ``cl``.
+
+    .. math::
+
+        q = \\frac{n W}{S C_L}, \\quad V = \\sqrt{\\frac{2 q}{\\rho}}
+
+    and then :func:`flight_condition` at that ``q`` and ``V``.
 
     Parameters
     ----------
@@ -403,14 +459,7 @@ def level_condition(weight, wing_area, cl, cd0, k, rho, load_factor=1.0):
     Returns
     -------
     LevelCondition
-        ``cl`` [-], ``cd`` [-], ``lift_to_drag`` [-], ``q`` [Pa], ``eas`` [m/s],
-        ``tas`` [m/s], ``drag`` [N] (the thrust required) and ``power`` [W], each of the
-        broadcast input shape.
-
-    Notes
-    -----
-    Steady flight: thrust equals drag, lift equals ``n W``; the thrust line is taken
-    along the flight path.
+        See :func:`flight_condition`.
 
     Examples
     --------
@@ -422,12 +471,8 @@ def level_condition(weight, wing_area, cl, cd0, k, rho, load_factor=1.0):
     ----------
     1. Anderson, *Introduction to Flight*, chapter 6 (thrust and power required).
     """
-    cl, cd0, k = _f(cl), _f(cd0), _f(k)
-    q = _f(load_factor) * _f(weight) / (_f(wing_area) * cl)
-    cd = cd0 + k * cl * cl
-    tas = np.sqrt(2.0 * q / _f(rho))
-    drag = q * _f(wing_area) * cd
-    return LevelCondition(*broadcast_out(cl, cd, cl / cd, q, np.sqrt(2.0 * q / RHO0), tas, drag, drag * tas))
+    q = _f(load_factor) * _f(weight) / (_f(wing_area) * _f(cl))
+    return flight_condition(weight, wing_area, q, np.sqrt(2.0 * q / _f(rho)), cd0, k, load_factor)
 
 
 def minimum_drag(weight, wing_area, cd0, k, rho):
