@@ -9,7 +9,7 @@ from flask import Flask
 from flask_compress import Compress
 
 from service import config as settings
-from service.api import airspeed, atmosphere, docs, lift, ops
+from service.api import airspeed, atmosphere, docs, drag, lift, manoeuvre, ops
 from service.api import service as service_api
 from service.api.base import Api
 from service.version import __version__
@@ -35,7 +35,7 @@ length 1); `grid: true` takes their outer product. Every error is an RFC 9457 pr
 """
 
 #: Blueprints in the order of the spec's tags.
-BLUEPRINTS = (atmosphere.blp, airspeed.blp, lift.blp, service_api.blp)
+BLUEPRINTS = (atmosphere.blp, airspeed.blp, lift.blp, manoeuvre.blp, drag.blp, service_api.blp)
 
 
 def create_app(config: dict | None = None) -> Flask:

@@ -7,6 +7,7 @@ import numpy as np
 
 from service import units
 from service.api import air, examples
+from service.api import speed_limit as limits
 from service.api.base import COMPUTE_PROBLEMS, Blueprint
 from service.api.inputs import (
     ComputeSchema,
@@ -213,8 +214,7 @@ def crossover(inputs):
 # --- POST /v1/airspeed/schedule ------------------------------------------------------------------
 
 SCHEDULE_OUTPUTS = {
-    "governing": (None, "Which speed governs at the point: \"cas\" below the crossover altitude (the CAS is flown), "
-                        "\"mach\" above it (the Mach number is flown)."),
+    "governing": (None, limits.GOVERNING_DESCRIPTION),
     "cas": ("speed", "Calibrated airspeed flown [kt]."),
     "mach": (None, "Mach number flown [-]."),
     "tas": ("speed", "True airspeed flown [kt]."),
@@ -237,11 +237,12 @@ class ScheduleRequest(ComputeSchema):
     altitude = air.altitude_field(_ALTITUDE)
     isa_deviation = air.isa_deviation_field()
     temperature = air.temperature_field()
+    speed_limit = limits.speed_limit_field()
     outputs = outputs_field(tuple(SCHEDULE_OUTPUTS))
 
 
 ScheduleResponse = response_schema("ScheduleResponse", {
-    name: (LabelOut(["cas", "mach"], metadata={"description": desc}) if name == "governing"
+    name: (LabelOut(limits.GOVERNING_LABELS, metadata={"description": desc}) if name == "governing"
            else quantity_out(desc) if dim else ratio_out(desc))
     for name, (dim, desc) in SCHEDULE_OUTPUTS.items()}, inputs=ScheduleRequest)
 
@@ -255,20 +256,22 @@ def schedule(inputs):
 
     The speeds of a schedule "fly `cas` until it reaches `mach`, then hold `mach`" (a climb; a descent flies it the
     other way round) at each altitude: which of the two governs, the CAS, Mach, TAS and EAS flown, and the crossover
-    altitude. The example is the NR-200's 290 kt / M0.76 climb on an ISA+10 day.
+    altitude. With `speed_limit` the CAS flown below its altitude is at most its CAS (the common 250 kt below
+    10,000 ft), and `governing` reads "limit" there. The example is the NR-200's 290 kt / M0.76 climb on an ISA+10
+    day.
     """
     result = Result(inputs)
     state = air.air(inputs, allow_kind=False, allow_qnh=False)
     cas, mach = inputs.si("cas"), inputs.si("mach")
     if any(map(inputs.wants, _SCHEDULE_SPEEDS)):
-        flown = spd.speed_schedule(cas, mach, state.p, state.T)
+        governing, flown = limits.flown(inputs, cas, mach, state)
         missing = np.isnan(flown.mach)
         if np.any(missing):
             raise no_solution("mach", missing, "the CAS given has no Mach number here (beyond the range of the "
                                                "airspeed relations).")
         for name in _SCHEDULE_SPEEDS:
             if inputs.wants(name):
-                values = np.where(flown.governing_mach, "mach", "cas") if name == "governing" else getattr(flown, name)
+                values = governing if name == "governing" else getattr(flown, name)
                 result.add(name, values, SCHEDULE_OUTPUTS[name][0])
     if inputs.wants("crossover_altitude"):
         H = spd.crossover_altitude(cas, mach)
