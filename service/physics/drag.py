@@ -424,10 +424,12 @@ def flight_condition(weight, wing_area, q, tas, cd0, k, load_factor=1.0):
     1. Anderson, *Introduction to Flight*, chapter 6 (thrust and power required).
     """
     q, cd0, k = _f(q), _f(cd0), _f(k)
-    cl = _f(load_factor) * _f(weight) / (q * _f(wing_area))
-    cd = cd0 + k * cl * cl
-    drag = q * _f(wing_area) * cd
-    return LevelCondition(*broadcast_out(cl, cd, cl / cd, q, np.sqrt(2.0 * q / RHO0), tas, drag, drag * _f(tas)))
+    with np.errstate(divide="ignore", over="ignore", invalid="ignore"):  # beyond the float range: inf or NaN
+        cl = _f(load_factor) * _f(weight) / (q * _f(wing_area))
+        cd = cd0 + k * cl * cl
+        drag = q * _f(wing_area) * cd
+        return LevelCondition(*broadcast_out(cl, cd, cl / cd, q, np.sqrt(2.0 * q / RHO0), tas, drag,
+                                             drag * _f(tas)))
 
 
 def level_condition(weight, wing_area, cl, cd0, k, rho, load_factor=1.0):
@@ -471,8 +473,10 @@ def level_condition(weight, wing_area, cl, cd0, k, rho, load_factor=1.0):
     ----------
     1. Anderson, *Introduction to Flight*, chapter 6 (thrust and power required).
     """
-    q = _f(load_factor) * _f(weight) / (_f(wing_area) * _f(cl))
-    return flight_condition(weight, wing_area, q, np.sqrt(2.0 * q / _f(rho)), cd0, k, load_factor)
+    with np.errstate(divide="ignore", over="ignore"):
+        q = _f(load_factor) * _f(weight) / (_f(wing_area) * _f(cl))
+        tas = np.sqrt(2.0 * q / _f(rho))
+    return flight_condition(weight, wing_area, q, tas, cd0, k, load_factor)
 
 
 def minimum_drag(weight, wing_area, cd0, k, rho):

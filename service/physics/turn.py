@@ -115,7 +115,7 @@ def level_turn(tas, *, bank_angle=None, load_factor=None, turn_rate=None):
     if sum(given) != 1:
         raise ValueError("give exactly one of bank_angle, load_factor and turn_rate")
     tas = np.asarray(tas, dtype=float)
-    with np.errstate(invalid="ignore", divide="ignore"):
+    with np.errstate(invalid="ignore", divide="ignore", over="ignore"):
         if bank_angle is not None:
             phi = np.asarray(bank_angle, dtype=float)
             tan_phi = np.where((phi >= 0.0) & (phi < 0.5 * np.pi), np.tan(phi), np.nan)
