@@ -64,7 +64,8 @@ class _PolarInputs(ma.Schema):
             message = "Give either induced_drag_factor or aspect_ratio (with oswald_efficiency), not both."
             errors = {"induced_drag_factor": [message], "aspect_ratio": [message]}
         elif "induced_drag_factor" not in data and "aspect_ratio" not in data:
-            errors["_schema"] = ["Missing the polar's induced drag: " + _POLAR_NOTE]
+            errors["_schema"] = ["Missing the polar's induced drag: give `induced_drag_factor`, or `aspect_ratio` "
+                                 "with `oswald_efficiency`."]
         for name, other in (("aspect_ratio", "oswald_efficiency"), ("oswald_efficiency", "aspect_ratio")):
             if name in data and other not in data and name not in errors:
                 errors[name] = [f"Needs `{other}`: k = 1 / (pi A e)."]
