@@ -254,8 +254,7 @@ BestGlideOut = _condition_schema("BestGlideOut", {
 
 DragSpeedsResponse = response_schema("DragSpeedsResponse", {
     "minimum_drag": ma.fields.Nested(MinimumDragOut, metadata={
-        "description": "Steady level flight at minimum drag (maximum L/D): the speed of best range for a jet's "
-                       "drag at constant thrust specific fuel consumption is above it; the speed of best glide."}),
+        "description": "Steady level flight at minimum drag, the least thrust required: the maximum L/D."}),
     "minimum_power": ma.fields.Nested(MinimumPowerOut, metadata={
         "description": "Steady level flight at minimum power required: a propeller aircraft's best endurance; in "
                        "a glide, the speed of minimum sink."}),
