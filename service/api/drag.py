@@ -6,16 +6,33 @@ The physics is in service.physics.drag; the air and the speed conversions are th
 from __future__ import annotations
 
 import marshmallow as ma
-import numpy as np
 
 from service.api import air, examples
 from service.api.base import COMPUTE_PROBLEMS, Blueprint
 from service.api.fields import Number, Quantity
-from service.api.inputs import ComputeSchema, exactly_one, needs, not_together, outputs_field
-from service.api.lift_schemas import bank_angle_field, load_factor_field, weight_field, wing_area_field
+from service.api.inputs import ComputeSchema, outputs_field
+from service.api.lift.common import (
+    BANK_ANGLE,
+    LOAD_FACTOR,
+    LOAD_FACTOR_OR_BANK,
+    load_factor,
+    weight_field,
+    wing_area_field,
+)
+from service.api.masks import any_true
 from service.api.outputs import Leaf, Result
+from service.api.rules import ExactlyOne, Needs
 from service.api.schemas import quantity_out, ratio_out, response_schema
-from service.api.speeds import KINDS, Speeds, calibration_field, given_speed, mach_field, speed_field
+from service.api.speeds import (
+    CALIBRATION_NEEDS_IAS,
+    IAS_NEEDS_CALIBRATION,
+    KINDS,
+    Speeds,
+    calibration_field,
+    given_speed,
+    mach_field,
+    speed_field,
+)
 from service.physics import drag as dp
 from service.physics import lift as lf
 
@@ -35,11 +52,20 @@ _BEYOND_POLAR = ("Mach number above `mach_limit`: the parabolic polar has no com
 # --- The polar: fields shared by both endpoints -----------------------------------------------------------
 
 
+#: The polar's induced drag: k, or the aspect ratio with the Oswald efficiency.
+POLAR_RULES = (
+    ExactlyOne("induced_drag_factor", "aspect_ratio", missing="Missing the polar's induced drag: give "
+               "`induced_drag_factor`, or `aspect_ratio` with `oswald_efficiency`.",
+               message="Give either induced_drag_factor or aspect_ratio (with oswald_efficiency), not both."),
+    Needs("aspect_ratio", "oswald_efficiency", messages={"aspect_ratio": "Needs `oswald_efficiency`: "
+                                                                         "k = 1 / (pi A e)."}),
+    Needs("oswald_efficiency", "aspect_ratio", messages={"oswald_efficiency": "Goes with `aspect_ratio`: "
+                                                                             "k = 1 / (pi A e)."}),
+)
+
+
 class _PolarInputs(ma.Schema):
     """The drag polar: CD0 and k, or CD0 with the aspect ratio and Oswald efficiency; the Mach limit."""
-
-    SPEC_RULES = (exactly_one("induced_drag_factor", "aspect_ratio"), needs("aspect_ratio", "oswald_efficiency"),
-                  needs("oswald_efficiency", "aspect_ratio"))
 
     cd0 = Number(required=True, minimum=0.0, exclusive_minimum=True, maximum=1.0, metadata={
         "description": "Zero-lift (parasite) drag coefficient CD0 of the configuration [-].", "example": 0.024})
@@ -57,21 +83,6 @@ class _PolarInputs(ma.Schema):
                        "warning says the drag is underestimated (no compressibility drag is modelled).",
         "example": 0.65})
 
-    @ma.validates_schema
-    def _one_polar(self, data, **kwargs):
-        errors = {}
-        if "induced_drag_factor" in data and "aspect_ratio" in data:
-            message = "Give either induced_drag_factor or aspect_ratio (with oswald_efficiency), not both."
-            errors = {"induced_drag_factor": [message], "aspect_ratio": [message]}
-        elif "induced_drag_factor" not in data and "aspect_ratio" not in data:
-            errors["_schema"] = ["Missing the polar's induced drag: give `induced_drag_factor`, or `aspect_ratio` "
-                                 "with `oswald_efficiency`."]
-        for name, other in (("aspect_ratio", "oswald_efficiency"), ("oswald_efficiency", "aspect_ratio")):
-            if name in data and other not in data and name not in errors:
-                errors[name] = [f"Needs `{other}`: k = 1 / (pi A e)."]
-        if errors:
-            raise ma.ValidationError(errors)
-
 
 def _polar(inputs):
     """(CD0, k) of the request's polar."""
@@ -83,7 +94,7 @@ def _polar(inputs):
 
 def _warn_beyond_polar(result: Result, inputs, field: str, mach) -> None:
     beyond = dp.beyond_polar_range(mach, inputs.si("mach_limit", dp.POLAR_MACH_LIMIT))
-    if np.any(beyond):
+    if any_true(beyond):
         result.warn(field, _BEYOND_POLAR, beyond)
 
 
@@ -117,15 +128,19 @@ DRAG_OUTPUTS = {
 _ONE_POINT = "One of ias, cas, eas, tas, mach or cl: the flight condition (with cl, the speed follows from the lift)."
 
 
+#: One flight condition: a speed of any kind, or a CL.
+ONE_FLIGHT_CONDITION = ExactlyOne(
+    *KINDS, "cl", missing="Missing the flight condition: " + _ONE_POINT,
+    message=lambda given: f"Give one of ias, cas, eas, tas, mach or cl; this request gives {', '.join(given)}.")
+
+
 class DragRequest(_PolarInputs, ComputeSchema):
-    OUTPUTS = tuple(DRAG_OUTPUTS)
-    SPEC_RULES = _PolarInputs.SPEC_RULES + (
-        exactly_one(*KINDS, "cl"), needs("ias", "calibration"), needs("calibration", "ias"),
-        not_together("load_factor", "bank_angle"))
+    OUTPUTS = DRAG_OUTPUTS
+    RULES = (*POLAR_RULES, ONE_FLIGHT_CONDITION, IAS_NEEDS_CALIBRATION, CALIBRATION_NEEDS_IAS, LOAD_FACTOR_OR_BANK)
 
     weight = weight_field("Weight", required=True)
     wing_area = wing_area_field()
-    wing_area.required = True  # the shared field factory makes an optional field
+    wing_area.required = True  # the shared field factories make optional fields
     ias = speed_field("ias", _ONE_POINT)
     cas = speed_field("cas", _ONE_POINT)
     eas = speed_field("eas", _ONE_POINT)
@@ -139,30 +154,12 @@ class DragRequest(_PolarInputs, ComputeSchema):
     temperature = air.temperature_field()
     qnh = air.qnh_field()
     altitude_kind = air.altitude_kind_field()
-    load_factor = load_factor_field()
-    bank_angle = bank_angle_field()
-    outputs = outputs_field(tuple(DRAG_OUTPUTS))
-
-    @ma.validates_schema
-    def _check_point(self, data, **kwargs):
-        given = [name for name in (*KINDS, "cl") if name in data]
-        if not given:
-            raise ma.ValidationError("Missing the flight condition: " + _ONE_POINT)
-        errors = {}
-        if len(given) > 1:
-            errors = {name: [f"Give one of ias, cas, eas, tas, mach or cl; this request gives {', '.join(given)}."]
-                      for name in given}
-        if "calibration" in data and "ias" not in data:
-            errors["calibration"] = ["The calibration converts an ias, and this request gives none: leave it out."]
-        if "load_factor" in data and "bank_angle" in data:
-            errors["load_factor"] = errors["bank_angle"] = ["Give either load_factor or bank_angle, not both."]
-        if errors:
-            raise ma.ValidationError(errors)
+    load_factor = LOAD_FACTOR
+    bank_angle = BANK_ANGLE
+    outputs = outputs_field(DRAG_OUTPUTS)
 
 
-DragResponse = response_schema("DragResponse", {
-    name: quantity_out(desc) if dim else ratio_out(desc) for name, (dim, desc) in DRAG_OUTPUTS.items()},
-    inputs=DragRequest)
+DragResponse = response_schema("DragResponse", DRAG_OUTPUTS, DragRequest)
 
 
 @blp.route("/drag", methods=["POST"])
@@ -181,9 +178,9 @@ def drag(inputs):
     result = Result(inputs)
     state = air.air(inputs)
     weight, area = inputs.si("weight"), inputs.si("wing_area")
-    n = lf.load_factor_from_bank(inputs.si("bank_angle")) if "bank_angle" in inputs else inputs.si("load_factor", 1.0)
+    n = load_factor(inputs)
     cd0, k = _polar(inputs)
-    kind = given_speed(inputs, required=False)
+    kind = given_speed(inputs)
     if kind is None:
         point = dp.level_condition(weight, area, inputs.si("cl"), cd0, k, state.rho, n)
         speeds = Speeds(state, "eas", point.eas)
@@ -196,7 +193,7 @@ def drag(inputs):
               "density": state.rho}
     for name in inputs.outputs:
         value = speeds.require(name) if name in ("cas", "eas", "tas", "mach") else values[name]
-        result.add(name, value, DRAG_OUTPUTS[name][0])
+        result.add(name, value)
     _warn_beyond_polar(result, inputs, "cd", speeds.require("mach"))
     return result.response()
 
@@ -208,11 +205,11 @@ SPEEDS_OUTPUTS = ("minimum_drag", "minimum_power", "best_glide")
 
 class DragSpeedsRequest(_PolarInputs, ComputeSchema):
     OUTPUTS = SPEEDS_OUTPUTS
-    SPEC_RULES = _PolarInputs.SPEC_RULES
+    RULES = POLAR_RULES
 
     weight = weight_field("Weight", required=True)
     wing_area = wing_area_field()
-    wing_area.required = True
+    wing_area.required = True  # the shared field factories make optional fields
     altitude = air.altitude_field(_ALTITUDE)
     isa_deviation = air.isa_deviation_field()
     temperature = air.temperature_field()
@@ -252,7 +249,7 @@ BestGlideOut = _condition_schema("BestGlideOut", {
     "glide_distance": quantity_out("With `height`: still-air distance over the ground, height x glide ratio [NM]."),
 })
 
-DragSpeedsResponse = response_schema("DragSpeedsResponse", {
+DragSpeedsResponse = response_schema("DragSpeedsResponse", {}, DragSpeedsRequest, fields={
     "minimum_drag": ma.fields.Nested(MinimumDragOut, metadata={
         "description": "Steady level flight at minimum drag, the least thrust required: the maximum L/D."}),
     "minimum_power": ma.fields.Nested(MinimumPowerOut, metadata={
@@ -260,8 +257,7 @@ DragSpeedsResponse = response_schema("DragSpeedsResponse", {
                        "a glide, the speed of minimum sink."}),
     "best_glide": ma.fields.Nested(BestGlideOut, metadata={
         "description": "The flattest steady glide in still air, power off: at the maximum L/D, with the speed "
-                       "along the path from L = W cos(glide angle)."}),
-}, inputs=DragSpeedsRequest)
+                       "along the path from L = W cos(glide angle)."})})
 
 
 @blp.route("/drag/speeds", methods=["POST"])

@@ -32,9 +32,9 @@ from typing import NamedTuple
 
 import numpy as np
 
+from .arrays import result
 from .atmosphere import pressure_altitude
 from .constants import GAMMA, P0
-from .shapes import broadcast_out
 
 __all__ = ["BuffetMargins", "buffet_cl", "buffet_margins", "check_buffet_table"]
 
@@ -226,5 +226,5 @@ def buffet_margins(weight, wing_area, mach, p, table_mach, table_cl, margin=None
         wd_max = capacity * P0
         p_min = weight / capacity
         w_max = capacity * p
-    return BuffetMargins(*broadcast_out(cl, cl_b, n_b, bank, weight * P0 / p, wd_max, pressure_altitude(p_min),
-                                        w_max))
+    arrays = np.broadcast_arrays(cl, cl_b, n_b, bank, weight * P0 / p, wd_max, pressure_altitude(p_min), w_max)
+    return BuffetMargins(*map(result, arrays))

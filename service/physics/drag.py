@@ -39,8 +39,8 @@ from typing import NamedTuple
 
 import numpy as np
 
+from .arrays import result
 from .constants import RHO0
-from .shapes import broadcast_out
 
 __all__ = [
     "POLAR_MACH_LIMIT",
@@ -428,8 +428,8 @@ def flight_condition(weight, wing_area, q, tas, cd0, k, load_factor=1.0):
         cl = _f(load_factor) * _f(weight) / (q * _f(wing_area))
         cd = cd0 + k * cl * cl
         drag = q * _f(wing_area) * cd
-        return LevelCondition(*broadcast_out(cl, cd, cl / cd, q, np.sqrt(2.0 * q / RHO0), tas, drag,
-                                             drag * _f(tas)))
+        arrays = np.broadcast_arrays(cl, cd, cl / cd, q, np.sqrt(2.0 * q / RHO0), tas, drag, drag * _f(tas))
+    return LevelCondition(*map(result, arrays))
 
 
 def level_condition(weight, wing_area, cl, cd0, k, rho, load_factor=1.0):
@@ -638,7 +638,8 @@ def best_glide(weight, wing_area, cd0, k, rho):
     gamma = np.arctan(1.0 / ratio)
     q = _f(weight) * np.cos(gamma) / (_f(wing_area) * cl)
     tas = np.sqrt(2.0 * q / _f(rho))
-    return GlideCondition(*broadcast_out(ratio, gamma, cl, np.sqrt(2.0 * q / RHO0), tas, tas * np.sin(gamma)))
+    arrays = np.broadcast_arrays(ratio, gamma, cl, np.sqrt(2.0 * q / RHO0), tas, tas * np.sin(gamma))
+    return GlideCondition(*map(result, arrays))
 
 
 def glide_distance(height, glide_ratio):

@@ -28,7 +28,7 @@ from typing import NamedTuple
 import numpy as np
 
 from .airspeed import speed_schedule
-from .shapes import broadcast_out
+from .arrays import result
 
 __all__ = ["GOVERNING", "LimitedSchedule", "limited_speed_schedule"]
 
@@ -114,4 +114,5 @@ def limited_speed_schedule(cas, mach, p, T, altitude, limit_cas, limit_altitude)
     limited = (np.asarray(altitude, dtype=float) < np.asarray(limit_altitude, dtype=float)) & (limit_cas < cas)
     flown = speed_schedule(np.where(limited, limit_cas, cas), mach, p, T)
     governing = np.where(flown.governing_mach, 1, np.where(limited, 2, 0))
-    return LimitedSchedule(*broadcast_out(governing, flown.cas, flown.mach, flown.tas, flown.eas))
+    arrays = np.broadcast_arrays(governing, flown.cas, flown.mach, flown.tas, flown.eas)
+    return LimitedSchedule(*map(result, arrays))

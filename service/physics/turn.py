@@ -29,8 +29,8 @@ from typing import NamedTuple
 
 import numpy as np
 
+from .arrays import result
 from .constants import G0
-from .shapes import broadcast_out
 
 __all__ = ["STANDARD_RATE", "LevelTurn", "level_turn"]
 
@@ -129,4 +129,5 @@ def level_turn(tas, *, bank_angle=None, load_factor=None, turn_rate=None):
         turning = omega > 0.0
         radius = np.where(turning, tas / omega, np.nan)
         time_for_360 = np.where(turning, 2.0 * np.pi / omega, np.nan)
-    return LevelTurn(*broadcast_out(np.arctan(tan_phi), np.hypot(1.0, tan_phi), omega, radius, time_for_360))
+    arrays = np.broadcast_arrays(np.arctan(tan_phi), np.hypot(1.0, tan_phi), omega, radius, time_for_360)
+    return LevelTurn(*map(result, arrays))
