@@ -1,5 +1,6 @@
-"""POST /v1/lift/turn and /v1/lift/buffet through the test client: ICAO PANS-OPS turn formulas, the trade's rules
-of thumb, ICAO standard pressures and aerocalc3, the nulls, warnings and refusals.
+"""POST /v1/lift/turn and /v1/lift/buffet (service/api/lift/turn.py, buffet.py) through the test client: ICAO
+PANS-OPS turn formulas, the trade's rules of thumb, ICAO standard pressures and aerocalc3, the nulls, warnings and
+refusals.
 
 Unit constants are typed here (exact definitions), not imported from the service.
 """
