@@ -142,3 +142,10 @@ def test_grid_and_csv(client):
 )
 def test_refusals(client, path, body, pointer):
     assert_problem(post(client, path, body), 422, pointer)
+
+
+@pytest.mark.parametrize("altitude", [{"value": -5000, "unit": "m"}, {"value": 84852, "unit": "m"}])
+def test_speeds_at_the_ends_of_the_atmosphere(client, altitude):
+    # The model's range ends: 200 and finite (the Mach numbers far aloft are beyond the polar: a warning).
+    doc = post(client, "/v1/drag/speeds", NR200 | {"altitude": altitude}).json
+    assert doc["minimum_drag"]["tas"]["value"] > 0 and doc["best_glide"]["sink_rate"]["value"] > 0

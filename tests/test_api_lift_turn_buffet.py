@@ -164,3 +164,21 @@ def test_buffet_refusals(client, body, pointer):
 def test_buffet_is_required(client):
     assert_problem(post(client, "/v1/lift/buffet", {"weight": 22000, "wing_area": 61, "mach": 0.74,
                                                     "altitude": 37000}), 422, "/buffet")
+
+
+# --- Valid edges: 200 and finite -------------------------------------------------------------------------------
+
+
+@pytest.mark.parametrize("bank", [89.999999, 1e-9])
+def test_turn_at_bank_edges(client, bank):
+    doc = post(client, "/v1/lift/turn", {"tas": 200, "altitude": 0, "bank_angle": bank}).json
+    assert doc["warnings"] == [] and all(isinstance(doc[k]["value"], float) for k in ("radius", "time_for_360"))
+    assert doc["load_factor"] == pytest.approx(1 / math.cos(math.radians(bank)), rel=1e-9)
+
+
+@pytest.mark.parametrize("mach", [0.40, 0.80])
+def test_buffet_at_the_table_ends(client, mach):
+    # The table's first and last rows are inside it (interpolation, not extrapolation).
+    doc = post(client, "/v1/lift/buffet", {"weight": 22000, "wing_area": 61, "mach": mach, "altitude": 30000,
+                                           "buffet": TABLE}).json
+    assert doc["buffet_cl"] == pytest.approx(TABLE["cl"][TABLE["mach"].index(mach)], rel=1e-15)
