@@ -123,6 +123,8 @@ DRAG_OUTPUTS = {
     "tas": ("speed", "True airspeed [kt]."),
     "mach": (None, "Mach number [-]."),
     "dynamic_pressure": ("pressure", "Dynamic pressure q = 1/2 rho TAS^2 = (gamma/2) p M^2 [hPa]."),
+    "pressure_altitude": ("altitude", "Pressure altitude [ft]."),
+    "density_altitude": ("altitude", "Density altitude [ft]; null (with a warning) outside the model's range."),
     "density": ("density", "Air density [kg/m3]."),
 }
 _ONE_POINT = "One of ias, cas, eas, tas, mach or cl: the flight condition (with cl, the speed follows from the lift)."
@@ -190,9 +192,13 @@ def drag(inputs):
         point = dp.flight_condition(weight, area, q, speeds.require("tas"), cd0, k, n)
     values = {"cl": point.cl, "cd": point.cd, "drag": point.drag, "lift_to_drag": point.lift_to_drag,
               "thrust_required": point.drag, "power_required": point.power, "dynamic_pressure": point.q,
-              "density": state.rho}
+              "density": state.rho, "pressure_altitude": state.H}
     for name in inputs.outputs:
-        value = speeds.require(name) if name in ("cas", "eas", "tas", "mach") else values[name]
+        if name == "density_altitude":
+            value = result.null_where(name, state.density_altitude, "The density altitude lies outside the model's "
+                                                                    "range.")
+        else:
+            value = speeds.require(name) if name in ("cas", "eas", "tas", "mach") else values[name]
         result.add(name, value)
     _warn_beyond_polar(result, inputs, "cd", speeds.require("mach"))
     return result.response()
