@@ -132,7 +132,8 @@ _ONE_POINT = "One of ias, cas, eas, tas, mach or cl: the flight condition (with 
 
 #: One flight condition: a speed of any kind, or a CL.
 ONE_FLIGHT_CONDITION = ExactlyOne(
-    *KINDS, "cl", missing="Missing the flight condition: " + _ONE_POINT,
+    *KINDS, "cl", missing="Missing the flight condition: give one of ias, cas, eas, tas, mach or cl (with cl, the "
+                          "speed follows from the lift).",
     message=lambda given: f"Give one of ias, cas, eas, tas, mach or cl; this request gives {', '.join(given)}.")
 
 

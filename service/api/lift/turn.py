@@ -45,8 +45,9 @@ _ALTITUDE = ("Altitude [ft]: a pressure altitude (FL allowed), or the indicated 
 
 class TurnRequest(ComputeSchema):
     OUTPUTS = TURN_OUTPUTS
-    RULES = (one_speed("Missing the speed: " + _ONE_SPEED), IAS_NEEDS_CALIBRATION, CALIBRATION_NEEDS_IAS,
-             ExactlyOne(*TURN_INPUTS, missing="Missing the turn: " + _ONE_TURN,
+    RULES = (one_speed("Missing the speed: give one of ias, cas, eas, tas, mach."), IAS_NEEDS_CALIBRATION,
+             CALIBRATION_NEEDS_IAS,
+             ExactlyOne(*TURN_INPUTS, missing="Missing the turn: give one of bank_angle, load_factor, turn_rate.",
                         message=lambda given: f"Give one of bank_angle, load_factor, turn_rate; this request gives "
                                               f"{', '.join(given)}."))
 
