@@ -110,6 +110,32 @@ DIMENSIONS: dict[str, Dimension] = {
             Unit("1/rad", 1.0, description="per radian"),
             Unit("1/deg", 180.0 / math.pi, description="per degree"),
         )),
+        _dim("distance", "m", "NM", "Horizontal distance (turn radius, glide distance)", (
+            Unit("NM", 1852.0, description="international nautical mile (1852 m, exact)"),
+            Unit("km", 1000.0, description="kilometre"),
+            Unit("m", 1.0, description="metre"),
+            Unit("ft", FT, description="international foot (0.3048 m, exact)"),
+            Unit("mi", MILE, description="statute mile (5280 ft, exact)"),
+        )),
+        _dim("vertical_speed", "m/s", "ft/min", "Vertical speed (rate of climb or sink)", (
+            Unit("ft/min", FT / 60.0, description="foot per minute"),
+            Unit("m/s", 1.0, description="metre per second"),
+        )),
+        _dim("power", "W", "kW", "Power", (
+            Unit("kW", 1000.0, description="kilowatt"),
+            Unit("W", 1.0, description="watt"),
+            Unit("hp", 550.0 * FT * LBF, description="mechanical horsepower (550 ft lbf/s)"),
+        )),
+        _dim("time", "s", "s", "Time", (
+            Unit("s", 1.0, description="second"),
+            Unit("min", 60.0, description="minute"),
+        )),
+        _dim("angular_rate", "rad/s", "deg/s", "Rate of turn", (
+            Unit("deg/s", math.pi / 180.0, description="degree per second"),
+            Unit("rad/s", 1.0, description="radian per second"),
+            Unit("standard_rate", math.pi / 60.0, description="multiples of the standard rate of turn, 3 deg/s "
+                                                              "(rate one: 360 deg in 2 minutes)"),
+        )),
         _dim("wing_loading", "N/m2", "N/m2", "Wing loading", (
             Unit("N/m2", 1.0, description="newton per square metre"),
             Unit("kg/m2", G0, description="kilogram per square metre (weight as mass, times g0)"),

@@ -6,7 +6,7 @@ Infinity) and a problem document (RFC 9457: type, title, status, detail), and a 
 (RFC 6901) to the offending value wherever there is one. The expectations follow DESIGN.md
 ("Errors"): 400 malformed JSON and NaN/Infinity, 415 wrong content type, 422 invalid or
 physically impossible values (with the pointer "" for a body that is not an object), 404/405
-for routing. The generic kinds run at all seven endpoints from a valid body of each; the kinds
+for routing. The generic kinds run at every compute endpoint from a valid body of each; the kinds
 that concern one sort of input run at every endpoint that has it.
 """
 
@@ -38,6 +38,17 @@ ENDPOINTS = {
                        "quantity": "wing_area", "number": "cl_max", "arrays": ("weight", "altitude")},
     "/v1/lift/curve": {"body": {"aspect_ratio": 11, "sweep_half_chord": 0, "mach": 0.3, "cl": 0.9},
                        "quantity": "sweep_half_chord", "number": "aspect_ratio", "arrays": ("aspect_ratio", "cl")},
+    "/v1/lift/turn": {"body": {"tas": 200, "altitude": 5000, "bank_angle": 25},
+                      "quantity": "altitude", "number": None, "arrays": ("tas", "altitude")},
+    "/v1/lift/buffet": {"body": {"weight": 21000, "wing_area": 61, "mach": 0.74, "altitude": 37000,
+                                 "buffet": {"mach": [0.6, 0.8], "cl": [0.9, 0.5]}, "margin": 1.3},
+                        "quantity": "weight", "number": "mach", "arrays": ("weight", "altitude")},
+    "/v1/drag": {"body": {"weight": 21000, "wing_area": 61, "cd0": 0.024, "aspect_ratio": 11,
+                          "oswald_efficiency": 0.78, "mach": 0.45, "altitude": 25000},
+                 "quantity": "weight", "number": "cd0", "arrays": ("weight", "altitude")},
+    "/v1/drag/speeds": {"body": {"weight": 21000, "wing_area": 61, "cd0": 0.024, "induced_drag_factor": 0.0371,
+                                 "altitude": 25000},
+                        "quantity": "wing_area", "number": "cd0", "arrays": ("weight", "altitude")},
 }
 PATHS = tuple(ENDPOINTS)
 

@@ -57,6 +57,29 @@ BULK = {
         "cl": 0.8,
         "cl_max": 1.6,
     },
+    # Drag, turns and buffet: subsonic, inside the polar's Mach limit and the buffet table, no warnings.
+    "/v1/drag": lambda n: {
+        "weight": np.linspace(15000, 23000, n).tolist(),
+        "wing_area": 61, "cd0": 0.024, "aspect_ratio": 11, "oswald_efficiency": 0.78,
+        "cas": np.linspace(160, 250, n).tolist(),
+        "altitude": 10000, "bank_angle": 20,
+    },
+    "/v1/drag/speeds": lambda n: {
+        "weight": np.linspace(15000, 23000, n).tolist(),
+        "wing_area": 61, "cd0": 0.024, "induced_drag_factor": 0.0371,
+        "altitude": np.linspace(0, 20000, n).tolist(), "height": 5000,
+    },
+    "/v1/lift/turn": lambda n: {
+        "cas": np.linspace(150, 250, n).tolist(),
+        "altitude": np.linspace(0, 20000, n).tolist(), "turn_rate": 3,
+    },
+    "/v1/lift/buffet": lambda n: {
+        "weight": np.linspace(15000, 23000, n).tolist(),
+        "wing_area": 61, "mach": np.linspace(0.6, 0.78, n).tolist(), "altitude": 35000,
+        "buffet": {"mach": [0.30, 0.40, 0.50, 0.60, 0.66, 0.70, 0.74, 0.78, 0.82],
+                   "cl": [1.30, 1.20, 1.08, 0.94, 0.84, 0.76, 0.66, 0.55, 0.42]},
+        "margin": 1.3,
+    },
 }
 
 

@@ -24,6 +24,7 @@ from hypothesis import HealthCheck, settings
 from schemathesis.checks import positive_data_acceptance
 
 from service import create_app
+from service.api.drag import ONE_FLIGHT_CONDITION
 from service.api.speeds import AT_MOST_ONE_SPEED
 from tests.live_server import running_gunicorn
 
@@ -41,6 +42,10 @@ CONFIG = {
     # with valid data only: its invalid variants number hundreds per operation, unbounded by
     # max-examples; the fuzzing phase sends invalid data, and tests/test_bad_inputs.py catalogues it.
     "phases": {"coverage": {"generation": {"mode": "positive"}}},
+    # Invalid data may also be refused for its size: the point count (the product of a grid's axes) is checked
+    # before the schema, cheapest first, and is a documented 413.
+    "checks": {"negative_data_rejection": {"expected-statuses": [
+        "400", "401", "403", "404", "405", "406", "409", "413", "415", "422", "428", "429", "5xx"]}},
 }
 
 #: The spec the application publishes (tests/test_spec.py: the same as openapi/openapi.json and /openapi.json).
@@ -51,7 +56,8 @@ SPEC = create_app({"TESTING": True}).test_client().get("/openapi.json").json
 #: canonicalisation gives up: UnsupportedSchema): {schema: (rule, ...)}. Requests for those
 #: schemas are generated without them; each one generated as valid is then checked against the
 #: whole published schema (valid_by_spec), and is positive data only if it passes.
-GENERATED_WITHOUT = {"LiftStallRequest": (AT_MOST_ONE_SPEED.spec(),)}  # at most one speed, for the margin
+GENERATED_WITHOUT = {"LiftStallRequest": (AT_MOST_ONE_SPEED.spec(),),  # at most one speed, for the margin
+                     "DragRequest": (ONE_FLIGHT_CONDITION.spec(),)}  # one flight condition: a speed or a CL
 
 GENERATION_SPEC = copy.deepcopy(SPEC)
 for _name, _rules in GENERATED_WITHOUT.items():
@@ -102,6 +108,10 @@ INEXPRESSIBLE = [
     # must lie within its IAS column: order, equal lengths and a range set by another input.
     ("calibration table", lambda doc: _pointers(doc) <= {"/calibration/ias", "/calibration/cas", "/ias"}
      and any(word in _messages(doc) for word in ("strictly increasing", "same length", "calibration table"))),
+    # A buffet table's Mach column must be strictly increasing and its columns of one length, and the Mach number
+    # of the point must lie within the table (never extrapolated): order, lengths and a range set by another input.
+    ("buffet table", lambda doc: _pointers(doc) <= {"/buffet/mach", "/buffet/cl", "/mach"}
+     and any(word in _messages(doc) for word in ("strictly increasing", "same length", "buffet table"))),
 ]
 
 

@@ -266,11 +266,86 @@ def curve_request(draw):
     return body
 
 
+@st.composite
+def polar(draw):
+    body = {"cd0": draw(st.floats(1e-4, 1.0))}
+    if draw(st.booleans()):
+        return body | {"induced_drag_factor": draw(st.floats(1e-4, 1.0))}
+    return body | {"aspect_ratio": draw(st.floats(0.1, 100)), "oswald_efficiency": draw(st.floats(0.01, 1.0))}
+
+
+@st.composite
+def one_speed(draw, size):
+    kind = draw(st.sampled_from(["cas", "eas", "tas", "mach"]))
+    return {kind: draw(st.floats(1e-3, 5.0)) if kind == "mach" else draw(quantity(SPEED, size))}
+
+
+@st.composite
+def drag_request(draw):
+    size = draw(SIZES)
+    body = {"weight": draw(st.floats(100, 600_000)), "wing_area": draw(st.floats(5, 900)), **draw(polar()),
+            "altitude": draw(quantity(ALTITUDE, size)), **draw(day(size))}
+    body |= {"cl": draw(st.floats(0.01, 10))} if draw(st.booleans()) else draw(one_speed(size))
+    if draw(st.booleans()):
+        body["bank_angle"] = draw(quantity(BANK, size))
+    return body
+
+
+@st.composite
+def drag_speeds_request(draw):
+    size = draw(SIZES)
+    body = {"weight": draw(st.floats(100, 600_000)), "wing_area": draw(st.floats(5, 900)), **draw(polar()),
+            "altitude": draw(quantity(ALTITUDE, size)), **draw(day(size))}
+    if draw(st.booleans()):
+        body["height"] = draw(st.floats(1, 280_000))
+    return body
+
+
+@st.composite
+def turn_request(draw):
+    size = draw(SIZES)
+    body = {**draw(one_speed(size)), "altitude": draw(quantity(ALTITUDE, size)), **draw(day(size))}
+    which = draw(st.sampled_from(["bank_angle", "load_factor", "turn_rate"]))
+    body[which] = {"bank_angle": draw(quantity(BANK, size)), "load_factor": draw(st.floats(1, 1e6)),
+                   "turn_rate": draw(st.floats(0, 100))}[which]
+    return body
+
+
+@st.composite
+def buffet_request(draw):
+    size = draw(SIZES)
+    mach = sorted(draw(st.lists(st.floats(0.05, 1.5), min_size=2, max_size=6, unique=True)))
+    table = {"mach": mach, "cl": draw(st.lists(st.floats(0.01, 3), min_size=len(mach), max_size=len(mach)))}
+    body = {"weight": draw(st.floats(100, 600_000)), "wing_area": draw(st.floats(5, 900)), "buffet": table,
+            "mach": draw(st.floats(mach[0], mach[-1])), "altitude": draw(quantity(ALTITUDE, size)), **draw(day(size))}
+    if draw(st.booleans()):
+        body["margin"] = draw(st.floats(1, 3))
+    return body
+
+
+@st.composite
+def limited_schedule_request(draw):
+    return draw(schedule_request()) | {"speed_limit": {"cas": draw(st.floats(50, 500)),
+                                                       "altitude": draw(st.floats(-1000, 40000))}}
+
+
 VALID = {
     "/v1/atmosphere": atmosphere_request(), "/v1/airspeed": airspeed_request(),
     "/v1/airspeed/crossover": crossover_request(), "/v1/airspeed/schedule": schedule_request(),
     "/v1/lift/solve": solve_request(), "/v1/lift/stall": stall_request(), "/v1/lift/curve": curve_request(),
+    "/v1/drag": drag_request(), "/v1/drag/speeds": drag_speeds_request(), "/v1/lift/turn": turn_request(),
+    "/v1/lift/buffet": buffet_request(),
 }
+
+
+def test_schedule_with_a_speed_limit_gives_finite_answers(client):
+    @SETTINGS
+    @given(limited_schedule_request())
+    def check(body):
+        assert_answer(client.post("/v1/airspeed/schedule", data=json.dumps(body, allow_nan=False),
+                                  content_type="application/json"))
+
+    check()
 
 
 def _numbers(doc, prefix=""):
@@ -326,7 +401,8 @@ FIELD_NAMES = st.sampled_from(["altitude", "isa_deviation", "temperature", "qnh"
                                "tas", "eas", "ias", "weight", "wing_area", "cl", "cl_max", "bank_angle",
                                "load_factor", "calibration", "reference", "wing", "speed_factors", "solve_for",
                                "aspect_ratio", "sweep_half_chord", "angle_of_attack", "outputs", "output_units",
-                               "grid", "unknown_field"])
+                               "grid", "unknown_field", "cd0", "induced_drag_factor", "oswald_efficiency",
+                               "mach_limit", "height", "turn_rate", "buffet", "margin", "speed_limit"])
 
 
 @pytest.mark.parametrize("path", sorted(ENDPOINTS))

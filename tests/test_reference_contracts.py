@@ -56,6 +56,16 @@ WARNINGS = [
     ("transonic angle of attack", "/v1/lift/solve",
      {"solve_for": "cl", "weight": 21000, "wing_area": 61, "mach": _bad_at(N, BAD, 0.5, 0.75), "altitude": 30000,
       "wing": {"aspect_ratio": 8, "sweep_half_chord": 0}, "outputs": ["angle_of_attack"]}, "angle_of_attack", None),
+    ("wings level: no turn radius", "/v1/lift/turn",
+     {"tas": 200, "altitude": 5000, "bank_angle": _bad_at(N, BAD, 25.0, 0.0), "outputs": ["radius"]},
+     "radius", ("radius", "value")),
+    ("beyond buffet onset in 1 g", "/v1/lift/buffet",
+     {"weight": _bad_at(N, BAD, 20000.0, 60000.0), "wing_area": 61, "mach": 0.74, "altitude": 41000,
+      "buffet": {"mach": [0.6, 0.8], "cl": [0.8, 0.5]}, "outputs": ["bank_to_buffet"]},
+     "bank_to_buffet", ("bank_to_buffet", "value")),
+    ("drag beyond the polar's Mach limit", "/v1/drag",
+     {"weight": 21000, "wing_area": 61, "cd0": 0.024, "induced_drag_factor": 0.037, "altitude": 35000,
+      "mach": _bad_at(N, BAD, 0.5, 0.7)}, "cd", None),
 ]
 
 
@@ -206,6 +216,16 @@ GRIDS = [
                         "outputs": ["angle_of_attack"], "output_units": {"angle": "rad"}},
      {"aspect_ratio": (None, [8.0, 8.0, 11.0, 11.0]), "sweep_half_chord": ("rad", [0.0] * 4),
       "mach": (None, [0.3] * 4), "cl": (None, [0.2, 0.9, 0.2, 0.9])}),
+    ("/v1/lift/turn", {"tas": [150, 250], "altitude": 5000, "turn_rate": [3, 1.5], "grid": True,
+                       "outputs": ["radius"], "output_units": {"angular_rate": "standard_rate", "speed": "m/s"}},
+     {"tas": ("m/s", [150 * 1852 / 3600] * 2 + [250 * 1852 / 3600] * 2), "altitude": ("ft", [5000.0] * 4),
+      "turn_rate": ("standard_rate", [1.0, 0.5] * 2)}),
+    ("/v1/drag/speeds", {"weight": [20000, 22000], "wing_area": 61, "cd0": 0.024, "induced_drag_factor": 0.037,
+                         "altitude": 20000, "height": [10000, 20000], "grid": True, "outputs": ["best_glide"],
+                         "output_units": {"altitude": "m", "force": "kN"}},
+     {"weight": ("kN", [20 * 9.80665] * 2 + [22 * 9.80665] * 2), "wing_area": ("m2", [61.0] * 4),
+      "cd0": (None, [0.024] * 4), "induced_drag_factor": (None, [0.037] * 4), "altitude": ("m", [6096.0] * 4),
+      "height": ("m", [3048.0, 6096.0] * 2)}),
 ]
 
 
@@ -248,6 +268,16 @@ SINGLE = [
                         "bank_angle": 40, "speed_factors": [1.3], "cas": 150}),
     ("/v1/lift/curve", {"aspect_ratio": 9, "sweep_half_chord": 20, "mach": 0.6, "angle_of_attack": 5,
                         "zero_lift_angle": -2, "cl_max": 1.4, "output_units": {"lift_slope": "1/deg"}}),
+    ("/v1/lift/turn", {"cas": 210, "altitude": 5000, "qnh": 1000, "turn_rate": {"value": 1, "unit": "standard_rate"},
+                       "output_units": {"distance": "ft", "time": "min", "angular_rate": "rad/s"}}),
+    ("/v1/lift/buffet", {"weight": 21000, "wing_area": 61, "mach": 0.74, "altitude": 37000, "temperature": -50,
+                         "buffet": {"mach": [0.6, 0.8], "cl": [0.8, 0.5]}, "margin": 1.3,
+                         "output_units": {"mass": "lb", "altitude": "FL"}}),
+    ("/v1/drag", {"weight": 21000, "wing_area": 61, "cd0": 0.024, "aspect_ratio": 11, "oswald_efficiency": 0.78,
+                  "cas": 250, "altitude": 20000, "bank_angle": 20, "output_units": {"power": "hp", "force": "lbf"}}),
+    ("/v1/drag/speeds", {"weight": 21000, "wing_area": 61, "cd0": 0.024, "induced_drag_factor": 0.037,
+                         "altitude": 20000, "isa_deviation": 10, "height": 20000,
+                         "output_units": {"distance": "km", "vertical_speed": "m/s", "power": "W"}}),
 ]
 
 _POINT_FIELDS = {"altitude", "temperature", "isa_deviation", "qnh", "cas", "mach", "tas", "ias", "weight",

@@ -24,7 +24,7 @@ from tests.helpers import post
 
 SPEC = json.loads(spec_text())
 SCHEMAS = SPEC["components"]["schemas"]
-TAGS = ("atmosphere", "airspeed", "lift", "service")
+TAGS = ("atmosphere", "airspeed", "lift", "drag", "service")
 HTTP_METHODS = ("get", "put", "post", "delete", "options", "head", "patch", "trace")
 #: The keywords under which a schema holds further schemas that describe data (alternatives, items, members).
 #: allOf/not/if/then/else hold the cross-field rules, which restate properties already described.

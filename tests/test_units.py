@@ -42,6 +42,14 @@ EXACT = [
     ("lift_slope", "1/deg", 0.1, 0.1 * 180 / math.pi),
     ("wing_loading", "kg/m2", 1.0, 9.80665),
     ("wing_loading", "lb/ft2", 1.0, 0.45359237 * 9.80665 / 0.09290304),
+    ("distance", "NM", 1.0, 1852.0),
+    ("distance", "mi", 1.0, 1609.344),
+    ("vertical_speed", "ft/min", 1000.0, 5.08),
+    ("power", "hp", 1.0, 745.69987158227022),  # NIST SP 811: horsepower (550 ft lbf/s) = 7.456999e2 W
+    ("power", "kW", 1.0, 1000.0),
+    ("time", "min", 2.0, 120.0),
+    ("angular_rate", "deg/s", 3.0, math.pi / 60),
+    ("angular_rate", "standard_rate", 1.0, math.pi / 60),  # ICAO Doc 8168: the standard rate of turn, 3 deg/s
 ]
 
 

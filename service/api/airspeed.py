@@ -7,6 +7,7 @@ import numpy as np
 
 from service import units
 from service.api import air, examples
+from service.api import speed_limit as limits
 from service.api.base import COMPUTE_PROBLEMS, Blueprint
 from service.api.inputs import ComputeSchema, outputs_field
 from service.api.masks import any_true, first_indices
@@ -206,8 +207,7 @@ def crossover(inputs):
 # --- POST /v1/airspeed/schedule ------------------------------------------------------------------
 
 SCHEDULE_OUTPUTS = {
-    "governing": (None, "Which speed governs at the point: \"cas\" below the crossover altitude (the CAS is flown), "
-                        "\"mach\" above it (the Mach number is flown)."),
+    "governing": (None, limits.GOVERNING_DESCRIPTION),
     "cas": ("speed", "Calibrated airspeed flown [kt]."),
     "mach": (None, "Mach number flown [-]."),
     "tas": ("speed", "True airspeed flown [kt]."),
@@ -230,11 +230,12 @@ class ScheduleRequest(ComputeSchema):
     altitude = air.altitude_field(_ALTITUDE)
     isa_deviation = air.isa_deviation_field()
     temperature = air.temperature_field()
+    speed_limit = limits.speed_limit_field()
     outputs = outputs_field(SCHEDULE_OUTPUTS)
 
 
 ScheduleResponse = response_schema("ScheduleResponse", SCHEDULE_OUTPUTS, ScheduleRequest, fields={
-    "governing": LabelOut(["cas", "mach"], metadata={"description": SCHEDULE_OUTPUTS["governing"][1]})})
+    "governing": LabelOut(limits.GOVERNING_LABELS, metadata={"description": SCHEDULE_OUTPUTS["governing"][1]})})
 
 
 @blp.route("/airspeed/schedule", methods=["POST"])
@@ -246,21 +247,22 @@ def schedule(inputs):
 
     The speeds of a schedule "fly `cas` until it reaches `mach`, then hold `mach`" (a climb; a descent flies it the
     other way round) at each altitude: which of the two governs, the CAS, Mach, TAS and EAS flown, and the crossover
-    altitude. The example is the NR-200's 290 kt / M0.76 climb on an ISA+10 day.
+    altitude. With `speed_limit` the CAS flown below its altitude is at most its CAS (the common 250 kt below
+    10,000 ft), and `governing` reads "limit" there. The example is the NR-200's 290 kt / M0.76 climb on an ISA+10
+    day.
     """
     result = Result(inputs)
     state = air.air(inputs)
     cas, mach = inputs.si("cas"), inputs.si("mach")
     if any(map(inputs.wants, _SCHEDULE_SPEEDS)):
-        flown = spd.speed_schedule(cas, mach, state.p, state.T)
+        governing, flown = limits.flown(inputs, cas, mach, state)
         missing = np.isnan(flown.mach)
         if any_true(missing):
             raise no_solution("mach", missing, "the CAS given has no Mach number here (beyond the range of the "
                                                "airspeed relations).")
         for name in _SCHEDULE_SPEEDS:
             if inputs.wants(name):
-                values = np.where(flown.governing_mach, "mach", "cas") if name == "governing" else getattr(flown, name)
-                result.add(name, values)
+                result.add(name, governing if name == "governing" else getattr(flown, name))
     if inputs.wants("crossover_altitude"):
         H = spd.crossover_altitude(cas, mach)
         missing = np.isnan(H)

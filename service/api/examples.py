@@ -60,6 +60,9 @@ SCHEDULE = _examples(
     ("descent-with-oat", "A M0.74 / 280 kt descent with the outside air temperature at each level",
      {"cas": 280, "mach": 0.74, "altitude": {"value": [350, 300, 250, 200], "unit": "FL"},
       "temperature": [-50, -41, -31, -20], "outputs": ["governing", "cas", "mach", "tas"]}),
+    ("climb-under-250-below-10000", "The NR-200's 290 kt / M0.76 climb with the common 250 kt below 10,000 ft",
+     {"cas": 290, "mach": 0.76, "altitude": [3000, 8000, 10000, 15000, 25000, 35000], "isa_deviation": 10,
+      "speed_limit": {"cas": 250, "altitude": 10000}, "outputs": ["governing", "cas", "mach", "tas"]}),
 )
 
 LIFT_SOLVE = _examples(
@@ -115,4 +118,84 @@ LIFT_CURVE = _examples(
     ("cl-at-angles", "CL at three angles of attack for two aspect ratios, slope per degree",
      {"aspect_ratio": [9, 11], "sweep_half_chord": {"value": 0, "unit": "deg"}, "mach": 0.3,
       "airfoil_efficiency": 0.95, "angle_of_attack": [0, 4, 8], "grid": True, "output_units": {"lift_slope": "1/deg"}}),
+)
+
+# --- Drag, performance speeds, turns and buffet (invented NR-200 data: for demos only, never a reference) ---
+
+#: The NR-200's clean drag polar (invented): CD = 0.024 + k CL^2 with A = 11, e = 0.78.
+NR200_POLAR = {"cd0": 0.024, "aspect_ratio": 11, "oswald_efficiency": 0.78}
+#: The NR-200's 1 g buffet-onset boundary, CL against Mach (invented).
+NR200_BUFFET = {"mach": [0.30, 0.40, 0.50, 0.60, 0.66, 0.70, 0.74, 0.78, 0.82],
+                "cl": [1.30, 1.20, 1.08, 0.94, 0.84, 0.76, 0.66, 0.55, 0.42]}
+
+DRAG = _examples(
+    ("nr200-cruise", "The NR-200's drag at 21 000 kg, Mach 0.45, FL250, ISA+5",
+     {"weight": 21000, "wing_area": 61, **NR200_POLAR, "mach": 0.45, "altitude": {"value": 250, "unit": "FL"},
+      "isa_deviation": 5}),
+    ("holding-turn", "In a 25 deg holding turn at 210 kt IAS, 10 000 ft, with k given directly, forces in kN",
+     {"weight": 22000, "wing_area": 61, "cd0": 0.024, "induced_drag_factor": 0.0371, "ias": 210,
+      "calibration": NR200_CALIBRATION, "altitude": 10000, "temperature": -5, "bank_angle": 25,
+      "outputs": ["cl", "cd", "drag", "lift_to_drag", "power_required", "cas", "tas"],
+      "output_units": {"force": "kN", "power": "hp"}}),
+    ("polar-sweep", "The polar swept over CL at 3000 ft on a QNH day (the speeds follow from the CL)",
+     {"weight": 20000, "wing_area": 61, **NR200_POLAR, "cl": [0.3, 0.5, 0.8, 1.1], "altitude": 3000, "qnh": 1008,
+      "load_factor": 1.0, "mach_limit": 0.7, "outputs": ["cd", "lift_to_drag", "drag", "eas", "mach"]}),
+    ("tas-eas-grid", "A grid of TAS and weights at 5000 m geometric height",
+     {"weight": {"value": [18, 23], "unit": "t"}, "wing_area": 61, **NR200_POLAR, "tas": [220, 260, 300],
+      "altitude": {"value": 5000, "unit": "m"}, "altitude_kind": "geometric", "grid": True,
+      "outputs": ["drag", "thrust_required", "power_required"]}),
+    ("eas-at-fl180", "At 200 kt EAS, FL180",
+     {"weight": 21000, "wing_area": 61, **NR200_POLAR, "eas": 200, "altitude": {"value": 180, "unit": "FL"},
+      "outputs": ["drag", "dynamic_pressure", "density"]}),
+    ("cas-in-the-climb", "In the 290 kt climb at FL150 and FL250 on a -5 degC and a -25 degC day",
+     {"weight": 22500, "wing_area": 61, **NR200_POLAR, "cas": 290, "altitude": {"value": [150, 250], "unit": "FL"},
+      "temperature": [-5, -25], "outputs": ["cl", "drag", "power_required", "mach"]}),
+    ("beyond-the-polar", "At Mach 0.74, FL370: beyond the polar's default Mach limit, with the warning",
+     {"weight": 21000, "wing_area": 61, **NR200_POLAR, "mach": [0.55, 0.74], "altitude": {"value": 370, "unit": "FL"},
+      "outputs": ["cl", "cd", "drag", "lift_to_drag"]}),
+)
+
+DRAG_SPEEDS = _examples(
+    ("nr200-fl250", "The NR-200's characteristic speeds at 21 000 kg, FL250, ISA+5, gliding from 25 000 ft",
+     {"weight": 21000, "wing_area": 61, **NR200_POLAR, "altitude": {"value": 250, "unit": "FL"},
+      "isa_deviation": 5, "height": 25000}),
+    ("engine-out-glide", "Best glide from 8000 ft above Quillon Ridge (QNH 1008 hPa, 27 degC) at two weights",
+     {"weight": [19000, 23000], "wing_area": 61, "cd0": 0.024, "induced_drag_factor": 0.0371, "altitude": 15200,
+      "qnh": 1008, "temperature": 11, "height": {"value": 8000, "unit": "ft"}, "mach_limit": 0.65,
+      "outputs": ["best_glide"], "output_units": {"distance": "km", "vertical_speed": "m/s"}}),
+    ("altitude-grid", "Minimum drag and minimum power over a grid of weights and geometric heights, power in hp",
+     {"weight": [18000, 23000], "wing_area": 61, **NR200_POLAR, "altitude": {"value": [0, 6000], "unit": "m"},
+      "altitude_kind": "geometric", "grid": True, "outputs": ["minimum_drag", "minimum_power"],
+      "output_units": {"power": "hp"}}),
+)
+
+TURN = _examples(
+    ("standard-rate", "A standard-rate turn (3 deg/s) at 210 kt IAS, 5000 ft, ISA+10",
+     {"ias": 210, "calibration": NR200_CALIBRATION, "altitude": 5000, "isa_deviation": 10, "turn_rate": 3}),
+    ("holding-bank", "25 deg of bank at three TAS, radius in NM and time in minutes",
+     {"tas": [180, 230, 280], "altitude": 14000, "temperature": -10, "bank_angle": 25,
+      "output_units": {"time": "min"}}),
+    ("load-factor-cas", "A 1.5 g level turn at 250 kt CAS over Quillon Ridge, QNH 1008 hPa, radius in m",
+     {"cas": 250, "altitude": 9000, "qnh": 1008, "load_factor": 1.5, "output_units": {"distance": "m"}}),
+    ("rate-half-mach-grid", "Rate one and rate half over two Mach numbers at FL200 (grid)",
+     {"mach": [0.4, 0.5], "altitude": {"value": 200, "unit": "FL"}, "turn_rate": {"value": [1, 0.5],
+      "unit": "standard_rate"}, "grid": True, "outputs": ["bank_angle", "radius", "turn_rate"]}),
+    ("eas-geometric", "At 200 kt EAS, 3000 m geometric height",
+     {"eas": 200, "altitude": {"value": 3000, "unit": "m"}, "altitude_kind": "geometric", "bank_angle": 30}),
+)
+
+BUFFET = _examples(
+    ("nr200-cruise-margin", "The NR-200 at 21 000 kg, Mach 0.74, FL370: margins and the 1.3 g limits",
+     {"weight": 21000, "wing_area": 61, "mach": 0.74, "altitude": {"value": 370, "unit": "FL"},
+      "buffet": NR200_BUFFET, "margin": 1.3}),
+    ("levels-and-weights", "Three levels at two weights (grid), W/delta in lb",
+     {"weight": {"value": [18, 23], "unit": "t"}, "wing_area": 61, "mach": 0.72,
+      "altitude": {"value": [330, 370, 410], "unit": "FL"}, "buffet": NR200_BUFFET, "grid": True,
+      "outputs": ["load_factor_to_buffet", "bank_to_buffet", "weight_over_delta"], "output_units": {"mass": "lb"}}),
+    ("mach-sweep", "A Mach sweep at FL390 with a 1.5 g margin, altitudes in m",
+     {"weight": 22000, "wing_area": 61, "mach": [0.6, 0.7, 0.78], "altitude": 39000, "isa_deviation": 10,
+      "buffet": NR200_BUFFET, "margin": 1.5, "output_units": {"altitude": "m"}}),
+    ("quillon-ridge-departure", "Climbing out of Quillon Ridge: Mach 0.5 at 16 000 ft on QNH 1008 hPa, -2 degC",
+     {"weight": 23000, "wing_area": 61, "mach": 0.5, "altitude": 16000, "qnh": 1008, "temperature": -2,
+      "buffet": NR200_BUFFET, "outputs": ["cl", "load_factor_to_buffet", "bank_to_buffet", "cas", "tas"]}),
 )
