@@ -16,6 +16,8 @@ import orjson
 from flask import Response, g, request
 
 from service import units
+from service.api import arrow
+from service.api.arrow import Column
 from service.api.fields import any_true
 from service.api.inputs import Inputs, first_indices, no_solution
 from service.api.problems import Problem
@@ -193,22 +195,21 @@ class Result:
         body = orjson.dumps(self.document(), option=_JSON_OPTIONS)
         return Response(body, status=200, content_type="application/json")
 
-    def _columns(self):
-        """(header, values) for every leaf: inputs first, then outputs, dotted names."""
+    def _columns(self) -> list[Column]:
+        """Every leaf as a column: inputs first (``input.<name>``), then outputs, dotted names."""
         columns = []
 
         def walk(prefix, node, check=True):
             if isinstance(node, Leaf):
                 if node.dimension is None:
                     value = _plain(node.si, self.shape or (1,))
-                    header = prefix
+                    unit = None
                 else:
                     unit = unit_for(node.dimension, self.inputs.output_units)
                     value = _plain(units.from_si(node.si, _output_dimension(node.dimension), unit), self.shape or (1,))
-                    header = f"{prefix} [{unit}]"
                 if check:
                     self._check_finite(prefix, value)
-                columns.append((header, value))
+                columns.append(Column(prefix, unit, value, self._null_mask(prefix)))
             elif isinstance(node, dict):
                 for key, value in node.items():
                     walk(f"{prefix}.{key}" if prefix else key, value)
@@ -221,10 +222,17 @@ class Result:
         walk("", self.tree)
         return columns
 
+    def _null_mask(self, path: str):
+        """Where null_where made output ``path`` null (None: nowhere)."""
+        masks = [mask for field, mask in self._null_masks.items() if path == field or path.startswith(field + ".")]
+        if not masks:
+            return None
+        return np.logical_or.reduce(masks) if len(masks) > 1 else masks[0]
+
     def csv_response(self) -> Response:
         columns = self._columns()
-        header = ",".join(_csv_text(name) for name, _ in columns).encode()
-        values = [np.asarray(v) for _, v in columns]
+        header = ",".join(_csv_text(arrow.header(c.name, c.unit)) for c in columns).encode()
+        values = [np.asarray(c.values) for c in columns]
         if all(v.dtype.kind == "f" for v in values):
             table = np.column_stack(values) if values else np.empty((0, 0))
             text = orjson.dumps(table, option=_JSON_OPTIONS)
@@ -238,10 +246,22 @@ class Result:
             response.headers["X-Warnings"] = str(len(self.warnings))
         return response
 
+    def columnar_response(self, media_type: str) -> Response:
+        """The answer as an Arrow IPC stream or Parquet file (api.arrow): the CSV's columns, with nulls,
+        units in field metadata and the warnings in the schema metadata."""
+        response = Response(arrow.body(media_type, self._columns(), self.warnings), status=200,
+                            content_type=media_type)
+        if self.warnings:
+            response.headers["X-Warnings"] = str(len(self.warnings))
+        return response
+
     def response(self) -> Response:
-        """The answer in the format the client accepts (JSON unless text/csv is preferred)."""
-        if wants_csv():
+        """The answer in the format the client accepts (JSON unless another is preferred)."""
+        media_type = answer_media_type()
+        if media_type == CSV_MEDIA_TYPE:
             return self.csv_response()
+        if media_type in arrow.WRITERS:
+            return self.columnar_response(media_type)
         return self.json_response()
 
 
@@ -252,17 +272,20 @@ def _csv_text(name: str) -> str:
 #: Accept headers that mean JSON, answered without parsing (curl, browsers' fetch, most clients).
 _JSON_ACCEPTS = frozenset({"", "*/*", "application/json", "application/json, */*", "application/problem+json"})
 
+#: The answer's media types, JSON first (the default for */*).
+ANSWER_MEDIA_TYPES = ("application/json", CSV_MEDIA_TYPE, arrow.ARROW_STREAM, arrow.PARQUET)
 
-def wants_csv() -> bool:
-    """True when the client's Accept header prefers text/csv over JSON; 406 if it accepts neither."""
+
+def answer_media_type() -> str:
+    """The answer's media type: the client's preferred one of ANSWER_MEDIA_TYPES; 406 if it accepts none."""
     header = request.environ.get("HTTP_ACCEPT")
     if header is None or header in _JSON_ACCEPTS:  # the common cases, without parsing the header
-        return False
+        return ANSWER_MEDIA_TYPES[0]
     accept = request.accept_mimetypes
     if not accept:
-        return False
-    best = accept.best_match(["application/json", CSV_MEDIA_TYPE])
+        return ANSWER_MEDIA_TYPES[0]
+    best = accept.best_match(ANSWER_MEDIA_TYPES)
     if best is None:
-        raise Problem("not-acceptable", "This endpoint answers application/json or text/csv; "
+        raise Problem("not-acceptable", f"This endpoint answers {', '.join(ANSWER_MEDIA_TYPES)}; "
                                         f"Accept was {request.headers.get('Accept')!r}.")
-    return best == CSV_MEDIA_TYPE
+    return best
