@@ -138,3 +138,92 @@ def test_count_is_the_length_of_the_expansion(start, span, step, down):
         np.testing.assert_allclose(np.diff(values), raw["step"], rtol=1e-6, atol=1e-6 * max(1.0, abs(start)))
     # one more step would pass stop: the range is not cut short
     assert math.copysign(1.0, raw["step"]) * (start + n * raw["step"] - stop) > -1e-6 * step
+
+
+# --- ranges at the endpoints ---------------------------------------------------------------------------
+
+from tests.helpers import assert_problem, post  # noqa: E402
+
+#: (path, request with ranges, the same request with arrays typed out by hand)
+SAME = [
+    ("/v1/atmosphere", {"altitude": {"start": 0, "stop": 400, "step": 100, "unit": "FL"}, "isa_deviation": 10},
+     {"altitude": {"value": [0, 100, 200, 300, 400], "unit": "FL"}, "isa_deviation": 10}),
+    ("/v1/atmosphere", {"altitude": {"start": 0, "stop": 10000, "step": 5000}, "temperature": {
+        "start": 15, "stop": 5, "step": -5}, "grid": True},
+     {"altitude": [0, 5000, 10000], "temperature": [15, 10, 5], "grid": True}),
+    ("/v1/airspeed", {"cas": {"start": 250, "stop": 300, "step": 25, "unit": "kt"}, "altitude": 30000},
+     {"cas": {"value": [250, 275, 300], "unit": "kt"}, "altitude": 30000}),
+    ("/v1/airspeed/crossover", {"cas": 280, "mach": {"start": 0.70, "stop": 0.80, "step": 0.05}},
+     {"cas": 280, "mach": [0.70, 0.75, 0.80]}),
+    ("/v1/airspeed/schedule", {"cas": 290, "mach": 0.76, "altitude": {"start": 5000, "stop": 35000, "step": 10000}},
+     {"cas": 290, "mach": 0.76, "altitude": [5000, 15000, 25000, 35000]}),
+    ("/v1/lift/solve", {"solve_for": "cl", "weight": {"start": 18, "stop": 22, "step": 2, "unit": "t"},
+                        "wing_area": 61, "mach": 0.45, "altitude": 25000},
+     {"solve_for": "cl", "weight": {"value": [18, 20, 22], "unit": "t"}, "wing_area": 61, "mach": 0.45,
+      "altitude": 25000}),
+    ("/v1/lift/stall", {"weight": 22000, "wing_area": 61, "cl_max": 1.6, "altitude": 3000,
+                        "bank_angle": {"start": 0, "stop": 60, "step": 15}},
+     {"weight": 22000, "wing_area": 61, "cl_max": 1.6, "altitude": 3000, "bank_angle": [0, 15, 30, 45, 60]}),
+    ("/v1/lift/curve", {"aspect_ratio": {"start": 6, "stop": 12, "step": 3}, "sweep_half_chord": 0, "mach": 0.3,
+                        "airfoil_lift_slope": 6.0, "cl": 0.5},
+     {"aspect_ratio": [6, 9, 12], "sweep_half_chord": 0, "mach": 0.3, "airfoil_lift_slope": 6.0, "cl": 0.5}),
+]
+
+
+@pytest.mark.parametrize(("path", "ranged", "typed"), SAME)
+def test_a_range_is_its_array(client, path, ranged, typed):
+    response = post(client, path, ranged)
+    assert response.status_code == 200, response.get_data(as_text=True)
+    assert response.json == post(client, path, typed).json
+
+
+def test_a_range_counts_against_the_point_limit_before_anything_is_built(client, app, monkeypatch):
+    app.config["QBAR_MAX_POINTS"] = 1000
+
+    def build(*args, **kwargs):
+        raise AssertionError("built")
+
+    monkeypatch.setattr(ranges.np, "arange", build)
+    doc = assert_problem(post(client, "/v1/atmosphere", {"altitude": {"start": 0, "stop": 1e12, "step": 1}}), 413)
+    assert doc["limit"] == 1000 and "1000000000001 points" in doc["detail"]
+    # in a grid, the product of the counts
+    doc = assert_problem(post(client, "/v1/atmosphere", {"altitude": {"start": 0, "stop": 99, "step": 1},
+                                                         "isa_deviation": {"start": 0, "stop": 10, "step": 1},
+                                                         "grid": True}), 413)
+    assert "1100 points" in doc["detail"]
+
+
+def test_a_range_in_a_nested_block_is_limited_too(client, app):
+    app.config["QBAR_MAX_POINTS"] = 100
+    body = {"solve_for": "cl", "weight": 21000, "wing_area": 61, "mach": 0.45, "altitude": 25000,
+            "wing": {"aspect_ratio": {"start": 1, "stop": 1e9, "step": 1}, "sweep_half_chord": 0}}
+    assert_problem(post(client, "/v1/lift/solve", body), 413)
+
+
+@pytest.mark.parametrize(("body", "pointer", "words"), [
+    ({"altitude": {"start": 0, "stop": 1000, "step": 0}}, "/altitude/step", "must not be zero"),
+    ({"altitude": {"start": 0, "stop": 1000, "step": -100}}, "/altitude/step", "must be positive"),
+    ({"altitude": {"start": 0, "stop": 1000, "step": True}}, "/altitude/step", "boolean"),
+    ({"altitude": {"start": 0, "stop": "1000", "step": 10}}, "/altitude/stop", "string"),
+    ({"altitude": {"start": 0, "stop": 1000}}, "/altitude/step", "Missing"),
+    ({"altitude": {"start": 0, "stop": 1000, "step": 10, "unit": "feet"}}, "/altitude/unit", "allowed: m, ft, km, FL"),
+    ({"altitude": {"start": 0, "stop": 1e6, "step": 1e5}}, "/altitude/stop", "model's range"),
+    ({"altitude": {"start": -1e5, "stop": 0, "step": 1e4}}, "/altitude/start", "model's range"),
+    ({"altitude": 0, "isa_deviation": {"start": 0, "stop": 1, "step": 0.5, "value": 3}}, "/isa_deviation/value",
+     "not both"),
+])
+def test_range_refusals_point_into_the_range(client, body, pointer, words):
+    doc = assert_problem(post(client, "/v1/atmosphere", body), 422, pointer)
+    assert any(words in e["message"] for e in doc["errors"]), doc["errors"]
+
+
+def test_a_dimensionless_range_with_a_unit(client):
+    assert_problem(post(client, "/v1/airspeed/crossover", {"cas": 280, "mach": {"start": 0.7, "stop": 0.8,
+                                                                                 "step": 0.1, "unit": "kt"}}),
+                   422, "/mach/unit")
+
+
+def test_a_range_of_flight_levels_is_a_pressure_altitude(client):
+    """FL with QNH is refused whichever form the altitude takes."""
+    body = {"altitude": {"start": 0, "stop": 100, "step": 50, "unit": "FL"}, "qnh": 1000}
+    assert_problem(post(client, "/v1/atmosphere", body), 422, "/qnh")

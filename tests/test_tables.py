@@ -248,3 +248,161 @@ def test_damaged_arrow_streams_are_a_4xx(cut, noise):
             read(body, tables.ARROW_STREAM, ATMOSPHERE)
         except Problem as problem:
             assert 400 <= problem.status < 500
+
+
+# --- tables at every compute endpoint: the same answer as the JSON request -----------------------------
+
+import csv  # noqa: E402
+import io  # noqa: E402
+import json  # noqa: E402
+from urllib.parse import urlencode  # noqa: E402
+
+from tests.helpers import assert_problem, post  # noqa: E402
+from tests.test_bulk import BULK  # noqa: E402
+
+
+def split(body: dict) -> tuple[dict[str, object], dict]:
+    """A JSON request's array inputs (the table's columns, with their unit) and the rest (query parameters)."""
+    columns, options = {}, {}
+    for name, value in body.items():
+        if isinstance(value, list) and name not in ("outputs", "speed_factors"):
+            columns[name] = value
+        elif isinstance(value, dict) and isinstance(value.get("value"), list) and set(value) == {"value", "unit"}:
+            columns[f"{name} [{value['unit']}]"] = value["value"]
+        else:
+            options[name] = value
+    return columns, options
+
+
+def as_csv(columns: dict) -> bytes:
+    lines = [",".join(columns)] + [",".join(repr(float(v)) for v in row) for row in zip(*columns.values(), strict=True)]
+    return ("\r\n".join(lines) + "\r\n").encode()
+
+
+def as_arrow(columns: dict) -> bytes:
+    return arrow_stream(pa.table({name: pa.array(values, pa.float64()) for name, values in columns.items()}))
+
+
+def query(options: dict) -> str:
+    return "?" + urlencode({name: value if isinstance(value, str) else json.dumps(value)
+                            for name, value in options.items()}) if options else ""
+
+
+@pytest.mark.parametrize("path", list(BULK))
+@pytest.mark.parametrize("media_type", [tables.CSV, tables.ARROW_STREAM])
+def test_a_table_gets_the_json_answer(client, path, media_type):
+    body = BULK[path](5)
+    columns, options = split(body)
+    assert columns, "the bulk request has array inputs"
+    data = as_csv(columns) if media_type == tables.CSV else as_arrow(columns)
+    response = client.post(path + query(options), data=data, content_type=media_type)
+    assert response.status_code == 200, response.get_data(as_text=True)[:400]
+    assert response.json == post(client, path, body).json
+
+
+@pytest.mark.parametrize("path", list(BULK))
+def test_a_table_in_arrow_out(client, path):
+    body = BULK[path](5)
+    columns, options = split(body)
+    response = client.post(path + query(options), data=as_arrow(columns), content_type=tables.ARROW_STREAM,
+                           headers={"Accept": tables.ARROW_STREAM})
+    assert response.status_code == 200
+    expected = post(client, path, body, {"Accept": tables.ARROW_STREAM}).data
+    assert pa.ipc.open_stream(response.data).read_all().equals(pa.ipc.open_stream(expected).read_all())
+
+
+def test_the_cookbook_schedule_as_a_csv_table(client):
+    """The climb schedule of cookbook scenario 4, its flight levels sent as a CSV column."""
+    response = client.post('/v1/airspeed/schedule?cas=290&mach=0.76&isa_deviation=10&outputs=["governing","cas"]',
+                           data=b"altitude [FL]\n50\n300\n350\n", content_type="text/csv; charset=utf-8",
+                           headers={"Accept": "text/csv"})
+    assert response.status_code == 200
+    rows = list(csv.reader(io.StringIO(response.get_data(as_text=True))))
+    assert rows[0] == ["input.cas [kt]", "input.mach", "input.altitude [ft]", "input.isa_deviation [K]",
+                       "governing", "cas [kt]"]
+    assert [row[4] for row in rows[1:]] == ["cas", "mach", "mach"]
+
+
+def test_a_grid_from_a_table_and_a_parameter(client):
+    response = client.post('/v1/atmosphere?grid=true&qnh=[995,1013]&outputs=["pressure_altitude"]',
+                           data=b"altitude [ft],temperature\n7200,20\n", content_type="text/csv")
+    expected = post(client, "/v1/atmosphere", {"altitude": 7200, "temperature": [20], "qnh": [995, 1013],
+                                               "grid": True, "outputs": ["pressure_altitude"]})
+    assert response.status_code == 200 and response.json["pressure_altitude"] == expected.json["pressure_altitude"]
+
+
+def test_schema_errors_name_column_and_row(client):
+    response = client.post("/v1/atmosphere", data=b"altitude [FL],isa_deviation\n100,0\n9000,5\n200,500\n",
+                           content_type="text/csv")
+    doc = assert_problem(response, 422)
+    located = {(e["column"], e["row"]) for e in doc["errors"]}
+    assert located == {("altitude [FL]", 1), ("isa_deviation", 2)}
+    assert {e["pointer"] for e in doc["errors"]} == {"/altitude/value/1", "/isa_deviation/2"}
+    assert "column 'altitude [FL]', row 1 (line 3)" in doc["detail"]
+
+
+def test_an_unknown_unit_in_a_header(client):
+    doc = assert_problem(client.post("/v1/atmosphere", data=b"altitude [feet]\n100\n", content_type="text/csv"), 422)
+    assert doc["errors"][0]["column"] == "altitude [feet]" and "allowed: m, ft, km, FL" in doc["errors"][0]["message"]
+
+
+def test_errors_in_parameters_are_located(client):
+    response = client.post("/v1/lift/solve?solve_for=cl&weight=heavy&wing_area=61", data=b"mach,altitude\n0.5,0\n",
+                           content_type="text/csv")
+    doc = assert_problem(response, 422, "/weight")
+    assert doc["errors"][0]["parameter"] == "weight"
+    assert doc["detail"].startswith("query parameter 'weight':")
+
+
+def test_a_view_error_is_located_too(client):
+    """Array lengths are checked after the schema (Inputs.arrange): a table column against a parameter array."""
+    response = client.post("/v1/atmosphere?isa_deviation=[1,2,3]", data=b"altitude\n0\n1000\n", content_type="text/csv")
+    doc = assert_problem(response, 422)
+    assert {e.get("column") or e.get("parameter") for e in doc["errors"]} == {"altitude", "isa_deviation"}
+
+
+def test_rows_over_the_point_limit(client, app):
+    app.config["QBAR_MAX_POINTS"] = 10
+    doc = assert_problem(client.post("/v1/atmosphere", data=b"altitude\n" + b"0\n" * 11, content_type="text/csv"), 413)
+    assert doc["limit"] == 10
+
+
+def test_a_body_over_the_size_limit(client, app):
+    app.config["QBAR_MAX_BODY_BYTES"] = 100
+    assert_problem(client.post("/v1/atmosphere", data=b"altitude\n" + b"0\n" * 100, content_type="text/csv"), 413)
+
+
+@pytest.mark.parametrize(("content_type", "status"), [
+    ("text/csv; charset=latin-1", 415), ("text/plain", 415), ("application/vnd.apache.arrow.file", 415),
+    ("text/csv; charset=UTF-8", 200)])
+def test_media_types(client, content_type, status):
+    response = client.post("/v1/atmosphere", data=b"altitude\n0\n", content_type=content_type)
+    assert response.status_code == status
+
+
+def test_query_parameters_with_a_json_body_are_refused(client):
+    response = client.post("/v1/atmosphere?outputs=[\"pressure\"]", data=b'{"altitude": 0}',
+                           content_type="application/json")
+    assert "read only with a table body" in assert_problem(response, 422, "")["detail"]
+
+
+@pytest.mark.parametrize("body", [b"", b"altitude\n", b"a,b\n1,2,3\n", b"\x00\x01garbage"])
+def test_bad_tables_are_problem_documents(client, body):
+    for media_type in (tables.CSV, tables.ARROW_STREAM):
+        response = client.post("/v1/atmosphere", data=body, content_type=media_type)
+        assert 400 <= response.status_code < 500
+        assert_problem(response, response.status_code)
+
+
+def test_pandas_frame_to_csv_is_a_valid_body(client):
+    """A table an operations system writes with pandas, as it comes."""
+    import pandas as pd
+
+    frame = pd.DataFrame({"cas [kt]": [250.0, 280.0], "altitude [FL]": [240, 330]})
+    text = io.StringIO()
+    frame.to_csv(text, index=False)
+    response = client.post('/v1/airspeed?isa_deviation=12&outputs=["mach"]', data=text.getvalue().encode(),
+                           content_type="text/csv")
+    expected = post(client, "/v1/airspeed", {"cas": [250, 280], "altitude": {"value": [240, 330], "unit": "FL"},
+                                             "isa_deviation": 12, "outputs": ["mach"]})
+    assert response.json == expected.json
