@@ -406,3 +406,44 @@ def test_pandas_frame_to_csv_is_a_valid_body(client):
     expected = post(client, "/v1/airspeed", {"cas": [250, 280], "altitude": {"value": [240, 330], "unit": "FL"},
                                              "isa_deviation": 12, "outputs": ["mach"]})
     assert response.json == expected.json
+
+
+def _spec():
+    from service import create_app
+
+    return create_app({"TESTING": True}).test_client().get("/openapi.json").json
+
+
+SPEC_EXAMPLES = [(path, name, op["post"]["requestBody"]["content"])
+                 for path, op in _spec()["paths"].items() if "post" in op
+                 for name in op["post"]["requestBody"]["content"]["text/csv"].get("examples", {})]
+
+
+@pytest.mark.parametrize(("path", "name", "content"), SPEC_EXAMPLES, ids=[f"{p} {n}" for p, n, _ in SPEC_EXAMPLES])
+def test_the_spec_table_examples_give_the_json_examples_answers(client, path, name, content):
+    from urllib.parse import parse_qsl
+
+    example = content["text/csv"]["examples"][name]
+    query = example["description"].removeprefix("With the query string `").removesuffix("`.")
+    params = parse_qsl(query.removeprefix("?")) if query.startswith("?") else []
+    response = client.post(path, query_string=params, data=example["value"].encode(), content_type="text/csv")
+    assert response.status_code == 200, response.get_data(as_text=True)
+    expected = post(client, path, content["application/json"]["examples"][name]["value"]).json
+    assert squeeze(response.json) == squeeze(expected)  # a one-row table gives arrays of one
+
+
+def squeeze(node):
+    """Arrays of one element as that element, everywhere in a JSON document."""
+    if isinstance(node, dict):
+        return {key: squeeze(value) for key, value in node.items() if key != "indices"}
+    if isinstance(node, list):
+        return squeeze(node[0]) if len(node) == 1 else [squeeze(value) for value in node]
+    return node
+
+
+def test_every_compute_operation_documents_the_table_bodies():
+    for op in _spec()["paths"].values():
+        if "post" in op:
+            content = op["post"]["requestBody"]["content"]
+            assert content["text/csv"]["schema"]["description"].startswith("The array inputs as a table")
+            assert content[tables.ARROW_STREAM]["schema"]["format"] == "binary"

@@ -124,6 +124,24 @@ def parquet_bytes(batch: pa.RecordBatch) -> bytes:
     return sink.getvalue().to_pybytes()
 
 
+ANSWER_DESCRIPTION = (
+    "The same answer as a table (send `Accept: {media_type}`): one column per CSV column, named as in the CSV header "
+    "(`input.<name> [unit]` for the inputs, then every output, nested ones with dotted names, physical ones with "
+    "their unit in brackets), the unit also in each field's metadata (`unit`, beside `name`, the dotted name); "
+    "float64 numbers, booleans and strings; an Arrow null where the JSON answer has null; the JSON answer's "
+    "`warnings` as JSON text in the schema metadata `warnings`. A scalar answer is one row. {what}")
+WHAT = {"application/vnd.apache.arrow.stream": "An Arrow IPC stream: `pyarrow.ipc.open_stream(body).read_all()`.",
+        "application/vnd.apache.parquet": "A Parquet file, plain-encoded and uncompressed: "
+                                          "`pandas.read_parquet(io.BytesIO(body))`."}
+
+
+def response_content() -> dict:
+    """The 200 response content of the columnar answers, for the spec."""
+    return {media_type: {"schema": {"type": "string", "format": "binary",
+                                    "description": ANSWER_DESCRIPTION.format(media_type=media_type, what=what)}}
+            for media_type, what in WHAT.items()}
+
+
 #: media type -> writer of the body.
 WRITERS = {ARROW_STREAM: stream_bytes, PARQUET: parquet_bytes}
 

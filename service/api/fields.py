@@ -334,22 +334,26 @@ def _bounded_number(lo, hi, field: Number) -> dict:
     return schema
 
 
-def number_schema(field: Number, lo=None, hi=None, *, bounded: bool = True) -> dict:
-    """OpenAPI 3.1 schema of a bare number or flat array of numbers, within the field's bounds
+def number_schema(field: Number, lo=None, hi=None, *, bounded: bool = True, ranged: bool = True) -> dict:
+    """OpenAPI 3.1 schema of a bare number, a flat array of numbers or a range, within the field's bounds
     (or ``lo``/``hi``; none with ``bounded=False``)."""
     if bounded and lo is None and hi is None:
         lo, hi = field.minimum, field.maximum
     number = _bounded_number(lo, hi, field) if bounded else {"type": "number"}
     if not field.allow_array:
         return number
-    return {"oneOf": [number, {"type": "array", "items": number, "minItems": 1}]}
+    forms = [number, {"type": "array", "items": number, "minItems": 1}]
+    if ranged:
+        forms.append(ranges.schema(number))
+    return {"oneOf": forms}
 
 
 def quantity_schema(field: Quantity, bounds: dict | None = None) -> dict:
-    """OpenAPI schema of a Quantity: number or array in the default unit, or {value, unit}.
+    """OpenAPI schema of a Quantity: number, array or range in the default unit, or {value, unit}, or a
+    range with a unit.
 
-    With bounds (``field.bounds`` unless given: {unit: (lo, hi)}), the object form is one
-    branch per unit, each with the bounds in that unit.
+    With bounds (``field.bounds`` unless given: {unit: (lo, hi)}), the object forms are one branch per
+    unit, each with the bounds in that unit.
     """
     bounds = field.bounds if bounds is None else bounds
     lo, hi = bounds[field.default_unit]
@@ -358,20 +362,26 @@ def quantity_schema(field: Quantity, bounds: dict | None = None) -> dict:
         objects = [{
             "type": "object",
             "properties": {
-                "value": number_schema(field, bounded=False) | {"description": "The number or numbers, in `unit`."},
+                "value": number_schema(field, bounded=False, ranged=False)
+                | {"description": "The number or numbers, in `unit`."},
                 "unit": {"type": "string", "enum": list(field.dim.units), "description": "The unit of `value`."},
             },
             "required": ["value", "unit"],
             "additionalProperties": False,
         }]
+        if field.allow_array:
+            objects.append(ranges.schema({"type": "number"}, list(field.dim.units)))
     else:
         objects = [{
             "type": "object",
-            "properties": {"value": number_schema(field, *bounds[unit]) | {"description": f"The number(s) in {unit}."},
+            "properties": {"value": number_schema(field, *bounds[unit], ranged=False)
+                           | {"description": f"The number(s) in {unit}."},
                            "unit": {"const": unit, "description": "The unit of `value`."}},
             "required": ["value", "unit"],
             "additionalProperties": False,
         } for unit in field.dim.units]
+        if field.allow_array:
+            objects += [ranges.schema(_bounded_number(*bounds[unit], field), unit) for unit in field.dim.units]
     return {"oneOf": [*plain.get("oneOf", [plain]), *objects]}
 
 

@@ -185,6 +185,30 @@ def expand(raw: dict, *, limit: int, unit_allowed: bool, number=float) -> tuple[
     return values, (raw.get("unit") if unit_allowed else None)
 
 
+DESCRIPTION = ("A range: start, start + step, ... up to stop (stop included when it falls on a step, within "
+               f"{TOLERANCE:g} of a step); start and stop within the field's range, step not zero and of the sign "
+               "of stop - start. Counted against the point limit before anything is built.")
+
+
+def schema(bounded: dict, unit: str | list[str] | None = None) -> dict:
+    """The OpenAPI schema of the range form: ``bounded`` is the schema of one number of the field (with its
+    bounds in ``unit``); ``unit`` a const (one unit), an enum (a list) or None (no unit key).
+
+    >>> schema({"type": "number", "minimum": 0})["required"]
+    ['start', 'stop', 'step']
+    """
+    properties = {"start": bounded | {"description": "The first number."},
+                  "stop": bounded | {"description": "The last number, when it falls on a step."},
+                  "step": {"type": "number", "not": {"const": 0}, "description": "The step: not zero."}}
+    if isinstance(unit, str):
+        properties["unit"] = {"const": unit, "description": "The unit of start, stop and step."}
+    elif unit is not None:
+        properties["unit"] = {"type": "string", "enum": list(unit), "description": "The unit of start, stop and step."}
+    return {"type": "object", "description": DESCRIPTION, "properties": properties,
+            "required": ["start", "stop", "step"] + (["unit"] if unit is not None else []),
+            "additionalProperties": False}
+
+
 def too_many_points(points: int | float, limit: int) -> Problem:
     """The 413 of a range longer than the point limit (the same problem as any request over it)."""
     return Problem("payload-too-large", f"The range has {points} points; the limit is {limit} points per request "

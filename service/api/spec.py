@@ -21,9 +21,10 @@ import http
 import json
 import logging
 
+import marshmallow as ma
 from flask import Flask, Response, g
 
-from service.api import ops
+from service.api import arrow, ops, tables
 from service.api.outputs import CSV_MEDIA_TYPE
 from service.api.problems import PROBLEM_MEDIA_TYPE, Problem, problem_response
 
@@ -168,6 +169,11 @@ def complete(app: Flask, generated: dict) -> dict:
             request_body = operation.get("requestBody")
             if request_body is not None:
                 _compute_examples(app, path, request_body["content"][JSON_MEDIA_TYPE], ok, filler)
+                request_schema = ma.class_registry.get_class(
+                    request_body["content"][JSON_MEDIA_TYPE]["schema"]["$ref"].rsplit("/", 1)[1])()
+                request_body["content"].update(tables.request_content(
+                    request_schema, request_body["content"][JSON_MEDIA_TYPE]["examples"]))
+                ok["content"].update(arrow.response_content())
             else:
                 answer = _answer(dispatch(app, method.upper(), _example_path(path, item, operation)), method, path)
                 if answer is None:

@@ -421,4 +421,82 @@ def _arrow_numbers(column: pa.ChunkedArray) -> tuple[np.ndarray | None, list[tup
     return _finite(values)
 
 
+# --- the spec ---------------------------------------------------------------------------------------
+
+REQUEST_DESCRIPTION = (
+    "The array inputs as a table: one column per input, named as the JSON field, its unit in brackets as the CSV "
+    "answer writes it (`altitude [FL]`; without brackets the field's default unit; dimensionless inputs such as "
+    "`mach` take none). Every other top-level field of the JSON request (`outputs`, `output_units`, `grid`, "
+    "`solve_for`, the aircraft's constants, `calibration`, any input that is the same at every point) is a query "
+    "parameter of the same name, its value read as JSON and, when it is not JSON, as a string: "
+    "`?solve_for=cl&weight=21000&outputs=[\"cl\",\"tas\"]`. The same checks, limits and problem documents as "
+    "JSON apply; each error then also names the `column` and `row` (0-based, as in `indices`) or the query "
+    "`parameter` it is about. At most QBAR_MAX_POINTS rows.")
+CSV_REQUEST = REQUEST_DESCRIPTION + (
+    " CSV (RFC 4180): comma-separated, UTF-8, a header line first; an empty cell is refused.")
+ARROW_REQUEST = REQUEST_DESCRIPTION + (
+    " An Apache Arrow IPC stream of integer or floating-point columns without nulls, uncompressed (the whole "
+    "body may be gzip-compressed instead); a column's unit may also be given as the field metadata `unit`.")
+
+
+def table_example(body: dict, columns: Iterable[str]) -> tuple[str, str] | None:
+    """A JSON request example as a table request: (query string, CSV text); None for a grid.
+
+    Array inputs become columns and everything else query parameters; without arrays, the request is a
+    table of one row.
+    """
+    from urllib.parse import quote
+
+    if body.get("grid"):
+        return None
+    columns = [name for name in columns if name in body]
+    arrays = [name for name in columns if isinstance(_values(body[name]), list)]
+    chosen = arrays or columns
+    if not chosen:
+        return None
+    table, options = {}, {}
+    for name, value in body.items():
+        if name not in chosen:
+            options[name] = value
+            continue
+        unit = value.get("unit") if isinstance(value, dict) else None
+        values = _values(value)
+        table[f"{name} [{unit}]" if unit else name] = values if isinstance(values, list) else [values]
+    rows = max(len(v) for v in table.values())
+    lines = [",".join(table)] + [",".join(_cell(v[i] if len(v) > 1 else v[0]) for v in table.values())
+                                 for i in range(rows)]
+    query = "&".join(f"{name}={quote(value if isinstance(value, str) else orjson.dumps(value).decode(), safe=_SHOWN)}"
+                     for name, value in options.items())
+    return ("?" + query if query else ""), "\n".join(lines) + "\n"
+
+
+#: Characters left as they are in the examples' query strings, for reading (clients encode them; curl 7.87+
+#: does with --url-query).
+_SHOWN = ',:[]{}"/'
+
+
+def _values(value):
+    return value.get("value") if isinstance(value, dict) else value
+
+
+def _cell(value) -> str:
+    return format(value, "g") if isinstance(value, float) else str(value)
+
+
+def request_content(schema: ma.Schema, json_examples: dict) -> dict:
+    """The requestBody content of the table forms (CSV with examples made from the JSON ones; Arrow)."""
+    examples = {}
+    for name, example in json_examples.items():
+        made = table_example(example["value"], column_fields(schema))
+        if made is not None:
+            query, text = made
+            examples[name] = {"summary": example["summary"], "value": text,
+                              "description": f"With the query string `{query}`." if query else "No query string."}
+    csv_content = {"schema": {"type": "string", "description": CSV_REQUEST}}
+    if examples:
+        csv_content["examples"] = examples
+    return {CSV: csv_content,
+            ARROW_STREAM: {"schema": {"type": "string", "format": "binary", "description": ARROW_REQUEST}}}
+
+
 __all__ = ["CSV", "TABLE_MEDIA_TYPES", "Source", "Table", "parse_header", "read_table"]
