@@ -32,12 +32,19 @@ def columns(n=3):
     ]
 
 
+def joined(media_type, columns, warnings) -> bytes:
+    """The writer's body: its chunks, as the server sends them one after the other."""
+    chunks = arrow.body(media_type, columns, warnings)
+    assert all(type(chunk) is bytes for chunk in chunks)  # what a WSGI server writes
+    return b"".join(chunks)
+
+
 def read_stream(body: bytes) -> pa.Table:
     return pa.ipc.open_stream(body).read_all()
 
 
 def test_names_units_and_types():
-    table = read_stream(arrow.body(arrow.ARROW_STREAM, columns(), WARNINGS))
+    table = read_stream(joined(arrow.ARROW_STREAM, columns(), WARNINGS))
     assert table.column_names == ["input.altitude [ft]", "density_altitude [ft]", "atmosphere.pressure [hPa]",
                                   "pressure_ratio", "beyond_stall", "governing"]
     units = [(f.metadata or {}).get(b"unit") for f in table.schema]
@@ -51,7 +58,7 @@ def test_names_units_and_types():
 
 
 def test_nulls_where_json_has_null_and_no_nan_in_the_body():
-    body = arrow.body(arrow.ARROW_STREAM, columns(), WARNINGS)
+    body = joined(arrow.ARROW_STREAM, columns(), WARNINGS)
     table = read_stream(body)
     assert table.column("density_altitude [ft]").to_pylist() == [100.0, 20550.0, None]
     assert table.column("density_altitude [ft]").null_count == 1
@@ -61,9 +68,9 @@ def test_nulls_where_json_has_null_and_no_nan_in_the_body():
 
 
 def test_warnings_in_the_schema_metadata():
-    table = read_stream(arrow.body(arrow.ARROW_STREAM, columns(), WARNINGS))
+    table = read_stream(joined(arrow.ARROW_STREAM, columns(), WARNINGS))
     assert orjson.loads(table.schema.metadata[b"warnings"]) == WARNINGS
-    empty = read_stream(arrow.body(arrow.ARROW_STREAM, columns(), []))
+    empty = read_stream(joined(arrow.ARROW_STREAM, columns(), []))
     assert orjson.loads(empty.schema.metadata[b"warnings"]) == []
 
 
@@ -87,7 +94,7 @@ def test_broadcast_and_strided_values():
 
 
 def test_pandas_reads_the_stream_with_nulls_as_nan():
-    frame = pa.ipc.open_stream(arrow.body(arrow.ARROW_STREAM, columns(), WARNINGS)).read_pandas()
+    frame = pa.ipc.open_stream(joined(arrow.ARROW_STREAM, columns(), WARNINGS)).read_pandas()
     assert list(frame.columns) == ["input.altitude [ft]", "density_altitude [ft]", "atmosphere.pressure [hPa]",
                                    "pressure_ratio", "beyond_stall", "governing"]
     assert frame["density_altitude [ft]"].isna().tolist() == [False, False, True]
@@ -95,10 +102,10 @@ def test_pandas_reads_the_stream_with_nulls_as_nan():
 
 
 def test_parquet_holds_the_same_table():
-    body = arrow.body(arrow.PARQUET, columns(), WARNINGS)
+    body = joined(arrow.PARQUET, columns(), WARNINGS)
     assert body[:4] == b"PAR1"
     table = pq.read_table(io.BytesIO(body))
-    assert table.equals(read_stream(arrow.body(arrow.ARROW_STREAM, columns(), WARNINGS)))
+    assert table.equals(read_stream(joined(arrow.ARROW_STREAM, columns(), WARNINGS)))
     assert orjson.loads(table.schema.metadata[b"warnings"]) == WARNINGS
     assert table.schema.field("atmosphere.pressure [hPa]").metadata[b"unit"] == b"hPa"
     frame = pd.read_parquet(io.BytesIO(body))
@@ -173,6 +180,7 @@ def test_arrow_answer_is_the_json_answer(client, path, body):
     response = post(client, path, body, {"Accept": ARROW})
     assert response.status_code == 200, response.get_data(as_text=True)[:300]
     assert response.mimetype == ARROW
+    assert response.headers["Content-Length"] == str(len(response.data))
     table = pa.ipc.open_stream(response.data).read_all()
     expected = json_columns(doc)
     grid_inputs = {name for name in table.column_names if name.startswith("input.")}

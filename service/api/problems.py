@@ -44,7 +44,8 @@ KINDS: dict[str, Kind] = {
         Kind("payload-too-large", 413, "Payload too large",
              "The request body or the number of points is over the service's limit."),
         Kind("unsupported-media-type", 415, "Unsupported media type",
-             "The request body must be JSON, sent with 'Content-Type: application/json'."),
+             "The request body must be JSON ('Content-Type: application/json'), or a table: CSV ('text/csv') "
+             "or an Arrow IPC stream ('application/vnd.apache.arrow.stream')."),
         Kind("validation", 422, "Invalid input",
              "One or more inputs are invalid: wrong type, unknown unit, out of range, or physically impossible."),
         Kind("no-solution", 422, "No solution",

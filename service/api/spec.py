@@ -126,6 +126,11 @@ def error_examples(app: Flask) -> dict[int, dict[str, dict]]:
             "validation": ("An invalid input, with a JSON Pointer to it",
                            _post_json(app, atmosphere, {"altitude": {"value": [7200, 8200], "unit": "feet"},
                                                         "isa_deviation": [20, True]})),
+            "table-validation": ("A CSV table with a value out of range and a query parameter that is not a number, "
+                                 "each located",
+                                 dispatch(app, "POST", atmosphere + "?isa_deviation=hot",
+                                          body=b"altitude [FL]\n100\n9000\n",
+                                          headers={"Content-Type": tables.CSV})),
             "no-solution": ("Valid inputs whose result does not exist at some points",
                             _post_json(app, "/v1/airspeed/crossover", {"cas": [290, 600], "mach": [0.76, 0.5]})),
         },
