@@ -124,6 +124,8 @@ from tests.helpers import count_calls, post  # noqa: E402
 from tests.test_bulk import BULK  # noqa: E402
 
 ARROW = arrow.ARROW_STREAM
+#: Python calls that padding may add or save (see test_python_calls_do_not_grow_with_points).
+PADDING_CALLS = 20
 NR200_TABLE = {"ias": [120, 160, 200, 240, 280, 320], "cas": [123, 162, 201, 240, 278.5, 317]}
 
 #: Requests per endpoint: the spec's examples, a bulk request, its grid, and answers with nulls and warnings.
@@ -233,7 +235,10 @@ def test_406_lists_the_media_types(client):
 
 @pytest.mark.parametrize("path", list(BULK))
 def test_python_calls_do_not_grow_with_points(client, path):
-    """10 points and 100,000 points cost the same number of Python function calls, as Arrow."""
+    """10 points and 100,000 points cost the same number of Python function calls, as Arrow, but for the
+    padding: the stream writer hands each buffer, and each padding to 8 bytes, to the body's Python sink,
+    and whether a buffer of booleans or strings needs padding depends on its length (a few calls per
+    column at most; a call per point would be 100,000)."""
     small, large = BULK[path](10), BULK[path](100_000)
     headers = {"Accept": ARROW}
     post(client, path, small, headers)
@@ -242,7 +247,7 @@ def test_python_calls_do_not_grow_with_points(client, path):
         response = post(client, path, body, headers)
         assert response.status_code == 200, response.get_data(as_text=True)[:300]
 
-    assert count_calls(lambda: run(small)) == count_calls(lambda: run(large))
+    assert abs(count_calls(lambda: run(small)) - count_calls(lambda: run(large))) <= PADDING_CALLS
 
 
 def test_errors_stay_problem_documents(client):
