@@ -41,25 +41,17 @@ import pyarrow.csv as pa_csv
 
 from service.api.arrow import ARROW_STREAM
 from service.api.fields import Number
-from service.api.problems import Problem, invalid, pointer
+from service.api.masks import MAX_REPORTED
+from service.api.problems import MAX_ERRORS, ErrorList, Problem, echo, invalid, pointer
 
 CSV = "text/csv"
 #: The media types of a table body.
 TABLE_MEDIA_TYPES = (CSV, ARROW_STREAM)
 
-#: At most this many errors are listed (the rest are counted in the detail).
-MAX_ERRORS = 20
 #: At most this many cells of one column are listed.
-MAX_CELL_ERRORS = 10
-#: Echoes of the client's text (a header, a cell, a parser message) are cut to this many characters.
-ECHO = 40
+MAX_CELL_ERRORS = MAX_REPORTED
 
 _HEADER = re.compile(r"\s*([^\[\]]*?)\s*(?:\[\s*([^\[\]]*?)\s*\])?\s*")
-
-
-def _echo(text: str) -> str:
-    text = str(text)
-    return text if len(text) <= ECHO else text[:ECHO] + "..."
 
 
 class Source(NamedTuple):
@@ -77,9 +69,9 @@ class Table(NamedTuple):
     rows: int
     media_type: str
 
-    def locate_errors(self, errors: list[dict]) -> list[dict]:
+    def locate_errors(self, errors: list[dict]) -> ErrorList:
         """Each {pointer, message} with the column and row (or the query parameter) it points into."""
-        located = []
+        located = ErrorList(omitted=getattr(errors, "omitted", 0))
         for error in errors:
             tokens = [t.replace("~1", "/").replace("~0", "~") for t in error["pointer"].split("/")[1:]]
             source = self.sources.get(tokens[0]) if tokens else None
@@ -118,8 +110,9 @@ class Table(NamedTuple):
         problem.errors = self.locate_errors(problem.errors)
         shown = problem.errors[:5]
         detail = "; ".join(f"{self.describe(e)}: {e['message'].rstrip('.')}" for e in shown)
-        if len(problem.errors) > len(shown):
-            detail += f"; and {len(problem.errors) - len(shown)} more"
+        total = len(problem.errors) + problem.errors.omitted
+        if total > len(shown):
+            detail += f"; and {total - len(shown)} more"
         problem.detail = detail + "."
         return problem
 
@@ -184,11 +177,11 @@ def read_table(body: bytes, media_type: str, schema: ma.Schema, params: Iterable
         if name not in fields:
             allowed = ", ".join(fields)
             message = (f"{name} is not a column input: give it as a query parameter." if name in schema.fields
-                       else f"Unknown column {_echo(name)!r}; the columns this endpoint takes are: {allowed}.")
+                       else f"Unknown column {echo(name)}; the columns this endpoint takes are: {allowed}.")
             errors.append(where | {"message": message})
             continue
         if name in seen:
-            errors.append(where | {"message": f"Column {name} is given twice (also as {_echo(seen[name])!r})."})
+            errors.append(where | {"message": f"Column {name} is given twice (also as {echo(seen[name])})."})
             continue
         if name in data:
             errors.append(where | {"message": f"{name} is given both as a column and as a query parameter."})
@@ -207,14 +200,8 @@ def read_table(body: bytes, media_type: str, schema: ma.Schema, params: Iterable
     if rows == 0 and not errors:
         errors.append({"pointer": "", "message": "The table has no rows: give at least one."})
     if errors:
-        raise table.locate(invalid(_capped(errors)))
+        raise table.locate(invalid(ErrorList(errors[:MAX_ERRORS], omitted=max(len(errors) - MAX_ERRORS, 0))))
     return table
-
-
-def _capped(errors: list[dict]) -> list[dict]:
-    if len(errors) <= MAX_ERRORS:
-        return errors
-    return errors[:MAX_ERRORS]
 
 
 # --- CSV ---------------------------------------------------------------------------------------------
@@ -253,7 +240,7 @@ def _read_csv(body: bytes, max_points: int):
                                 convert_options=_CSV_CONVERT)
         names = table.column_names
     except (pa.ArrowInvalid, pa.ArrowTypeError, UnicodeDecodeError) as err:
-        raise Problem("bad-request", f"The body is not a CSV table: {_echo(_first_line(err))}") from None
+        raise Problem("bad-request", f"The body is not a CSV table: {echo(_first_line(err))}") from None
     if table.num_rows > max_points:  # lines are an upper bound: this cannot happen, but costs nothing
         raise _too_many_rows(table.num_rows, max_points, exact=True)
     headers = [(name, None) for name in names]
@@ -304,13 +291,13 @@ def _cell_message(cell) -> str | None:
         try:
             value = float(cell)
         except ValueError:
-            return f"Not a number: {_echo(cell)!r}."
+            return f"Not a number: {echo(cell)}."
         if value != value:
             return "Not a number: NaN."
         if value - value != 0.0:
             return "Number out of the floating-point range."
         return None
-    return f"Not a number: {_echo(cell)!r}."
+    return f"Not a number: {echo(cell)}."
 
 
 # --- Arrow ------------------------------------------------------------------------------------------
@@ -362,7 +349,7 @@ def _read_arrow(body: bytes, max_points: int):
         reader = pa.ipc.MessageReader.open_stream(pa.BufferReader(pa.py_buffer(body)))
         schema = pa.ipc.read_schema(reader.read_next_message())
     except (pa.ArrowInvalid, StopIteration, OSError, TypeError) as err:
-        raise Problem("bad-request", f"The body is not an Arrow IPC stream: {_echo(_first_line(err))}") from None
+        raise Problem("bad-request", f"The body is not an Arrow IPC stream: {echo(_first_line(err))}") from None
     headers, errors = [], []
     for field in schema:
         unit = (field.metadata or {}).get(b"unit")
@@ -370,8 +357,8 @@ def _read_arrow(body: bytes, max_points: int):
         header_field, header_unit = parse_header(field.name)
         if unit is not None and header_unit is not None and unit != header_unit:
             errors.append({"pointer": pointer(header_field), "column": field.name,
-                           "message": f"The header says {_echo(header_unit)!r} and the field metadata "
-                                      f"{_echo(unit)!r}: give one unit."})
+                           "message": f"The header says {echo(header_unit)} and the field metadata "
+                                      f"{echo(unit)}: give one unit."})
         if not _numeric(field.type):
             errors.append({"pointer": pointer(header_field), "column": field.name,
                            "message": f"Column of type {field.type}: give numbers (floating point or integer)."})
@@ -386,7 +373,7 @@ def _read_arrow(body: bytes, max_points: int):
         except StopIteration:
             break
         except (pa.ArrowInvalid, OSError) as err:
-            raise Problem("bad-request", f"The body is not an Arrow IPC stream: {_echo(_first_line(err))}") from None
+            raise Problem("bad-request", f"The body is not an Arrow IPC stream: {echo(_first_line(err))}") from None
         try:
             kind, length, compressed = _message_header(message.metadata.to_pybytes())
         except struct.error:
@@ -404,7 +391,7 @@ def _read_arrow(body: bytes, max_points: int):
             batch = pa.ipc.read_record_batch(message, schema)
             batch.validate(full=True)
         except (pa.ArrowInvalid, OSError) as err:
-            raise Problem("bad-request", f"The body is not an Arrow IPC stream: {_echo(_first_line(err))}") from None
+            raise Problem("bad-request", f"The body is not an Arrow IPC stream: {echo(_first_line(err))}") from None
         batches.append(batch)
     columns = []
     for index in range(len(schema)):
