@@ -296,7 +296,7 @@ def bench_memory(quick: bool) -> dict:
 def bench_memory_widest(quick: bool) -> dict:
     """The widest valid answer: 200,000 stall points, each with every multiple of the stall speed that
     speed_factors allows (MAX_SPEED_FACTORS), as Arrow (JSON would be over twice the size)."""
-    from service.api.lift_schemas import MAX_SPEED_FACTORS
+    from service.api.lift.stall import MAX_SPEED_FACTORS
 
     n = 20_000 if quick else 200_000
     body = {"weight": np.linspace(15000, 23000, n).tolist(), "wing_area": 61, "cl_max": 1.6, "altitude": 3000,

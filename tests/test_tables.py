@@ -8,7 +8,7 @@ from hypothesis import strategies as st
 
 from service.api import tables
 from service.api.atmosphere import AtmosphereRequest
-from service.api.lift_schemas import LiftSolveRequest
+from service.api.lift.solve import LiftSolveRequest
 from service.api.problems import Problem
 
 SOLVE = LiftSolveRequest()
