@@ -70,12 +70,10 @@ def free_port() -> int:
 
 
 @contextlib.contextmanager
-def gunicorn(app: str, workers: int = 1, threads: int | None = None, extra_env: dict | None = None):
+def gunicorn(app: str, workers: int = 1, extra_env: dict | None = None):
     """Start gunicorn with qbar's configuration on a free loopback port; yield (port, master pid)."""
     port = free_port()
     env = dict(os.environ, QBAR_BIND=f"127.0.0.1:{port}", QBAR_WORKERS=str(workers), QBAR_LOG_LEVEL="warning")
-    if threads:
-        env["QBAR_THREADS"] = str(threads)
     env.update(extra_env or {})
     env.pop("PROMETHEUS_MULTIPROC_DIR", None)
     log = tempfile.TemporaryFile()
@@ -338,12 +336,12 @@ SINGLE = {
 
 
 def bench_throughput(quick: bool) -> dict:
-    """Per endpoint, one worker (one thread): bulk points/s (JSON and Arrow answers), single-point requests/s."""
+    """Per endpoint, one worker: bulk points/s (JSON and Arrow answers), single-point requests/s."""
     n = 20_000 if quick else 100_000
     repeat, seconds = (2, 2) if quick else (3, 4)
     bodies = throughput_bodies(n)
     out = {}
-    with gunicorn("service:create_app()", workers=1, threads=1) as (port, _):
+    with gunicorn("service:create_app()", workers=1) as (port, _):
         for path, body in bodies.items():
             raw = json.dumps(body).encode()
             best = {}
@@ -422,7 +420,7 @@ def main(argv=None) -> int:
         print(f"{label:<{width}}  {value:>8}  {target:>10}  {verdict:6}  {details}")
     if "throughput" in results:
         per = results["throughput"]
-        print("\nper endpoint, one worker (one thread):  points/s JSON  points/s Arrow  single-point requests/s")
+        print("\nper endpoint, one worker:  points/s JSON  points/s Arrow  single-point requests/s")
         for path in SINGLE:
             name = path.removeprefix("/v1/")
             print(f"  {name:<22} {per[f'{name}: points/s json']:>20,.0f} {per[f'{name}: points/s arrow']:>14,.0f} "

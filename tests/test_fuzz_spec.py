@@ -24,6 +24,7 @@ from hypothesis import HealthCheck, settings
 from schemathesis.checks import negative_data_rejection, positive_data_acceptance
 
 from service import create_app
+from service.api import ranges
 from service.api.speeds import AT_MOST_ONE_SPEED
 from tests.live_server import running_gunicorn
 
@@ -58,6 +59,26 @@ for _name, _rules in GENERATED_WITHOUT.items():
     _schema = GENERATION_SPEC["components"]["schemas"][_name]
     assert all(rule in _schema["allOf"] for rule in _rules), f"{_name}: a rule left out is no longer in the spec"
     _schema["allOf"] = [rule for rule in _schema["allOf"] if rule not in _rules]
+
+
+def _without_ranges(node):
+    """``node`` with the range form ({start, stop, step, unit}) left out of every oneOf."""
+    if isinstance(node, dict):
+        return {key: ([_without_ranges(v) for v in value if not (isinstance(v, dict)
+                                                                  and v.get("description") == ranges.DESCRIPTION)]
+                      if key == "oneOf" else _without_ranges(value)) for key, value in node.items()}
+    if isinstance(node, list):
+        return [_without_ranges(v) for v in node]
+    return node
+
+
+#: Schemas whose requests are generated without the range form of their inputs: with it, the lift solve's
+#: alternatives are again too many for the generator (UnsupportedSchema). Ranges are fuzzed at every other
+#: operation, and tests/test_ranges.py covers them at the lift solve.
+GENERATED_WITHOUT_RANGES = ("LiftSolveRequest", "LiftWing")
+for _name in GENERATED_WITHOUT_RANGES:
+    _schemas = GENERATION_SPEC["components"]["schemas"]
+    _schemas[_name] = _without_ranges(_schemas[_name])
 schema = schemathesis.openapi.from_dict(GENERATION_SPEC, config=schemathesis.Config.from_dict(CONFIG))
 
 
