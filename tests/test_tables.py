@@ -447,3 +447,23 @@ def test_every_compute_operation_documents_the_table_bodies():
             content = op["post"]["requestBody"]["content"]
             assert content["text/csv"]["schema"]["description"].startswith("The array inputs as a table")
             assert content[tables.ARROW_STREAM]["schema"]["format"] == "binary"
+
+
+@pytest.mark.parametrize("media_type", [tables.CSV, tables.ARROW_STREAM])
+def test_python_calls_do_not_grow_with_rows(client, media_type):
+    """A table of 10 rows and one of 100,000 rows cost the same number of Python function calls."""
+    from tests.helpers import count_calls
+
+    def body(n):
+        columns = {"altitude [ft]": np.linspace(0, 40000, n).tolist(),
+                   "isa_deviation": np.linspace(-20, 20, n).tolist()}
+        return as_csv(columns) if media_type == tables.CSV else as_arrow(columns)
+
+    small, large = body(10), body(100_000)
+
+    def run(data):
+        response = client.post('/v1/atmosphere?outputs=["pressure"]', data=data, content_type=media_type)
+        assert response.status_code == 200, response.get_data(as_text=True)[:300]
+
+    run(small)
+    assert count_calls(lambda: run(small)) == count_calls(lambda: run(large))
