@@ -116,7 +116,7 @@ def read_request(schema) -> tuple[dict, tables.Table | None]:
         table = tables.read_table(body, mimetype, schema, request.args.items(multi=True),
                                   max_points=current_app.config["QBAR_MAX_POINTS"])
         return table.data, table
-    if request.args:
+    if request.environ.get("QUERY_STRING") and request.args:  # (the environ first: no parsing for the common case)
         names = ", ".join(echo(name) for name in list(request.args)[:5])
         raise invalid([{"pointer": "", "message": f"Query parameters ({names}) are read only with a table body "
                                                   "(text/csv or Arrow); put them in the JSON body."}])
