@@ -382,8 +382,8 @@ def _read_arrow(body: bytes, max_points: int):
             raise Problem("bad-request", f"The Arrow stream holds a {message.type} message; send record batches of "
                                          "numeric columns only.")
         if compressed:
-            raise Problem("bad-request", "The Arrow stream's buffers are compressed; send it uncompressed "
-                                         "(the body may be gzip-compressed as a whole instead).")
+            raise Problem("bad-request", "The Arrow stream's buffers are compressed (their size after "
+                                         "decompression is not bounded by the body's); send it uncompressed.")
         rows += length
         if rows > max_points:
             raise _too_many_rows(rows, max_points, exact=True)
@@ -422,8 +422,8 @@ REQUEST_DESCRIPTION = (
 CSV_REQUEST = REQUEST_DESCRIPTION + (
     " CSV (RFC 4180): comma-separated, UTF-8, a header line first; an empty cell is refused.")
 ARROW_REQUEST = REQUEST_DESCRIPTION + (
-    " An Apache Arrow IPC stream of integer or floating-point columns without nulls, uncompressed (the whole "
-    "body may be gzip-compressed instead); a column's unit may also be given as the field metadata `unit`.")
+    " An Apache Arrow IPC stream of integer or floating-point columns without nulls, its buffers uncompressed; "
+    "a column's unit may also be given as the field metadata `unit`.")
 
 
 def table_example(body: dict, columns: Iterable[str]) -> tuple[str, str] | None:
