@@ -1,14 +1,21 @@
 """qbar's benchmarks, measured side by side in one run, printed as one table.
 
-    .venv/bin/python -m bench.run            # all four figures (needs wrk: apt-get install wrk)
+    .venv/bin/python -m bench.run            # every figure (needs wrk: apt-get install wrk)
     .venv/bin/python -m bench.run --quick    # smaller repeats, for a smoke run
+    .venv/bin/python -m bench.run --only bulk --only throughput
 
 1. Atmosphere physics on 1,000,000 random altitudes against ambiance (same six properties).
-2. A 100,000-point POST /v1/atmosphere over HTTP through gunicorn (JSON in and out, timed to the last byte
-   of the answer) against ambiance computing the same points and properties in-process.
+2. A 100,000-point POST /v1/atmosphere over HTTP through gunicorn, timed to the last byte of the answer,
+   against ambiance computing the same points in-process (six properties), all in alternating rounds:
+   the default outputs (13 columns) as an Arrow table in and an Arrow stream out, JSON in and Arrow out,
+   JSON in and out; and six outputs, JSON in and out.
 3. Single-point POST /v1/airspeed throughput through gunicorn against a bare Flask endpoint that returns a
    constant JSON object, same gunicorn settings, same load (wrk, one thread, in its own process).
-4. Peak resident memory of one worker serving a 200,000-point lift grid.
+4. Peak resident memory of one worker serving the largest valid requests (a 200,000-point lift grid as
+   JSON and as Arrow; the 200,000-point stall request with the most speed factors, the widest answer).
+5. Per compute endpoint, one gunicorn worker: points per second for a 100,000-point request (JSON and
+   Arrow answers) and single-point requests per second (wrk): the figures the README's capacity section
+   turns into pods.
 
 Only the ratios compare like with like: on a 2-core machine the load generator competes with the workers.
 Not part of the test suite.
@@ -30,6 +37,7 @@ import statistics
 import subprocess
 import sys
 import tempfile
+import threading
 import time
 from pathlib import Path
 
@@ -41,11 +49,17 @@ from bench import atmosphere_physics
 ROOT = Path(__file__).resolve().parent.parent
 SIX = ["pressure", "temperature", "density", "speed_of_sound", "dynamic_viscosity", "kinematic_viscosity"]
 
+ARROW = "application/vnd.apache.arrow.stream"
+
 TARGETS = {
     "physics": ("<= 0.05", lambda r: r <= 0.05),
-    "http_bulk": ("<= 1.0", lambda r: r <= 1.0),
+    "bulk": ("<= 0.5", lambda r: r <= 0.5),
+    "bulk_json": ("<= 1.3", lambda r: r <= 1.3),
+    "bulk_six": ("<= 0.6", lambda r: r <= 0.6),
     "single_point": (">= 0.6", lambda r: r >= 0.6),
-    "memory": ("< 300 MB", lambda r: r < 300),
+    "memory": ("< 150 MB", lambda r: r < 150),
+    "memory_widest": ("< 150 MB", lambda r: r < 150),
+    "throughput": ("(measured)", lambda r: True),
 }
 
 
@@ -56,12 +70,10 @@ def free_port() -> int:
 
 
 @contextlib.contextmanager
-def gunicorn(app: str, workers: int = 1, threads: int | None = None, extra_env: dict | None = None):
+def gunicorn(app: str, workers: int = 1, extra_env: dict | None = None):
     """Start gunicorn with qbar's configuration on a free loopback port; yield (port, master pid)."""
     port = free_port()
     env = dict(os.environ, QBAR_BIND=f"127.0.0.1:{port}", QBAR_WORKERS=str(workers), QBAR_LOG_LEVEL="warning")
-    if threads:
-        env["QBAR_THREADS"] = str(threads)
     env.update(extra_env or {})
     env.pop("PROMETHEUS_MULTIPROC_DIR", None)
     log = tempfile.TemporaryFile()
@@ -88,8 +100,8 @@ def gunicorn(app: str, workers: int = 1, threads: int | None = None, extra_env: 
 
 
 def post_timed(port: int, path: str, body: bytes, headers: dict | None = None) -> tuple[float, int, bytes]:
-    """POST and read the whole answer; (seconds to the last byte, status, body)."""
-    conn = http.client.HTTPConnection("127.0.0.1", port, timeout=120)
+    """POST and read the whole answer; (seconds from the first byte sent to the last byte read, status, body)."""
+    conn = http.client.HTTPConnection("127.0.0.1", port, timeout=300)
     hdrs = {"Content-Type": "application/json"} | (headers or {})
     start = time.perf_counter()
     conn.request("POST", path, body=body, headers=hdrs)
@@ -110,29 +122,63 @@ def bench_physics(quick: bool) -> dict:
     return {"ours_s": result["ours_s"], "ambiance_s": result["ambiance_s"], "ratio": result["ratio"]}
 
 
-def bench_http_bulk(quick: bool) -> dict:
+def arrow_table_body(columns: dict[str, np.ndarray]) -> bytes:
+    """An Arrow IPC stream of float64 columns (a table request body)."""
+    import pyarrow as pa
+
+    table = pa.table({name: pa.array(values) for name, values in columns.items()})
+    sink = pa.BufferOutputStream()
+    with pa.ipc.new_stream(sink, table.schema) as writer:
+        writer.write_table(table)
+    return sink.getvalue().to_pybytes()
+
+
+def bench_bulk(quick: bool) -> dict:
+    """The 100k-point /v1/atmosphere request in four forms against ambiance, in alternating rounds."""
     n = 100_000
     rng = np.random.default_rng(7)
     h = rng.uniform(-4000.0, 80000.0, n)  # geometric [m], inside both models' ranges
-    body = json.dumps({"altitude": {"value": h.tolist(), "unit": "m"}, "altitude_kind": "geometric",
-                       "outputs": SIX}).encode()
+    json_default = json.dumps({"altitude": {"value": h.tolist(), "unit": "m"}, "altitude_kind": "geometric"}).encode()
+    json_six = json.dumps({"altitude": {"value": h.tolist(), "unit": "m"}, "altitude_kind": "geometric",
+                           "outputs": SIX}).encode()
+    arrow_in = arrow_table_body({"altitude [m]": h})
+    forms = {  # name -> (path, body, headers)
+        "arrow": ("/v1/atmosphere?altitude_kind=%22geometric%22", arrow_in, {"Content-Type": ARROW, "Accept": ARROW}),
+        "json_in_arrow_out": ("/v1/atmosphere", json_default, {"Accept": ARROW}),
+        "json": ("/v1/atmosphere", json_default, {}),
+        "json_six": ("/v1/atmosphere", json_six, {}),
+    }
     repeat = 3 if quick else 7
-    theirs = min(_time(lambda: ambiance_six(h)) for _ in range(repeat))
+    theirs = []
+    times: dict[str, list[float]] = {name: [] for name in forms}
+    sizes = {}
     with gunicorn("service:create_app()") as (port, _):
-        post_timed(port, "/v1/atmosphere", body)  # warm-up
-        times = []
+        for path, body, headers in forms.values():  # warm-up, and every form answers
+            _, status, data = post_timed(port, path, body, headers)
+            if status != 200:
+                raise RuntimeError(f"{path} answered {status}: {data[:300]!r}")
         for _ in range(repeat):
-            elapsed, status, data = post_timed(port, "/v1/atmosphere", body)
-            assert status == 200, data[:300]
-            times.append(elapsed)
+            theirs.append(_time(lambda: ambiance_six(h)))
+            for name, (path, body, headers) in forms.items():
+                elapsed, status, data = post_timed(port, path, body, headers)
+                assert status == 200, data[:300]
+                times[name].append(elapsed)
+                sizes[name] = len(data)
         gzip_times = []
         for _ in range(repeat):
-            elapsed, status, zipped = post_timed(port, "/v1/atmosphere", body, {"Accept-Encoding": "gzip"})
+            elapsed, status, zipped = post_timed(port, "/v1/atmosphere", json_six, {"Accept-Encoding": "gzip"})
             assert status == 200, zipped[:300]
             gzip_times.append(elapsed)
-    ours = min(times)
-    return {"ours_s": ours, "theirs_s": theirs, "ratio": ours / theirs, "answer_bytes": len(data),
-            "gzip_s": min(gzip_times), "gzip_bytes": len(zipped)}
+    ambiance_s = min(theirs)
+    best = {name: min(values) for name, values in times.items()}
+    out = {"ratio": best["arrow"] / ambiance_s, "ambiance_s": ambiance_s}
+    for name in forms:
+        out[f"{name}_s"] = best[name]
+        out[f"{name}_ratio"] = best[name] / ambiance_s
+        out[f"{name}_bytes"] = sizes[name]
+    out["json_six_gzip_s"] = min(gzip_times)
+    out["json_six_gzip_bytes"] = len(zipped)
+    return out
 
 
 def _time(fn) -> float:
@@ -185,62 +231,200 @@ def _peak_rss_mb(pid: int) -> float:
     return int(re.search(r"VmHWM:\s+(\d+) kB", status).group(1)) / 1024
 
 
-def bench_memory(quick: bool) -> dict:
-    # 200,000 points: 50 weights x 40 flight levels x 100 ISA deviations, solve for CL at a fixed Mach
-    body = json.dumps({
-        "solve_for": "cl",
-        "weight": {"value": np.linspace(40, 78, 50).tolist(), "unit": "t"},
-        "altitude": {"value": np.linspace(50, 440, 40).tolist(), "unit": "FL"},
-        "isa_deviation": np.linspace(-30, 30, 100).tolist(),
-        "mach": 0.78,
-        "wing_area": 122.6,
-        "grid": True,
-    }).encode()
+#: 200,000 points: 50 weights x 40 flight levels x 100 ISA deviations, solve for CL at a fixed Mach.
+LIFT_GRID = {
+    "solve_for": "cl",
+    "weight": {"value": np.linspace(40, 78, 50).tolist(), "unit": "t"},
+    "altitude": {"value": np.linspace(50, 440, 40).tolist(), "unit": "FL"},
+    "isa_deviation": np.linspace(-30, 30, 100).tolist(),
+    "mach": 0.78,
+    "wing_area": 122.6,
+    "grid": True,
+}
+
+
+def _private_mb(pid: int) -> float:
+    """Memory of ``pid`` that no other process shares (what one more worker costs) [MB]."""
+    text = Path(f"/proc/{pid}/smaps_rollup").read_text()
+    return sum(int(x) for x in re.findall(r"^Private_(?:Clean|Dirty):\s+(\d+) kB", text, re.MULTILINE)) / 1024
+
+
+def _peak_memory(path: str, body: dict, headers: dict | None = None) -> dict:
+    """One fresh worker serves one request: its resident memory before and its peak (VmHWM, which counts the
+    pages the preloaded modules share with the other workers), and its private memory sampled every 5 ms
+    during the request (the pages no other worker shares: what one more worker costs)."""
     with gunicorn("service:create_app()", workers=1) as (port, master):
         workers = _children(master)
         before = max(_peak_rss_mb(w) for w in workers)
-        elapsed, status, data = post_timed(port, "/v1/lift/solve", body)
+        private_before = max(_private_mb(w) for w in workers)
+        samples = []
+        done = threading.Event()
+
+        def sample():
+            while not done.is_set():
+                with contextlib.suppress(OSError):
+                    samples.append(max(_private_mb(w) for w in workers))
+                time.sleep(0.005)
+
+        sampler = threading.Thread(target=sample, daemon=True)
+        sampler.start()
+        try:
+            elapsed, status, data = post_timed(port, path, json.dumps(body).encode(), headers)
+        finally:
+            done.set()
+            sampler.join()
         if status != 200:
-            raise RuntimeError(f"lift grid answered {status}: {data[:300]!r}")
+            raise RuntimeError(f"{path} answered {status}: {data[:300]!r}")
         peak = max(_peak_rss_mb(w) for w in workers)
-    return {"idle_mb": before, "peak_mb": peak, "seconds": elapsed, "answer_bytes": len(data)}
+    return {"idle_mb": before, "peak_mb": peak, "private_idle_mb": private_before,
+            "private_peak_mb": max(samples, default=private_before), "seconds": elapsed, "answer_bytes": len(data)}
+
+
+def bench_memory(quick: bool) -> dict:
+    """The 200,000-point lift grid (the most outputs per point), answered as JSON and as Arrow."""
+    as_json = _peak_memory("/v1/lift/solve", LIFT_GRID)
+    as_arrow = _peak_memory("/v1/lift/solve", LIFT_GRID, {"Accept": ARROW})
+    return {"peak_mb": max(as_json["peak_mb"], as_arrow["peak_mb"]), "idle_mb": as_json["idle_mb"],
+            "json_peak_mb": as_json["peak_mb"], "json_private_peak_mb": as_json["private_peak_mb"],
+            "json_bytes": as_json["answer_bytes"], "arrow_peak_mb": as_arrow["peak_mb"],
+            "arrow_private_peak_mb": as_arrow["private_peak_mb"], "arrow_bytes": as_arrow["answer_bytes"],
+            "private_idle_mb": as_json["private_idle_mb"]}
+
+
+def bench_memory_widest(quick: bool) -> dict:
+    """The widest valid answer: 200,000 stall points, each with every multiple of the stall speed that
+    speed_factors allows (MAX_SPEED_FACTORS), as Arrow (JSON would be over twice the size)."""
+    from service.api.lift.stall import MAX_SPEED_FACTORS
+
+    n = 20_000 if quick else 200_000
+    body = {"weight": np.linspace(15000, 23000, n).tolist(), "wing_area": 61, "cl_max": 1.6, "altitude": 3000,
+            "bank_angle": 30, "speed_factors": np.linspace(1.05, 2.0, MAX_SPEED_FACTORS).round(4).tolist(),
+            "cas": 180}
+    result = _peak_memory("/v1/lift/stall", body, {"Accept": ARROW})
+    return result | {"points": n, "factors": MAX_SPEED_FACTORS}
+
+
+#: One 100,000-point request per compute endpoint (default outputs), for points per second.
+def throughput_bodies(n: int) -> dict[str, dict]:
+    return {
+        "/v1/atmosphere": {"altitude": np.linspace(-1000, 40000, n).tolist(), "isa_deviation": 10},
+        "/v1/airspeed": {"cas": np.linspace(130, 300, n).tolist(), "altitude": np.linspace(0, 39000, n).tolist(),
+                         "isa_deviation": 10},
+        "/v1/airspeed/crossover": {"cas": np.linspace(250, 350, n).tolist(), "mach": 0.78},
+        "/v1/airspeed/schedule": {"cas": 290, "mach": 0.78, "altitude": np.linspace(0, 41000, n).tolist(),
+                                  "isa_deviation": 10},
+        "/v1/lift/solve": {"solve_for": "cl", "weight": np.linspace(15000, 23000, n).tolist(), "wing_area": 61,
+                           "mach": 0.6, "altitude": np.linspace(5000, 35000, n).tolist(), "isa_deviation": 5},
+        "/v1/lift/stall": {"weight": np.linspace(15000, 23000, n).tolist(), "wing_area": 61, "cl_max": 1.6,
+                           "altitude": 3000, "bank_angle": 30, "speed_factors": [1.13, 1.3], "cas": 180},
+        "/v1/lift/curve": {"aspect_ratio": 11, "sweep_half_chord": 0, "mach": np.linspace(0.1, 0.65, n).tolist(),
+                           "airfoil_lift_slope": 6.0, "cl": 0.8, "cl_max": 1.6},
+    }
+
+
+#: One single-point request per compute endpoint (the EFB's kind of request).
+SINGLE = {
+    "/v1/atmosphere": {"altitude": {"value": 350, "unit": "FL"}, "isa_deviation": 10},
+    "/v1/airspeed": {"cas": 280, "altitude": {"value": 330, "unit": "FL"}, "isa_deviation": 15},
+    "/v1/airspeed/crossover": {"cas": 290, "mach": 0.76},
+    "/v1/airspeed/schedule": {"cas": 290, "mach": 0.76, "altitude": 31000, "isa_deviation": 10},
+    "/v1/lift/solve": {"solve_for": "cl", "weight": 21000, "wing_area": 61, "mach": 0.45, "altitude": 25000},
+    "/v1/lift/stall": {"weight": 22000, "wing_area": 61, "cl_max": 1.6, "altitude": 3000, "bank_angle": 30},
+    "/v1/lift/curve": {"aspect_ratio": 11, "sweep_half_chord": 0, "mach": 0.3, "airfoil_lift_slope": 6.0,
+                       "cl": 0.9},
+}
+
+
+def bench_throughput(quick: bool) -> dict:
+    """Per endpoint, one worker: bulk points/s (JSON and Arrow answers), single-point requests/s."""
+    n = 20_000 if quick else 100_000
+    repeat, seconds = (2, 2) if quick else (3, 4)
+    bodies = throughput_bodies(n)
+    out = {}
+    with gunicorn("service:create_app()", workers=1) as (port, _):
+        for path, body in bodies.items():
+            raw = json.dumps(body).encode()
+            best = {}
+            for label, headers in (("json", {}), ("arrow", {"Accept": ARROW})):
+                post_timed(port, path, raw, headers)
+                times = []
+                for _ in range(repeat):
+                    elapsed, status, data = post_timed(port, path, raw, headers)
+                    if status != 200:
+                        raise RuntimeError(f"{path} answered {status}: {data[:300]!r}")
+                    times.append(elapsed)
+                best[label] = min(times)
+            rps = _wrk(port, path, json.dumps(SINGLE[path]), seconds) if shutil.which("wrk") else float("nan")
+            name = path.removeprefix("/v1/")
+            out[f"{name}: points/s json"] = n / best["json"]
+            out[f"{name}: points/s arrow"] = n / best["arrow"]
+            out[f"{name}: single requests/s"] = rps
+    out["min_points_per_s_json"] = min(v for k, v in out.items() if k.endswith("points/s json"))
+    return out
 
 
 def main(argv=None) -> int:
     parser = argparse.ArgumentParser(description=__doc__, formatter_class=argparse.RawDescriptionHelpFormatter)
     parser.add_argument("--quick", action="store_true", help="fewer repeats (a smoke run)")
-    parser.add_argument("--only", choices=["physics", "http_bulk", "single_point", "memory"], action="append")
+    parser.add_argument("--only", choices=["physics", "bulk", "single_point", "memory", "throughput"],
+                        action="append")
     args = parser.parse_args(argv)
     print(f"machine: {platform.machine()}, {os.cpu_count()} CPUs, Python {platform.python_version()}, "
           f"NumPy {np.__version__}, {platform.platform()}")
-    runs = {
-        "physics": ("atmosphere physics, 1e6 altitudes, ours / ambiance", bench_physics, "ratio", "{:.3f}"),
-        "http_bulk": ("100k-point /v1/atmosphere over HTTP / ambiance in-process", bench_http_bulk, "ratio",
-                      "{:.2f}"),
-        "single_point": ("single-point /v1/airspeed throughput / bare Flask", bench_single_point, "ratio",
-                         "{:.2f}"),
-        "memory": ("peak worker memory, 200k-point lift grid [MB]", bench_memory, "peak_mb", "{:.0f}"),
+    runs = {  # key: (group for --only, label, function, the figure's key in its result, format)
+        "physics": ("physics", "atmosphere physics, 1e6 altitudes, ours / ambiance", bench_physics, "ratio",
+                    "{:.3f}"),
+        "bulk": ("bulk", "100k-point /v1/atmosphere, default outputs, Arrow in and out / ambiance", bench_bulk,
+                 "ratio", "{:.2f}"),
+        "single_point": ("single_point", "single-point /v1/airspeed throughput / bare Flask", bench_single_point,
+                         "ratio", "{:.2f}"),
+        "memory": ("memory", "peak worker memory, 200k-point lift grid, JSON or Arrow [MB]", bench_memory,
+                   "peak_mb", "{:.0f}"),
+        "memory_widest": ("memory", "peak worker memory, 200k stall points x 20 speed factors, Arrow [MB]",
+                          bench_memory_widest, "peak_mb", "{:.0f}"),
+        "throughput": ("throughput", "points/s per worker, slowest endpoint, JSON", bench_throughput,
+                       "min_points_per_s_json", "{:.3g}"),
+    }
+    #: figures derived from another run's result: key -> (its run, label, figure)
+    derived = {
+        "bulk_json": ("bulk", "100k-point /v1/atmosphere, default outputs, JSON in and out / ambiance", "json_ratio"),
+        "bulk_six": ("bulk", "100k-point /v1/atmosphere, six outputs, JSON in and out / ambiance", "json_six_ratio"),
     }
     rows = []
+    results = {}
     failed = False
-    for key, (label, fn, figure, fmt) in runs.items():
-        if args.only and key not in args.only:
+    for key, (group, label, fn, figure, fmt) in runs.items():
+        if args.only and group not in args.only:
             continue
         try:
-            result = fn(args.quick)
+            results[key] = result = fn(args.quick)
         except Exception as err:  # report and go on with the other figures
             rows.append((label, "error", TARGETS[key][0], "-", str(err).splitlines()[0][:80]))
             failed = True
             continue
+        for name, (source, derived_label, derived_figure) in derived.items():
+            if source == key:
+                ok = TARGETS[name][1](result[derived_figure])
+                failed |= not ok
+                rows.append((derived_label, f"{result[derived_figure]:.2f}", TARGETS[name][0],
+                             "met" if ok else "MISSED", ""))
         value = result[figure]
         ok = TARGETS[key][1](value)
         failed |= not ok
-        details = ", ".join(f"{k}={v:.4g}" if isinstance(v, float) else f"{k}={v}" for k, v in result.items())
+        details = "" if key == "throughput" else ", ".join(
+            f"{k}={v:.4g}" if isinstance(v, float) else f"{k}={v}" for k, v in result.items())
         rows.append((label, fmt.format(value), TARGETS[key][0], "met" if ok else "MISSED", details))
     width = max(len(r[0]) for r in rows)
-    print(f"\n{'figure':<{width}}  {'value':>8}  {'target':>8}  {'':6}  details")
+    print(f"\n{'figure':<{width}}  {'value':>8}  {'target':>10}  {'':6}  details")
     for label, value, target, verdict, details in rows:
-        print(f"{label:<{width}}  {value:>8}  {target:>8}  {verdict:6}  {details}")
+        print(f"{label:<{width}}  {value:>8}  {target:>10}  {verdict:6}  {details}")
+    if "throughput" in results:
+        per = results["throughput"]
+        print("\nper endpoint, one worker:  points/s JSON  points/s Arrow  single-point requests/s")
+        for path in SINGLE:
+            name = path.removeprefix("/v1/")
+            print(f"  {name:<22} {per[f'{name}: points/s json']:>20,.0f} {per[f'{name}: points/s arrow']:>14,.0f} "
+                  f"{per[f'{name}: single requests/s']:>24,.0f}")
     return 1 if failed else 0
 
 

@@ -139,7 +139,8 @@ def _published_bounds(client, unit):
     rule = spec["components"]["schemas"]["AtmosphereRequest"]["allOf"][0]
     branches = rule["else"]["properties"]["altitude"]["oneOf"]
     value = next(b["properties"]["value"]["oneOf"][0] for b in branches
-                 if b.get("type") == "object" and b["properties"]["unit"]["const"] == unit)
+                 if b.get("type") == "object" and "value" in b["properties"]  # not the range form
+                 and b["properties"]["unit"]["const"] == unit)
     return value["minimum"], value["maximum"]
 
 

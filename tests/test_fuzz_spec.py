@@ -21,9 +21,10 @@ import jsonschema
 import pytest
 import schemathesis
 from hypothesis import HealthCheck, settings
-from schemathesis.checks import positive_data_acceptance
+from schemathesis.checks import negative_data_rejection, positive_data_acceptance
 
 from service import create_app
+from service.api import ranges
 from service.api.drag import ONE_FLIGHT_CONDITION
 from service.api.speeds import AT_MOST_ONE_SPEED
 from tests.live_server import running_gunicorn
@@ -64,6 +65,26 @@ for _name, _rules in GENERATED_WITHOUT.items():
     _schema = GENERATION_SPEC["components"]["schemas"][_name]
     assert all(rule in _schema["allOf"] for rule in _rules), f"{_name}: a rule left out is no longer in the spec"
     _schema["allOf"] = [rule for rule in _schema["allOf"] if rule not in _rules]
+
+
+def _without_ranges(node):
+    """``node`` with the range form ({start, stop, step, unit}) left out of every oneOf."""
+    if isinstance(node, dict):
+        return {key: ([_without_ranges(v) for v in value if not (isinstance(v, dict)
+                                                                  and v.get("description") == ranges.DESCRIPTION)]
+                      if key == "oneOf" else _without_ranges(value)) for key, value in node.items()}
+    if isinstance(node, list):
+        return [_without_ranges(v) for v in node]
+    return node
+
+
+#: Schemas whose requests are generated without the range form of their inputs: with it, the alternatives of
+#: the lift solve and stall requests are again too many for the generator (UnsupportedSchema). Ranges are
+#: fuzzed at every other operation, and tests/test_ranges.py covers them at these two.
+GENERATED_WITHOUT_RANGES = ("LiftSolveRequest", "LiftWing", "LiftStallRequest", "StallReference")
+for _name in GENERATED_WITHOUT_RANGES:
+    _schemas = GENERATION_SPEC["components"]["schemas"]
+    _schemas[_name] = _without_ranges(_schemas[_name])
 schema = schemathesis.openapi.from_dict(GENERATION_SPEC, config=schemathesis.Config.from_dict(CONFIG))
 
 
@@ -112,7 +133,17 @@ INEXPRESSIBLE = [
     # of the point must lie within the table (never extrapolated): order, lengths and a range set by another input.
     ("buffet table", lambda doc: _pointers(doc) <= {"/buffet/mach", "/buffet/cl", "/mach"}
      and any(word in _messages(doc) for word in ("strictly increasing", "same length", "buffet table"))),
+    # A range's step must point from start to stop, and their distance must be a countable number of steps:
+    # JSON Schema cannot compare two properties.
+    ("range step against start and stop", lambda doc: all(p.endswith("/step") for p in _pointers(doc))
+     and any(word in _messages(doc) for word in ("so the step must be", "too many steps to count"))),
 ]
+
+
+def over_the_point_limit(response) -> bool:
+    """A 413 for the number of points: a range's count, (stop - start) / step, or a grid's product of lengths,
+    neither of which JSON Schema can bound."""
+    return response.status_code == 413 and "points per request (QBAR_MAX_POINTS)" in json.loads(response.text)["detail"]
 
 
 def inexpressible(response) -> str | None:
@@ -138,7 +169,9 @@ def test_operation_conforms_to_spec(case, base_url):
     headers = {"X-API-Key": KEY}
     response = case.call(base_url=base_url, headers=headers)
     excluded = []
-    if not valid_by_spec(case) or inexpressible(response):
+    if not valid_by_spec(case) or inexpressible(response) or over_the_point_limit(response):
         excluded.append(positive_data_acceptance)
+    if over_the_point_limit(response):  # counted before the schema is checked (cheapest first): a refusal too
+        excluded.append(negative_data_rejection)
     case.validate_response(response, headers=headers, excluded_checks=excluded,
                            transport_kwargs={"base_url": base_url, "headers": headers})

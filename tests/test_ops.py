@@ -127,7 +127,8 @@ def test_keys_never_reach_the_log(keyed, capsys):
     post(keyed, "/v1/atmosphere?key=" + KEY_OLD, ONE_POINT, headers={"X-API-Key": KEY_OLD})
     captured = capsys.readouterr()
     entries = access_lines(captured.out)
-    assert [e["status"] for e in entries] == [200, 200, 401, 200]
+    # a query string beside a JSON body is a 422 (it is read only with a table body), naming no value
+    assert [e["status"] for e in entries] == [200, 200, 401, 422]
     for text in (captured.out, captured.err):
         for secret in (KEY_OLD, KEY_NEW, KEY_NEW[:-1] + "x", KEY_OLD[:8]):
             assert secret not in text

@@ -53,6 +53,12 @@ class ErrorItemSchema(ma.Schema):
     pointer = ma.fields.String(required=True, metadata={
         "description": "JSON Pointer (RFC 6901) into the request body to the offending value; \"\" for the body."})
     message = ma.fields.String(required=True, metadata={"description": "What is wrong there."})
+    column = ma.fields.String(metadata={"description": "Table bodies (CSV, Arrow): the column's header.",
+                                        "example": "altitude [FL]"})
+    row = ma.fields.Integer(metadata={"description": "Table bodies: the row, 0-based (the CSV line is row + 2).",
+                                      "example": 1})
+    parameter = ma.fields.String(metadata={"description": "Table bodies: the query parameter concerned.",
+                                           "example": "isa_deviation"})
 
 
 class WarningSchema(ma.Schema):

@@ -19,8 +19,10 @@ from typing import NamedTuple
 
 import marshmallow as ma
 import numpy as np
+from flask import current_app
 
 from service import units
+from service.api import ranges
 from service.api.masks import MAX_REPORTED, any_true, first_indices
 
 _NUMBER_TYPES = {int, float}
@@ -78,6 +80,8 @@ def parse_numbers(raw, *, allow_array: bool = True):
     Returns ``(array, is_array)``; a number gives a 0-d array.
     """
     kind = type(raw)
+    if kind is np.ndarray and raw.ndim == 1 and raw.dtype == np.float64 and allow_array:
+        return raw, True  # a table column (api.tables): finite numbers already, one C-level check there
     if kind is float or kind is int:
         try:
             value = float(raw)
@@ -104,6 +108,11 @@ def parse_numbers(raw, *, allow_array: bool = True):
     if allow_array and message == "Not a number.":
         message = "Not a number or an array of numbers."
     raise ma.ValidationError(message)
+
+
+def _one_number(raw) -> float:
+    """One of a range's start, stop and step, with the words of any other number field."""
+    return float(parse_numbers(raw, allow_array=False)[0])
 
 
 class Number(ma.fields.Field):
@@ -166,10 +175,29 @@ class Number(ma.fields.Field):
         return self.minimum is not None or self.maximum is not None
 
     def _deserialize(self, value, attr, data, **kwargs):
+        if self.allow_array and ranges.is_range(value):
+            array, _ = self._range(value, unit_allowed=False)
+            if self.bounded:
+                self._check_ends(value, self.minimum, self.maximum, self.range_message)
+            return Value(array, None, None, True)
         array, is_array = parse_numbers(value, allow_array=self.allow_array)
         if self.bounded:
             self._check_range(array, self.minimum, self.maximum, self.range_message)
         return Value(array, None, None, is_array)
+
+    def _range(self, value: dict, *, unit_allowed: bool):
+        """A range {start, stop, step[, unit]} expanded (api.ranges), after the point limit."""
+        return ranges.expand(value, limit=current_app.config["QBAR_MAX_POINTS"], unit_allowed=unit_allowed,
+                             number=_one_number)
+
+    def _check_ends(self, value: dict, lo, hi, message_for):
+        """A range's bounds: its start and its stop lie within the field's range (as the spec says), so
+        every point of it does."""
+        try:
+            self._check_range(np.array([float(value["start"]), float(value["stop"])]), lo, hi, message_for)
+        except ma.ValidationError as err:
+            raise ma.ValidationError({("start", "stop")[index]: messages
+                                      for index, messages in err.messages.items()}) from None
 
 
 def inward(value: float | None, *, up: bool) -> float | None:
@@ -219,12 +247,25 @@ class Quantity(Number):
             out[name] = (inward(converted[0], up=True), inward(converted[1], up=False))
         return out
 
+    def _unit(self, unit) -> str:
+        if type(unit) is not str or unit not in self.dim.units:  # {} or [] would not even hash
+            raise ma.ValidationError({"unit": [str(units.UnitError(self.dimension, unit))]})
+        return unit
+
     def bounds_in(self, unit: str, data) -> tuple[float | None, float | None]:
         """The bounds of a value given in ``unit`` (``data``: the raw request, for subclasses)."""
         return self.bounds[unit]
 
     def _deserialize(self, value, attr, data, **kwargs):
         unit = self.default_unit
+        if self.allow_array and ranges.is_range(value):
+            array, given = self._range(value, unit_allowed=True)
+            if given is not None:
+                unit = self._unit(given)
+            if self.bounded:
+                lo, hi = self.bounds_in(unit, data)
+                self._check_ends(value, lo, hi, lambda: self.describe_range(lo, hi, unit))
+            return Value(units.to_si(array, self.dimension, unit), unit, self.dimension, True)
         if type(value) is dict:
             missing = {"value", "unit"} - value.keys()
             extra = value.keys() - {"value", "unit"}
@@ -232,9 +273,7 @@ class Quantity(Number):
             errors.update({k: ["Unknown field."] for k in sorted(extra)})
             if errors:
                 raise ma.ValidationError(errors)
-            unit = value["unit"]
-            if type(unit) is not str or unit not in self.dim.units:  # {} or [] would not even hash
-                raise ma.ValidationError({"unit": [str(units.UnitError(self.dimension, unit))]})
+            unit = self._unit(value["unit"])
             try:
                 array, is_array = parse_numbers(value["value"], allow_array=self.allow_array)
             except ma.ValidationError as err:
@@ -284,22 +323,26 @@ def _bounded_number(lo, hi, field: Number) -> dict:
     return schema
 
 
-def number_schema(field: Number, lo=None, hi=None, *, bounded: bool = True) -> dict:
-    """OpenAPI 3.1 schema of a bare number or flat array of numbers, within the field's bounds
+def number_schema(field: Number, lo=None, hi=None, *, bounded: bool = True, ranged: bool = True) -> dict:
+    """OpenAPI 3.1 schema of a bare number, a flat array of numbers or a range, within the field's bounds
     (or ``lo``/``hi``; none with ``bounded=False``)."""
     if bounded and lo is None and hi is None:
         lo, hi = field.minimum, field.maximum
     number = _bounded_number(lo, hi, field) if bounded else {"type": "number"}
     if not field.allow_array:
         return number
-    return {"oneOf": [number, {"type": "array", "items": number, "minItems": 1}]}
+    forms = [number, {"type": "array", "items": number, "minItems": 1}]
+    if ranged:
+        forms.append(ranges.schema(number))
+    return {"oneOf": forms}
 
 
 def quantity_schema(field: Quantity, bounds: dict | None = None) -> dict:
-    """OpenAPI schema of a Quantity: number or array in the default unit, or {value, unit}.
+    """OpenAPI schema of a Quantity: number, array or range in the default unit, or {value, unit}, or a
+    range with a unit.
 
-    With bounds (``field.bounds`` unless given: {unit: (lo, hi)}), the object form is one
-    branch per unit, each with the bounds in that unit.
+    With bounds (``field.bounds`` unless given: {unit: (lo, hi)}), the object forms are one branch per
+    unit, each with the bounds in that unit.
     """
     bounds = field.bounds if bounds is None else bounds
     lo, hi = bounds[field.default_unit]
@@ -308,20 +351,26 @@ def quantity_schema(field: Quantity, bounds: dict | None = None) -> dict:
         objects = [{
             "type": "object",
             "properties": {
-                "value": number_schema(field, bounded=False) | {"description": "The number or numbers, in `unit`."},
+                "value": number_schema(field, bounded=False, ranged=False)
+                | {"description": "The number or numbers, in `unit`."},
                 "unit": {"type": "string", "enum": list(field.dim.units), "description": "The unit of `value`."},
             },
             "required": ["value", "unit"],
             "additionalProperties": False,
         }]
+        if field.allow_array:
+            objects.append(ranges.schema({"type": "number"}, list(field.dim.units)))
     else:
         objects = [{
             "type": "object",
-            "properties": {"value": number_schema(field, *bounds[unit]) | {"description": f"The number(s) in {unit}."},
+            "properties": {"value": number_schema(field, *bounds[unit], ranged=False)
+                           | {"description": f"The number(s) in {unit}."},
                            "unit": {"const": unit, "description": "The unit of `value`."}},
             "required": ["value", "unit"],
             "additionalProperties": False,
         } for unit in field.dim.units]
+        if field.allow_array:
+            objects += [ranges.schema(_bounded_number(*bounds[unit], field), unit) for unit in field.dim.units]
     return {"oneOf": [*plain.get("oneOf", [plain]), *objects]}
 
 

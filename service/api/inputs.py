@@ -15,11 +15,14 @@ import numpy as np
 import orjson
 from flask import current_app, request
 
+from service.api import ranges, tables
 from service.api.fields import Number, OutputUnits, Value
-from service.api.problems import Problem, escape_pointer_token, flatten_messages, invalid, pointer
+from service.api.problems import Problem, echo, escape_pointer_token, flatten_messages, invalid, pointer
 from service.api.rules import RuleSchema
 
 JSON_MEDIA_TYPES = ("application/json",)
+#: Every media type a compute request body may have: JSON, or a table (api.tables).
+BODY_MEDIA_TYPES = (*JSON_MEDIA_TYPES, *tables.TABLE_MEDIA_TYPES)
 CLOSE = {"Connection": "close"}  # a body left unread: the connection cannot carry another request
 
 
@@ -91,18 +94,22 @@ def decode_json(body: bytes):
             raise Problem("malformed-json", f"The body is not valid JSON: {message}.") from None
 
 
-def read_json_object() -> dict:
-    """The request body as a dict, after the content-type, size and syntax checks.
+def read_body() -> tuple[bytes, str]:
+    """The request body and its media type, after the content-type and size checks.
 
     The body is read from the server's input straight (one read of the declared length, or of
     one byte over the limit for a chunked body): werkzeug's stream wrapper would read in 64 KiB
     chunks, a Python call per chunk, and cut a chunked body at the limit without a word.
     """
     mimetype = request.mimetype
-    if mimetype not in JSON_MEDIA_TYPES and not mimetype.endswith("+json"):
+    if mimetype not in BODY_MEDIA_TYPES and not mimetype.endswith("+json"):
         shown = mimetype or "none"
         raise Problem("unsupported-media-type",
-                      f"Content-Type is {shown}; send the body as JSON with 'Content-Type: application/json'.")
+                      f"Content-Type is {echo(shown)}; send the body as JSON with 'Content-Type: application/json' "
+                      f"(or a table as {' or '.join(tables.TABLE_MEDIA_TYPES)}).")
+    charset = request.mimetype_params.get("charset")
+    if mimetype == tables.CSV and charset is not None and charset.lower().replace("-", "") != "utf8":
+        raise Problem("unsupported-media-type", f"A CSV body is read as UTF-8; charset {echo(charset)} is not.")
     limit = current_app.config["QBAR_MAX_BODY_BYTES"]
     length = request.content_length
     if length is not None and length > limit:
@@ -115,6 +122,11 @@ def read_json_object() -> dict:
         raise Problem("payload-too-large",
                       f"The body is over the limit of {limit} bytes (QBAR_MAX_BODY_BYTES).", extra={"limit": limit},
                       headers=CLOSE)
+    return body, mimetype
+
+
+def read_json_object(body: bytes) -> dict:
+    """A JSON body as a dict, after the syntax check."""
     if not body.strip():
         raise Problem("malformed-json", "The body is empty: send a JSON object.")
     data = decode_json(body)
@@ -124,18 +136,23 @@ def read_json_object() -> dict:
     return data
 
 
-def _length(raw) -> int:
-    """Number of points a raw (unparsed) input contributes: an array's length, else 1."""
-    if type(raw) is list:
-        return len(raw)
-    if type(raw) is dict and type(raw.get("value")) is list:
-        return len(raw["value"])
-    return 1
+def read_request(schema) -> tuple[dict, tables.Table | None]:
+    """The request as the JSON-shaped dict the schema loads, and the table it came from (if any)."""
+    body, mimetype = read_body()
+    if mimetype in tables.TABLE_MEDIA_TYPES:
+        table = tables.read_table(body, mimetype, schema, request.args.items(multi=True),
+                                  max_points=current_app.config["QBAR_MAX_POINTS"])
+        return table.data, table
+    if request.environ.get("QUERY_STRING") and request.args:  # (the environ first: no parsing for the common case)
+        names = ", ".join(echo(name) for name in list(request.args)[:5])
+        raise invalid([{"pointer": "", "message": f"Query parameters ({names}) are read only with a table body "
+                                                  "(text/csv or Arrow); put them in the JSON body."}])
+    return read_json_object(body), None
 
 
 def count_points(data: dict, axes: tuple[str, ...]) -> int:
     """The number of points a request asks for: the longest array, or the grid's product."""
-    lengths = [_length(data[name]) for name in axes if name in data]
+    lengths = [ranges.length(data[name]) for name in axes if name in data]
     if not lengths:
         return 1
     if data.get("grid") is True:
@@ -314,13 +331,18 @@ class BodyParser:
         def decorator(func):
             @wraps(func)
             def wrapper(*args, **kw):
-                data = read_json_object()
-                check_point_limit(count_points(data, axes))
+                data, table = read_request(schema)
                 try:
-                    loaded = schema.load(data)
-                except ma.ValidationError as err:
-                    raise invalid(flatten_messages(err.messages)) from None
-                return func(loaded, *args, **kw)
+                    check_point_limit(count_points(data, axes))
+                    try:
+                        loaded = schema.load(data)
+                    except ma.ValidationError as err:
+                        raise invalid(flatten_messages(err.messages)) from None
+                    return func(loaded, *args, **kw)
+                except Problem as problem:
+                    if table is None:
+                        raise
+                    raise table.locate(problem) from None  # errors located by column and row
 
             return wrapper
 

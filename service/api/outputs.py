@@ -1,4 +1,4 @@
-"""Writing a compute answer: unit conversion, warnings, JSON (orjson) or CSV.
+"""Writing a compute answer: unit conversion, warnings, JSON (orjson), CSV, or Arrow and Parquet (api.arrow).
 
 An endpoint fills a :class:`Result` with SI arrays; the Result converts each to the
 caller's unit once and serialises the arrays directly (orjson's NumPy support), so the
@@ -17,9 +17,11 @@ import orjson
 from flask import Response, g, request
 
 from service import units
+from service.api import arrow
+from service.api.arrow import Column
 from service.api.inputs import Inputs
 from service.api.masks import any_true, first_indices
-from service.api.problems import Problem, pointer
+from service.api.problems import Problem, echo, pointer
 
 _JSON_OPTIONS = orjson.OPT_SERIALIZE_NUMPY
 CSV_MEDIA_TYPE = "text/csv"
@@ -191,20 +193,34 @@ class Result:
         body = orjson.dumps(self.document(), option=_JSON_OPTIONS)
         return Response(body, status=200, content_type="application/json")
 
-    def csv_response(self) -> Response:
-        """Inputs first (``input.<name> [unit]``), then every output under its dotted name."""
+    def columns(self) -> list[Column]:
+        """The answer as columns (CSV, Arrow): inputs first (``input.<name>``), then every output under its
+        dotted name, each with its unit and where it is null."""
         columns = []
 
         def column(prefix, check):
             def visit(path, leaf):
                 value, unit = self._leaf(prefix + path, leaf, check, json=False)
-                columns.append((prefix + path if unit is None else f"{prefix}{path} [{unit}]", np.atleast_1d(value)))
+                columns.append(Column(prefix + path, unit, np.atleast_1d(value), self._null_mask(path) if check
+                                      else None))
             return visit
 
         self._walk(self._input_leaves(), "", column("input.", False))
         self._walk(self.tree, "", column("", True))
-        header = ",".join(_csv_text(name) for name, _ in columns).encode()
-        values = [v for _, v in columns]
+        return columns
+
+    def _null_mask(self, path: str):
+        """Where null_where made output ``path`` null (None: nowhere)."""
+        masks = [mask for field, mask in self._null_masks.items() if path == field or path.startswith(field + ".")]
+        if not masks:
+            return None
+        return np.logical_or.reduce(masks) if len(masks) > 1 else masks[0]
+
+    def csv_response(self) -> Response:
+        """Inputs first (``input.<name> [unit]``), then every output under its dotted name."""
+        columns = self.columns()
+        header = ",".join(_csv_text(arrow.header(c.name, c.unit)) for c in columns).encode()
+        values = [c.values for c in columns]
         # The rows are written by orjson as one JSON array of arrays ([[1.0,2.5],[...]]), in C: strip the outer
         # brackets, turn "],[" into line breaks and null (NaN) into an empty cell. No number or label holds
         # any of those byte sequences.
@@ -213,15 +229,27 @@ class Result:
         else:
             text = orjson.dumps(list(zip(*(v.tolist() for v in values), strict=False)))
         body = header + b"\r\n" + text[2:-2].replace(b"],[", b"\r\n").replace(b"null", b"") + b"\r\n"
-        response = Response(body, status=200, content_type="text/csv; charset=utf-8")
+        return self._with_warning_count(Response(body, status=200, content_type="text/csv; charset=utf-8"))
+
+    def columnar_response(self, media_type: str) -> Response:
+        """The answer as an Arrow IPC stream or a Parquet file (api.arrow): the CSV's columns, with nulls,
+        units in field metadata and the warnings in the schema metadata."""
+        body = arrow.body(media_type, self.columns(), self.warnings)
+        return self._with_warning_count(Response(body, status=200, content_type=media_type))
+
+    def _with_warning_count(self, response: Response) -> Response:
+        """Tables (CSV, Arrow) carry the number of warnings in X-Warnings."""
         if self.warnings:
             response.headers["X-Warnings"] = str(len(self.warnings))
         return response
 
     def response(self) -> Response:
-        """The answer in the format the client accepts (JSON unless text/csv is preferred)."""
-        if wants_csv():
+        """The answer in the format the client accepts (JSON unless another is preferred)."""
+        media_type = answer_media_type()
+        if media_type == CSV_MEDIA_TYPE:
             return self.csv_response()
+        if media_type in arrow.WRITERS:
+            return self.columnar_response(media_type)
         return self.json_response()
 
 
@@ -232,17 +260,20 @@ def _csv_text(name: str) -> str:
 #: Accept headers that mean JSON, answered without parsing (curl, browsers' fetch, most clients).
 _JSON_ACCEPTS = frozenset({"", "*/*", "application/json", "application/json, */*", "application/problem+json"})
 
+#: The answer's media types, JSON first (the default for */*).
+ANSWER_MEDIA_TYPES = ("application/json", CSV_MEDIA_TYPE, arrow.ARROW_STREAM, arrow.PARQUET)
 
-def wants_csv() -> bool:
-    """True when the client's Accept header prefers text/csv over JSON; 406 if it accepts neither."""
+
+def answer_media_type() -> str:
+    """The answer's media type: the client's preferred one of ANSWER_MEDIA_TYPES; 406 if it accepts none."""
     header = request.environ.get("HTTP_ACCEPT")
     if header is None or header in _JSON_ACCEPTS:  # the common cases, without parsing the header
-        return False
+        return ANSWER_MEDIA_TYPES[0]
     accept = request.accept_mimetypes
     if not accept:
-        return False
-    best = accept.best_match(["application/json", CSV_MEDIA_TYPE])
+        return ANSWER_MEDIA_TYPES[0]
+    best = accept.best_match(ANSWER_MEDIA_TYPES)
     if best is None:
-        raise Problem("not-acceptable", "This endpoint answers application/json or text/csv; "
-                                        f"Accept was {request.headers.get('Accept')!r}.")
-    return best == CSV_MEDIA_TYPE
+        raise Problem("not-acceptable", f"This endpoint answers {', '.join(ANSWER_MEDIA_TYPES)}; "
+                                        f"Accept was {echo(request.headers.get('Accept'))}.")
+    return best

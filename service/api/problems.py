@@ -68,7 +68,8 @@ KINDS: dict[str, Kind] = {
              "The request body or the number of points is over the service's limit."),
         Kind("uri-too-long", 414, "URI too long", "The request line is over the server's limit."),
         Kind("unsupported-media-type", 415, "Unsupported media type",
-             "The request body must be JSON, sent with 'Content-Type: application/json'."),
+             "The request body must be JSON ('Content-Type: application/json'), or a table: CSV ('text/csv') "
+             "or an Arrow IPC stream ('application/vnd.apache.arrow.stream')."),
         Kind("validation", 422, "Invalid input",
              "One or more inputs are invalid: wrong type, unknown unit, out of range, or physically impossible."),
         Kind("no-solution", 422, "No solution",
@@ -120,8 +121,7 @@ class Problem(Exception):
             doc["instance"] = bounded(instance)
         if self.errors is not None:
             shown = self.errors[:MAX_ERRORS]
-            doc["errors"] = [{"pointer": bounded_pointer(e["pointer"]), "message": bounded(e["message"])}
-                             for e in shown]
+            doc["errors"] = [_error_item(e) for e in shown]
             omitted = len(self.errors) - len(shown) + getattr(self.errors, "omitted", 0)
             if omitted:
                 doc["errors_omitted"] = omitted
@@ -132,6 +132,18 @@ class Problem(Exception):
         if request_id:
             doc["request_id"] = request_id
         return doc
+
+
+def _error_item(error: dict) -> dict:
+    """One entry of ``errors``, bounded: pointer and message, and for a table body (api.tables) the column and
+    row or the query parameter it is about."""
+    item = {"pointer": bounded_pointer(error["pointer"]), "message": bounded(error["message"])}
+    for key in ("column", "parameter"):
+        if key in error:
+            item[key] = bounded(error[key])
+    if "row" in error:
+        item["row"] = error["row"]
+    return item
 
 
 # --- bounds ----------------------------------------------------------------------------------

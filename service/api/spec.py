@@ -21,9 +21,10 @@ import http
 import json
 import logging
 
+import marshmallow as ma
 from flask import Flask, Response, g
 
-from service.api import request_hooks
+from service.api import arrow, request_hooks, tables
 from service.api.outputs import CSV_MEDIA_TYPE
 from service.api.problems import PROBLEM_MEDIA_TYPE, Problem, problem_response
 
@@ -125,6 +126,11 @@ def error_examples(app: Flask) -> dict[int, dict[str, dict]]:
             "validation": ("An invalid input, with a JSON Pointer to it",
                            _post_json(app, atmosphere, {"altitude": {"value": [7200, 8200], "unit": "feet"},
                                                         "isa_deviation": [20, True]})),
+            "table-validation": ("A CSV table with a value out of range and a query parameter that is not a number, "
+                                 "each located",
+                                 dispatch(app, "POST", atmosphere + "?isa_deviation=hot",
+                                          body=b"altitude [FL]\n100\n9000\n",
+                                          headers={"Content-Type": tables.CSV})),
             "no-solution": ("Valid inputs whose result does not exist at some points",
                             _post_json(app, "/v1/airspeed/crossover", {"cas": [290, 600], "mach": [0.76, 0.5]})),
         },
@@ -174,6 +180,11 @@ def complete(app: Flask, generated: dict) -> dict:
             request_body = operation.get("requestBody")
             if request_body is not None:
                 _compute_examples(app, path, request_body["content"][JSON_MEDIA_TYPE], ok, filler)
+                request_schema = ma.class_registry.get_class(
+                    request_body["content"][JSON_MEDIA_TYPE]["schema"]["$ref"].rsplit("/", 1)[1])()
+                request_body["content"].update(tables.request_content(
+                    request_schema, request_body["content"][JSON_MEDIA_TYPE]["examples"]))
+                ok["content"].update(arrow.response_content())
             else:
                 answer = _answer(dispatch(app, method.upper(), _example_path(path, item, operation)), method, path)
                 if answer is None:

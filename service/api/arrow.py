@@ -1,0 +1,186 @@
+"""Columnar answers: Apache Arrow IPC stream (and Parquet) from the answer's columns.
+
+The answer writer hands over the same columns it writes as CSV: one :class:`Column` per input
+(grids and tables) and output, with its dotted name, its unit and a mask of the points where the value
+does not exist. This module turns them into one record batch:
+
+- one Arrow field per column, named exactly as the CSV header names it (``atmosphere.pressure [hPa]``).
+  The unit stays in the name because the name is what survives every tool: pandas, polars and most
+  readers drop field metadata on the way to a data frame, and a column ``pressure`` read without its
+  unit is a column read wrongly as soon as ``output_units`` changes it. The name is also the same in
+  CSV and Arrow, so a client switches formats without renaming. The field metadata repeats it in parts
+  for programs: ``name`` (the dotted name) and ``unit`` (absent for dimensionless columns);
+- float64 columns are handed to Arrow without a copy (the NumPy buffer becomes the Arrow buffer); where
+  the JSON answer has ``null`` the Arrow column has a null (validity bitmap), and the value under it is
+  0, so the body holds no NaN; booleans are Arrow booleans, labels Arrow strings;
+- the schema metadata carries ``warnings`` (the same list as the JSON answer, as JSON text), so
+  nothing of the JSON answer is lost.
+
+A scalar request gives one row. The body is an IPC *stream* (``application/vnd.apache.arrow.stream``):
+``pyarrow.ipc.open_stream(body).read_all()``, ``pandas.read_feather`` does not read it (that is the
+file format), ``pyarrow.ipc.open_stream(body).read_pandas()`` does. Parquet
+(``application/vnd.apache.parquet``) holds the same table with the same names and metadata, written
+plain (no dictionary, no compression, no statistics), which keeps its cost close to the stream's.
+"""
+
+from __future__ import annotations
+
+from collections.abc import Iterable
+from typing import NamedTuple
+
+import numpy as np
+import orjson
+import pyarrow as pa
+
+ARROW_STREAM = "application/vnd.apache.arrow.stream"
+PARQUET = "application/vnd.apache.parquet"
+
+#: Column -> Arrow type for the NumPy kinds an answer holds.
+_BOOL, _FLOAT, _TEXT = "b", "f", "US"
+
+
+class Column(NamedTuple):
+    """One column of an answer: dotted name, unit (None: dimensionless), values, where null."""
+
+    name: str
+    unit: str | None
+    values: object
+    null: object = None
+
+
+def header(name: str, unit: str | None) -> str:
+    """The column's name in CSV and Arrow: ``pressure [hPa]``, or the bare name without a unit.
+
+    >>> header("atmosphere.pressure", "hPa"), header("mach", None)
+    ('atmosphere.pressure [hPa]', 'mach')
+    """
+    return f"{name} [{unit}]" if unit else name
+
+
+def _array(values, null) -> pa.Array:
+    """One Arrow array from a 1-D NumPy array (no copy for float64 without nulls)."""
+    values = np.asarray(values)
+    if values.ndim == 0:
+        values = values.reshape(1)
+    kind = values.dtype.kind
+    if kind in _TEXT:
+        return pa.array(values, type=pa.string())
+    if kind == _BOOL:
+        return pa.array(values, type=pa.bool_())
+    if kind != _FLOAT or values.dtype != np.float64:
+        values = values.astype(np.float64)
+    if not values.flags.c_contiguous:
+        values = np.ascontiguousarray(values)
+    if null is None:
+        return pa.array(values, type=pa.float64())
+    null = np.broadcast_to(np.asarray(null, dtype=bool), values.shape)
+    if not null.any():
+        return pa.array(values, type=pa.float64())
+    return pa.array(np.where(null, 0.0, values), type=pa.float64(), mask=null)
+
+
+def record_batch(columns: Iterable[Column], warnings: list[dict]) -> pa.RecordBatch:
+    """The answer as one Arrow record batch: fields named as in CSV, units in field metadata,
+    warnings in the schema metadata.
+
+    Examples
+    --------
+    >>> batch = record_batch([Column("input.altitude", "ft", np.array([0.0, 1000.0])),
+    ...                       Column("density_altitude", "ft", np.array([0.0, np.nan]), np.array([False, True])),
+    ...                       Column("pressure_ratio", None, np.array([1.0, 0.964]))],
+    ...                      [{"field": "density_altitude", "message": "...", "count": 1, "indices": [1]}])
+    >>> batch.schema.names
+    ['input.altitude [ft]', 'density_altitude [ft]', 'pressure_ratio']
+    >>> batch.column(1).to_pylist(), batch.schema.field(1).metadata[b"unit"]
+    ([0.0, None], b'ft')
+    """
+    arrays, fields = [], []
+    for column in columns:
+        array = _array(column.values, column.null)
+        metadata = {"name": column.name}
+        if column.unit:
+            metadata["unit"] = column.unit
+        arrays.append(array)
+        fields.append(pa.field(header(column.name, column.unit), array.type, nullable=True, metadata=metadata))
+    schema = pa.schema(fields, metadata={"warnings": orjson.dumps(warnings)})
+    return pa.RecordBatch.from_arrays(arrays, schema=schema)
+
+
+class _Chunks:
+    """A write-only file for pyarrow that keeps each write as one bytes chunk (the WSGI body's parts)."""
+
+    closed = False
+
+    def __init__(self):
+        self.chunks: list[bytes] = []
+
+    def write(self, data) -> int:
+        self.chunks.append(bytes(data))
+        return len(data)
+
+    def writable(self) -> bool:
+        return True
+
+    def flush(self):
+        """Nothing to flush: the chunks are the output."""
+
+    def close(self):
+        """Nothing to close."""
+
+
+def stream_chunks(batch: pa.RecordBatch) -> list[bytes]:
+    """The Arrow IPC stream of one record batch, as the WSGI body's chunks.
+
+    pyarrow's stream writer writes the schema message, then the batch message's header and each of its
+    buffers in turn, then the end-of-stream marker; each write is copied once into a bytes chunk (the
+    server writes bytes), straight from the NumPy arrays. A write per buffer, not per point; no buffer
+    the size of the whole body is built, let alone copied again.
+
+    >>> batch = pa.record_batch({"mach": [0.5, 0.8]})
+    >>> sink = pa.BufferOutputStream()
+    >>> with pa.ipc.new_stream(sink, batch.schema) as writer:
+    ...     writer.write_batch(batch)
+    >>> b"".join(stream_chunks(batch)) == sink.getvalue().to_pybytes()
+    True
+    """
+    sink = _Chunks()
+    with pa.ipc.new_stream(pa.PythonFile(sink, mode="w"), batch.schema) as writer:
+        writer.write_batch(batch)
+    return sink.chunks
+
+
+def parquet_chunks(batch: pa.RecordBatch) -> list[bytes]:
+    """The same table as a Parquet file (plain encoding, uncompressed, no statistics: the cheap form)."""
+    import pyarrow.parquet as pq  # only for Parquet answers: it adds about 9 MB to a worker
+
+    sink = _Chunks()
+    pq.write_table(pa.Table.from_batches([batch]), pa.PythonFile(sink, mode="w"), compression="none",
+                   use_dictionary=False, write_statistics=False)
+    return sink.chunks
+
+
+ANSWER_DESCRIPTION = (
+    "The same answer as a table (send `Accept: {media_type}`): one column per CSV column, named as in the CSV header "
+    "(`input.<name> [unit]` for the inputs, then every output, nested ones with dotted names, physical ones with "
+    "their unit in brackets), the unit also in each field's metadata (`unit`, beside `name`, the dotted name); "
+    "float64 numbers, booleans and strings; an Arrow null where the JSON answer has null; the JSON answer's "
+    "`warnings` as JSON text in the schema metadata `warnings`. A scalar answer is one row. {what}")
+WHAT = {"application/vnd.apache.arrow.stream": "An Arrow IPC stream: `pyarrow.ipc.open_stream(body).read_all()`.",
+        "application/vnd.apache.parquet": "A Parquet file, plain-encoded and uncompressed: "
+                                          "`pandas.read_parquet(io.BytesIO(body))`."}
+
+
+def response_content() -> dict:
+    """The 200 response content of the columnar answers, for the spec."""
+    return {media_type: {"schema": {"type": "string", "format": "binary",
+                                    "description": ANSWER_DESCRIPTION.format(media_type=media_type, what=what)}}
+            for media_type, what in WHAT.items()}
+
+
+#: media type -> writer of the body.
+WRITERS = {ARROW_STREAM: stream_chunks, PARQUET: parquet_chunks}
+
+
+def body(media_type: str, columns: Iterable[Column], warnings: list[dict]) -> list[bytes]:
+    """The answer's body in ``media_type`` (a key of WRITERS), as chunks of bytes (a WSGI iterable)."""
+    return WRITERS[media_type](record_batch(columns, warnings))
