@@ -15,7 +15,7 @@ import pytest
 
 from service.physics import airspeed as asp
 from service.physics import atmosphere as atm
-from service.physics import lift, wing
+from service.physics import drag, lift, wing
 from tests import reference as ref
 
 #: (function, integral arguments): every public relation with arguments that are whole numbers.
@@ -41,6 +41,12 @@ INTEGRAL = [
     (lift.scale_stall_eas, (50, 180000, 200000, 2)), (lift.stall_load_factor, (90, 60)), (lift.cl_fraction, (2,)),
     (wing.lift_slope, (8, 0, 0, 1)), (wing.kappa_from_section_slope, (6,)), (wing.cl_from_angle, (1, 5, 0)),
     (wing.angle_from_cl, (1, 5, 0)),
+    (drag.induced_drag_factor, (11, 1)), (drag.drag_coefficient, (1, 0, 1)), (drag.lift_to_drag, (1, 1, 1)),
+    (drag.aerodynamic_force, (5000, 60, 1)), (drag.power_required, (10000, 100)), (drag.minimum_drag_cl, (1, 4)),
+    (drag.minimum_power_cl, (3, 1)), (drag.max_lift_to_drag, (1, 4)), (drag.glide_distance, (3000, 15)),
+    (drag.flight_condition, (200000, 60, 5000, 90, 1, 1)), (drag.level_condition, (200000, 60, 1, 1, 1, 1)),
+    (drag.minimum_drag, (200000, 60, 1, 1, 1)), (drag.minimum_power, (200000, 60, 1, 1, 1)),
+    (drag.best_glide, (200000, 60, 1, 1, 1)),
 ]
 
 
@@ -83,6 +89,8 @@ NO_VALUE = [
     (lift.scale_stall_eas, (50.0, -180000.0, 200000.0, 1.0)), (lift.pressure_altitude_for_density, (10.0, 0.0)),
     (lift.pressure_altitude_for_density, (1.0, -200.0)), (lift.pressure_altitude_for_cas, (1.0e7, 50.0)),
     (wing.lift_slope, (8.0, 0.0, 1.0, 1.0)), (wing.lift_slope, (8.0, 0.0, 1.5, 1.0)),
+    (drag.minimum_drag_cl, (-0.02, 0.04)), (drag.minimum_power_cl, (0.02, -0.04)),
+    (drag.max_lift_to_drag, (-0.02, 0.04)),
 ]
 
 

@@ -276,8 +276,11 @@ def polar(draw):
 
 @st.composite
 def one_speed(draw, size):
+    """A speed an aircraft flies (from 1 kt or Mach 0.01): at a speed that underflows to zero there is no turn and no
+    finite CL, a no-solution 422."""
     kind = draw(st.sampled_from(["cas", "eas", "tas", "mach"]))
-    return {kind: draw(st.floats(1e-3, 5.0)) if kind == "mach" else draw(quantity(SPEED, size))}
+    values = st.floats(0.01, 5.0) if kind == "mach" else st.floats(1.0, 3000.0)
+    return {kind: draw(st.lists(values, min_size=size, max_size=size) if size else values)}
 
 
 @st.composite

@@ -104,7 +104,8 @@ def induced_drag_factor(aspect_ratio, oswald_efficiency):
     ----------
     1. Anderson, *Introduction to Flight*, chapter 5 (induced drag, span efficiency).
     """
-    return (1.0 / (math.pi * _f(aspect_ratio) * _f(oswald_efficiency)))[()]
+    with np.errstate(divide="ignore"):
+        return (1.0 / (math.pi * _f(aspect_ratio) * _f(oswald_efficiency)))[()]
 
 
 def drag_coefficient(cl, cd0, k):
@@ -167,7 +168,8 @@ def lift_to_drag(cl, cd0, k):
     ----------
     1. Anderson, *Introduction to Flight*, chapter 6.
     """
-    return (_f(cl) / _f(drag_coefficient(cl, cd0, k)))[()]
+    with np.errstate(divide="ignore", invalid="ignore"):
+        return (_f(cl) / _f(drag_coefficient(cl, cd0, k)))[()]
 
 
 def aerodynamic_force(q, area, coefficient):
@@ -290,7 +292,8 @@ def minimum_drag_cl(cd0, k):
     1. Anderson, *Introduction to Flight*, chapter 6 (conditions for minimum thrust
        required).
     """
-    return np.sqrt(_f(cd0) / _f(k))[()]
+    with np.errstate(divide="ignore", invalid="ignore"):  # no value (NaN) for a negative ratio
+        return np.sqrt(_f(cd0) / _f(k))[()]
 
 
 def minimum_power_cl(cd0, k):
@@ -322,7 +325,8 @@ def minimum_power_cl(cd0, k):
     1. Anderson, *Introduction to Flight*, chapter 6 (conditions for minimum power
        required).
     """
-    return np.sqrt(3.0 * _f(cd0) / _f(k))[()]
+    with np.errstate(divide="ignore", invalid="ignore"):  # no value (NaN) for a negative ratio
+        return np.sqrt(3.0 * _f(cd0) / _f(k))[()]
 
 
 def max_lift_to_drag(cd0, k):
@@ -351,7 +355,8 @@ def max_lift_to_drag(cd0, k):
     ----------
     1. Anderson, *Introduction to Flight*, chapter 6.
     """
-    return (0.5 / np.sqrt(_f(cd0) * _f(k)))[()]
+    with np.errstate(divide="ignore", invalid="ignore"):  # no value (NaN) for a negative product
+        return (0.5 / np.sqrt(_f(cd0) * _f(k)))[()]
 
 
 class LevelCondition(NamedTuple):
@@ -423,12 +428,12 @@ def flight_condition(weight, wing_area, q, tas, cd0, k, load_factor=1.0):
     ----------
     1. Anderson, *Introduction to Flight*, chapter 6 (thrust and power required).
     """
-    q, cd0, k = _f(q), _f(cd0), _f(k)
+    q, tas, cd0, k = _f(q), _f(tas), _f(cd0), _f(k)
     with np.errstate(divide="ignore", over="ignore", invalid="ignore"):  # beyond the float range: inf or NaN
         cl = _f(load_factor) * _f(weight) / (q * _f(wing_area))
         cd = cd0 + k * cl * cl
         drag = q * _f(wing_area) * cd
-        arrays = np.broadcast_arrays(cl, cd, cl / cd, q, np.sqrt(2.0 * q / RHO0), tas, drag, drag * _f(tas))
+        arrays = np.broadcast_arrays(cl, cd, cl / cd, q, np.sqrt(2.0 * q / RHO0), tas, drag, drag * tas)
     return LevelCondition(*map(result, arrays))
 
 
@@ -635,9 +640,10 @@ def best_glide(weight, wing_area, cd0, k, rho):
     """
     cl = _f(minimum_drag_cl(cd0, k))
     ratio = _f(max_lift_to_drag(cd0, k))
-    gamma = np.arctan(1.0 / ratio)
-    q = _f(weight) * np.cos(gamma) / (_f(wing_area) * cl)
-    tas = np.sqrt(2.0 * q / _f(rho))
+    with np.errstate(divide="ignore", invalid="ignore"):
+        gamma = np.arctan(1.0 / ratio)
+        q = _f(weight) * np.cos(gamma) / (_f(wing_area) * cl)
+        tas = np.sqrt(2.0 * q / _f(rho))
     arrays = np.broadcast_arrays(ratio, gamma, cl, np.sqrt(2.0 * q / RHO0), tas, tas * np.sin(gamma))
     return GlideCondition(*map(result, arrays))
 
