@@ -11,7 +11,7 @@ import numpy as np
 from service.api import air
 from service.api.fields import Quantity
 from service.api.speeds import SPEED_MAX_KT
-from service.physics.airspeed import speed_schedule
+from service.physics import airspeed as spd
 from service.physics.schedule import GOVERNING, limited_speed_schedule
 
 #: What `governing` reads: the schedule's CAS, its Mach number, or the speed limit.
@@ -52,7 +52,7 @@ def flown(inputs, cas, mach, state):
     """
     limit = inputs.get("speed_limit")
     if limit is None:
-        s = speed_schedule(cas, mach, state.p, state.T)
+        s = spd.speed_schedule(cas, mach, state.p, state.T)
         return np.where(s.governing_mach, "mach", "cas"), s
     s = limited_speed_schedule(cas, mach, state.p, state.T, inputs.si("altitude"), limit["cas"].si,
                                limit["altitude"].si)
