@@ -46,3 +46,10 @@ def test_defaults_si_units_and_output_dimensions(catalogue):
           "density": "kg/m3", "mass": "kg", "force": "N", "weight": "N", "area": "m2", "angle": "rad",
           "dynamic_viscosity": "Pa*s", "kinematic_viscosity": "m2/s", "lift_slope": "1/rad", "wing_loading": "N/m2"}
     assert {name: e["si_unit"] for name, e in by_name.items()} == si
+
+
+def test_unknown_unit_names_itself_and_the_allowed_ones():
+    response = ref.app_client().post("/v1/atmosphere", json={"altitude": {"value": 7200, "unit": "feet"}})
+    assert response.status_code == 422
+    assert response.get_json()["errors"] == [
+        {"pointer": "/altitude/unit", "message": "Unknown unit 'feet' for altitude; allowed: m, ft, km, FL."}]
