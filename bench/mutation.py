@@ -69,7 +69,7 @@ RECHECK_TESTS = {
     "service.physics.lift": ["tests/test_physics_lift.py", "tests/test_physics_contracts.py",
                              "tests/test_reference_lift.py"],
     "service.physics.wing": ["tests/test_physics_wing.py", "tests/test_physics_contracts.py"],
-    "service.units": ["tests/test_reference_units.py", "tests/test_units.py"],
+    "service.units": ["tests/test_units.py", "tests/test_reference_units.py"],
 }
 #: Copied into the work directory (everything the tests read).
 COPY = ["service", "tests", "bench", "openapi", "pyproject.toml", "README.md", "DEVELOPERS.md", "constraints.txt"]
