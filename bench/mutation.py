@@ -172,7 +172,7 @@ def recheck_import_time(work: Path, statuses: dict[str, str], everything: bool =
         import_time = function in IMPORT_TIME.get(module, ([], []))[0]
         if status != "survived" or name not in sampled or name in equivalent or not (import_time or everything):
             continue
-        if name in (done or {}):
+        if (done or {}).get(name) == "killed":
             continue
         tests = IMPORT_TIME[module][1] if import_time else RECHECK_TESTS.get(module)
         if not tests:
