@@ -47,7 +47,7 @@ TARGETS = {
                 ["tests/test_physics_atmosphere.py", "tests/test_physics_airspeed.py", "tests/test_physics_lift.py",
                  "tests/test_physics_wing.py", "tests/test_physics_contracts.py", *REFERENCE_TESTS,
                  "tests/test_edges.py"]),
-    "units": (["service/units.py"], ["tests/test_units.py", *REFERENCE_TESTS]),
+    "units": (["service/units.py"], ["tests/test_units.py", "tests/test_reference_units.py", *REFERENCE_TESTS]),
     "shared": (["service/units.py", "service/api/fields.py", "service/api/inputs.py", "service/api/outputs.py"],
                ["tests/test_units.py", "tests/test_fields.py", *REFERENCE_TESTS, "tests/test_api_atmosphere.py",
                 "tests/test_api_airspeed.py", "tests/test_api_lift.py", "tests/test_bad_inputs.py",
@@ -59,6 +59,7 @@ TARGETS = {
 IMPORT_TIME = {
     "service.physics.atmosphere": (["x__derive_layer_bases", "x__frozen", "x__build_layer_lookup"],
                                    ["tests/test_physics_atmosphere.py"]),
+    "service.units": (["x__dim"], ["tests/test_reference_units.py", "tests/test_units.py"]),
 }
 #: The tests that recheck a survivor of each module against the current tests (--recheck), without a new mutmut
 #: run (whose stats step reruns every test whenever a test file changed).
@@ -68,6 +69,7 @@ RECHECK_TESTS = {
     "service.physics.lift": ["tests/test_physics_lift.py", "tests/test_physics_contracts.py",
                              "tests/test_reference_lift.py"],
     "service.physics.wing": ["tests/test_physics_wing.py", "tests/test_physics_contracts.py"],
+    "service.units": ["tests/test_units.py", "tests/test_reference_units.py"],
 }
 #: Copied into the work directory (everything the tests read).
 COPY = ["service", "tests", "bench", "openapi", "pyproject.toml", "README.md", "DEVELOPERS.md", "constraints.txt"]
@@ -170,7 +172,7 @@ def recheck_import_time(work: Path, statuses: dict[str, str], everything: bool =
         import_time = function in IMPORT_TIME.get(module, ([], []))[0]
         if status != "survived" or name not in sampled or name in equivalent or not (import_time or everything):
             continue
-        if name in (done or {}):
+        if (done or {}).get(name) == "killed":
             continue
         tests = IMPORT_TIME[module][1] if import_time else RECHECK_TESTS.get(module)
         if not tests:
