@@ -111,7 +111,7 @@ def airspeed(inputs):
     altitude on a standard or off-standard day: CAS, EAS, TAS, Mach, IAS (when a calibration is given), impact and
     dynamic pressure, and the air at the point. Compressible throughout: the isentropic pitot relation below Mach 1,
     the Rayleigh pitot relation above. Arrays broadcast; `grid: true` takes their outer product. The example is our
-    demo type NR-200 at 250 kt IAS at FL330 on an ISA+15 day.
+    demo type TQ-62 at 250 kt IAS at FL330 on an ISA+15 day.
     """
     kind = given_speed(inputs)
     result = Result(inputs)
@@ -193,7 +193,7 @@ def crossover(inputs):
     The pressure altitude at which a calibrated airspeed and a Mach number are the same speed, where a climb at
     constant CAS reaches its Mach limit (and a descent at constant Mach reaches its CAS), and the static pressure
     there. It does not depend on the temperature. A pair that does not cross inside the model's range is a 422.
-    The example is the NR-200's climb CAS options against its cruise Mach.
+    The example is the TQ-62's climb CAS options against its cruise Mach.
     """
     result = Result(inputs)
     cas, mach = inputs.si("cas"), inputs.si("mach")
@@ -255,7 +255,7 @@ def schedule(inputs):
 
     The speeds of a schedule "fly `cas` until it reaches `mach`, then hold `mach`" (a climb; a descent flies it the
     other way round) at each altitude: which of the two governs, the CAS, Mach, TAS and EAS flown, and the crossover
-    altitude. The example is the NR-200's 290 kt / M0.76 climb on an ISA+10 day.
+    altitude. The example is the TQ-62's 290 kt / M0.76 climb on an ISA+10 day.
     """
     result = Result(inputs)
     state = air.air(inputs, allow_kind=False, allow_qnh=False)

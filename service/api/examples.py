@@ -1,6 +1,6 @@
 """The spec's request examples, set around our invented operator and aircraft.
 
-Northwind Regional (an invented operator) flies the NR-200 (an invented type): wing area 61 m2, aspect ratio
+Tavrenne Regional (an invented operator) flies the TQ-62 (an invented type): wing area 61 m2, aspect ratio
 11, unswept, MTOW 23 000 kg, clean CLmax 1.6, a 290 kt / M0.76 climb. Its high airfield Quillon Ridge (also
 invented) lies at 7,200 ft. Each endpoint's examples, taken together, give every numeric input at least once,
 so that every field of the answers, the grid's `inputs` among them, has a computed example
@@ -9,10 +9,10 @@ so that every field of the answers, the grid's `inputs` among them, has a comput
 
 from __future__ import annotations
 
-#: The NR-200's airspeed calibration, IAS -> CAS [kt].
-NR200_CALIBRATION = {"ias": [120, 160, 200, 240, 280, 320], "cas": [123, 162, 201, 240, 278.5, 317], "unit": "kt"}
-#: The NR-200's wing for the lift curve: a cambered section of 0.105 per degree.
-NR200_WING = {"aspect_ratio": 11, "sweep_half_chord": 0, "airfoil_lift_slope": {"value": 0.105, "unit": "1/deg"},
+#: The TQ-62's airspeed calibration, IAS -> CAS [kt].
+TQ62_CALIBRATION = {"ias": [120, 160, 200, 240, 280, 320], "cas": [123, 162, 201, 240, 278.5, 317], "unit": "kt"}
+#: The TQ-62's wing for the lift curve: a cambered section of 0.105 per degree.
+TQ62_WING = {"aspect_ratio": 11, "sweep_half_chord": 0, "airfoil_lift_slope": {"value": 0.105, "unit": "1/deg"},
               "zero_lift_angle": -2.5, "cl_max": 1.6}
 
 
@@ -34,8 +34,8 @@ ATMOSPHERE = _examples(
 )
 
 AIRSPEED = _examples(
-    ("nr200-ias", "The NR-200 at 250 kt IAS (through its calibration) at FL330, ISA+15",
-     {"ias": 250, "altitude": {"value": 330, "unit": "FL"}, "isa_deviation": 15, "calibration": NR200_CALIBRATION}),
+    ("tq62-ias", "The TQ-62 at 250 kt IAS (through its calibration) at FL330, ISA+15",
+     {"ias": 250, "altitude": {"value": 330, "unit": "FL"}, "isa_deviation": 15, "calibration": TQ62_CALIBRATION}),
     ("cas-fl240", "250 kt CAS at FL240 on an ISA+12 day",
      {"cas": 250, "altitude": {"value": 240, "unit": "FL"}, "isa_deviation": 12}),
     ("cruise-mach-kmh", "Two cruise Mach numbers at two levels with the outside air temperature, speeds in km/h",
@@ -48,14 +48,14 @@ AIRSPEED = _examples(
 )
 
 CROSSOVER = _examples(
-    ("nr200-climb-options", "Three climb CAS options of the NR-200 against its M0.78 limit",
+    ("tq62-climb-options", "Three climb CAS options of the TQ-62 against its M0.78 limit",
      {"cas": [280, 300, 320], "mach": 0.78}),
     ("grid-in-metres", "A grid of CAS and Mach numbers, altitudes in metres",
      {"cas": [280, 300], "mach": [0.74, 0.78], "grid": True, "output_units": {"altitude": "m", "pressure": "inHg"}}),
 )
 
 SCHEDULE = _examples(
-    ("nr200-climb", "The NR-200's 290 kt / M0.76 climb on an ISA+10 day",
+    ("tq62-climb", "The TQ-62's 290 kt / M0.76 climb on an ISA+10 day",
      {"cas": 290, "mach": 0.76, "altitude": {"value": [100, 200, 250, 300, 350], "unit": "FL"}, "isa_deviation": 10}),
     ("descent-with-oat", "A M0.74 / 280 kt descent with the outside air temperature at each level",
      {"cas": 280, "mach": 0.74, "altitude": {"value": [350, 300, 250, 200], "unit": "FL"},
@@ -63,9 +63,9 @@ SCHEDULE = _examples(
 )
 
 LIFT_SOLVE = _examples(
-    ("cl-at-cruise", "The NR-200's CL at cruise: 21 000 kg, Mach 0.45, FL250, ISA+5, with its wing's angle of attack",
+    ("cl-at-cruise", "The TQ-62's CL at cruise: 21 000 kg, Mach 0.45, FL250, ISA+5, with its wing's angle of attack",
      {"solve_for": "cl", "weight": 21000, "wing_area": 61, "mach": 0.45, "altitude": {"value": 250, "unit": "FL"},
-      "isa_deviation": 5, "wing": NR200_WING}),
+      "isa_deviation": 5, "wing": TQ62_WING}),
     ("speed-for-cl", "Every speed kind for CL 1.2 at 22 000 kg, 3000 ft, ISA+10",
      {"solve_for": "speed", "weight": 22000, "wing_area": 61, "cl": 1.2, "altitude": 3000, "isa_deviation": 10,
       "outputs": ["cas", "eas", "tas", "mach", "dynamic_pressure"]}),
@@ -74,7 +74,7 @@ LIFT_SOLVE = _examples(
       "outputs": ["pressure_altitude", "density_altitude", "tas", "cas"]}),
     ("load-factor-over-quillon-ridge", "The load factor at 160 kt IAS and CL 1.3 over Quillon Ridge, QNH 1008 hPa",
      {"solve_for": "load_factor", "weight": 20000, "wing_area": 61, "cl": 1.3, "ias": 160,
-      "calibration": NR200_CALIBRATION, "altitude": 8200, "qnh": 1008, "temperature": 27,
+      "calibration": TQ62_CALIBRATION, "altitude": 8200, "qnh": 1008, "temperature": 27,
       "outputs": ["load_factor", "bank_angle", "cas", "tas"]}),
     ("weight-in-a-turn", "The weight a 30 deg level turn at 180 kt TAS and CL 1.0 supports, in kN",
      {"solve_for": "weight", "wing_area": 61, "cl": 1.0, "tas": 180, "altitude": 5000, "temperature": 20,
@@ -88,7 +88,7 @@ LIFT_SOLVE = _examples(
 )
 
 LIFT_STALL = _examples(
-    ("turns-and-margins", "NR-200 stall speeds in level turns, 1.13/1.23/1.3 of them, and the margins at 160 kt CAS",
+    ("turns-and-margins", "TQ-62 stall speeds in level turns, 1.13/1.23/1.3 of them, and the margins at 160 kt CAS",
      {"weight": 22000, "wing_area": 61, "cl_max": 1.6, "altitude": 3000, "isa_deviation": 10,
       "bank_angle": [0, 30, 45, 60], "speed_factors": [1.13, 1.23, 1.3], "cas": 160}),
     ("flight-manual-reference", "A flight-manual stall speed (108 kt CAS at 22 000 kg) scaled to 19 000 kg",
@@ -96,7 +96,7 @@ LIFT_STALL = _examples(
       "isa_deviation": 10}),
     ("quillon-ridge-circuit", "In the circuit at Quillon Ridge: 8,200 ft on QNH 1008 hPa, 25 degC, 150 kt IAS",
      {"weight": 22000, "wing_area": 61, "cl_max": 1.6, "altitude": 8200, "qnh": 1008, "temperature": 25,
-      "load_factor": [1.0, 1.2], "ias": 150, "calibration": NR200_CALIBRATION}),
+      "load_factor": [1.0, 1.2], "ias": 150, "calibration": TQ62_CALIBRATION}),
     ("margins-eas-grid", "Stall margins at 140 kt EAS over a grid of weights and bank angles",
      {"weight": [18000, 22000], "wing_area": 61, "cl_max": 1.6, "altitude": 3000, "bank_angle": [0, 30],
       "eas": 140, "grid": True, "outputs": ["stall", "margin"]}),
@@ -109,7 +109,7 @@ LIFT_STALL = _examples(
 )
 
 LIFT_CURVE = _examples(
-    ("angle-for-cl", "The NR-200 wing's angle of attack for CL 0.9 at Mach 0.3",
+    ("angle-for-cl", "The TQ-62 wing's angle of attack for CL 0.9 at Mach 0.3",
      {"aspect_ratio": 11, "sweep_half_chord": 0, "mach": 0.3, "airfoil_lift_slope": {"value": 0.105, "unit": "1/deg"},
       "zero_lift_angle": -2.5, "cl": 0.9, "cl_max": 1.6}),
     ("cl-at-angles", "CL at three angles of attack for two aspect ratios, slope per degree",

@@ -11,7 +11,7 @@ from __future__ import annotations
 import marshmallow as ma
 
 from service.api import air
-from service.api.examples import NR200_WING
+from service.api.examples import TQ62_WING
 from service.api.fields import Number, Quantity, any_true, parse_numbers
 from service.api.inputs import ComputeSchema, exactly_one, needs, none_of, not_together, output_needs, outputs_field
 from service.api.schemas import FlagOut, LabelOut, quantity_out, ratio_out, response_schema
@@ -250,7 +250,7 @@ class LiftSolveRequest(ComputeSchema):
         "description": "Optional: the wing's lift-curve inputs (as for POST /v1/lift/curve, with the Mach number "
                        "of the flight condition); the answer then adds `angle_of_attack`, and `beyond_stall` with "
                        "`cl_max`. Arrays here broadcast against the points (length 1 or the number of points).",
-        "example": NR200_WING})
+        "example": TQ62_WING})
     outputs = outputs_field(tuple(SOLVE_OUTPUTS))
 
     @ma.validates_schema

@@ -10,7 +10,7 @@ import marshmallow as ma
 import numpy as np
 
 from service.api.air import Air
-from service.api.examples import NR200_CALIBRATION
+from service.api.examples import TQ62_CALIBRATION
 from service.api.fields import Number, Quantity, any_true, parse_numbers
 from service.api.inputs import Inputs, first_indices, no_solution
 from service.api.lazy import lazy
@@ -31,7 +31,7 @@ _NAMES = {
     "eas": "Equivalent airspeed",
     "tas": "True airspeed",
 }
-#: The spec's example of each speed input: our demo type NR-200 climbing through FL240 on an ISA+10 day
+#: The spec's example of each speed input: our demo type TQ-62 climbing through FL240 on an ISA+10 day
 #: (the TAS and EAS belong to that CAS).
 _EXAMPLES = {"ias": 250, "cas": {"value": 250, "unit": "kt"}, "eas": 241, "tas": [350, 380, 410]}
 
@@ -104,7 +104,7 @@ def calibration_field() -> CalibrationField:
         "description": "The airspeed system's calibration from the flight manual: IAS -> CAS by linear "
                        "interpolation between rows [kt by default]. An IAS input outside the table is refused "
                        "(nothing is extrapolated); an IAS output whose CAS lies outside it is null with a warning.",
-        "example": NR200_CALIBRATION})
+        "example": TQ62_CALIBRATION})
 
 
 def given_speed(inputs: Inputs, kinds: tuple[str, ...] = KINDS, required: bool = True) -> str | None:
