@@ -111,6 +111,34 @@ def parse_numbers(raw, *, allow_array: bool = True):
     raise ma.ValidationError(message)
 
 
+#: Words that keep their capital when a description's first words become part of a sentence.
+_PROPER = ("Mach",)
+
+
+def trade_name(field: ma.fields.Field, name: str) -> str:
+    """What a field is, in the words of its description: "Pressure altitude [ft] (FL allowed): ..."
+    -> "the pressure altitude (altitude)"; "Mach number [-], ..." -> "the Mach number (mach)"."""
+    words = field.metadata.get("description", "") or name
+    for stop in (" [", " (", " = ", ", ", ". ", ": "):
+        words = words.split(stop, 1)[0]
+    words = words.rstrip(".")
+    first = words.split(" ", 1)[0]
+    if first not in _PROPER and first[1:].islower():
+        words = words[0].lower() + words[1:]
+    if not words.startswith("the "):
+        words = "the " + words
+    return words if words.replace(" ", "_").removeprefix("the_") == name else f"{words} ({name})"
+
+
+def what_to_give(field: ma.fields.Field, name: str) -> str:
+    """The message for a missing input: what it is and how to give it."""
+    message = f"Missing: {trade_name(field, name)}"
+    if isinstance(field, Quantity):
+        symbols = ", ".join(field.dim.units)
+        return f"{message}, in {field.default_unit}, or as {{\"value\": ..., \"unit\": ...}} in one of {symbols}."
+    return message + "."
+
+
 class Number(ma.fields.Field):
     """A dimensionless input: a bare number or a flat array of numbers.
 
@@ -138,6 +166,12 @@ class Number(ma.fields.Field):
         return [{"not": {"required": [name, other]}} for other in self.excludes if other in present]
 
     dimension: str | None = None
+
+    def make_error(self, key: str, **kwargs) -> ma.ValidationError:
+        """marshmallow's hook for a field's error messages: a missing input says what to give."""
+        if key == "required":
+            return ma.ValidationError(what_to_give(self, self.name))
+        return super().make_error(key, **kwargs)
 
     def _check_range(self, array, lo, hi, message_for):
         """Refuse values outside [lo, hi] (bounds as published); ``message_for()`` says why."""
@@ -200,6 +234,10 @@ def inward(value: float | None, *, up: bool) -> float | None:
     return float(rounded)
 
 
+_MISSING_IN_OBJECT = {"value": "Missing: the number or array of numbers (value), in `unit`.",
+                      "unit": "Missing: the unit of `value` (unit), one of {units}."}
+
+
 class Quantity(Number):
     """A physical input of one dimension (see service.units), loaded to SI.
 
@@ -239,13 +277,14 @@ class Quantity(Number):
         if type(value) is dict:
             missing = {"value", "unit"} - value.keys()
             extra = value.keys() - {"value", "unit"}
-            errors = {k: ["Missing data for required field."] for k in sorted(missing)}
+            errors = {k: [_MISSING_IN_OBJECT[k].format(units=", ".join(self.dim.units))] for k in sorted(missing)}
             errors.update({k: ["Unknown field."] for k in sorted(extra)})
             if errors:
                 raise ma.ValidationError(errors)
-            unit = value["unit"]
-            if type(unit) is not str or unit not in self.dim.units:  # {} or [] would not even hash
-                raise ma.ValidationError({"unit": [str(units.UnitError(self.dimension, unit))]})
+            try:
+                unit = units.canonical(self.dimension, value["unit"])
+            except units.UnitError as err:
+                raise ma.ValidationError({"unit": [str(err)]}) from None
             try:
                 array, is_array = parse_numbers(value["value"], allow_array=self.allow_array)
             except ma.ValidationError as err:
@@ -275,10 +314,11 @@ class OutputUnits(ma.fields.Field):
         for key, unit in value.items():
             if key not in units.OUTPUT_DIMENSIONS:
                 errors[key] = [f"Unknown dimension; allowed: {', '.join(units.OUTPUT_DIMENSIONS)}."]
-            elif not isinstance(unit, str) or unit not in units.DIMENSIONS[key].units:
-                errors[key] = [str(units.UnitError(key, unit))]
             else:
-                chosen[key] = unit
+                try:
+                    chosen[key] = units.canonical(key, unit)
+                except units.UnitError as err:
+                    errors[key] = [str(err)]
         if errors:
             raise ma.ValidationError(errors)
         return chosen
@@ -306,6 +346,11 @@ def number_schema(field: Number, lo=None, hi=None, *, bounded: bool = True) -> d
     return {"oneOf": [number, {"type": "array", "items": number, "minItems": 1}]}
 
 
+def _unit_schema(unit: units.Unit) -> dict:
+    """The unit's symbols: a const, or an enum with its aliases."""
+    return {"enum": [unit.name, *unit.aliases]} if unit.aliases else {"const": unit.name}
+
+
 def quantity_schema(field: Quantity, bounds: dict | None = None) -> dict:
     """OpenAPI schema of a Quantity: number or array in the default unit, or {value, unit}.
 
@@ -320,7 +365,7 @@ def quantity_schema(field: Quantity, bounds: dict | None = None) -> dict:
             "type": "object",
             "properties": {
                 "value": number_schema(field, bounded=False) | {"description": "The number or numbers, in `unit`."},
-                "unit": {"type": "string", "enum": list(field.dim.units), "description": "The unit of `value`."},
+                "unit": {"type": "string", "enum": list(field.dim.symbols), "description": "The unit of `value`."},
             },
             "required": ["value", "unit"],
             "additionalProperties": False,
@@ -329,7 +374,7 @@ def quantity_schema(field: Quantity, bounds: dict | None = None) -> dict:
         objects = [{
             "type": "object",
             "properties": {"value": number_schema(field, *bounds[unit]) | {"description": f"The number(s) in {unit}."},
-                           "unit": {"const": unit, "description": "The unit of `value`."}},
+                           "unit": _unit_schema(field.dim.units[unit]) | {"description": "The unit of `value`."}},
             "required": ["value", "unit"],
             "additionalProperties": False,
         } for unit in field.dim.units]
@@ -350,7 +395,7 @@ def field_to_properties(self, field, ret):
         return {
             "type": "object",
             "properties": {
-                name: {"type": "string", "enum": list(dim.units),
+                name: {"type": "string", "enum": list(dim.symbols),
                        "description": f"{dim.description}; default {dim.default}."}
                 for name, dim in ((n, units.DIMENSIONS[n]) for n in units.OUTPUT_DIMENSIONS)
             },

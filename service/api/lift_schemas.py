@@ -12,7 +12,7 @@ import marshmallow as ma
 
 from service.api import air
 from service.api.examples import TQ62_WING
-from service.api.fields import Number, Quantity, any_true, parse_numbers
+from service.api.fields import Number, Quantity, any_true, parse_numbers, what_to_give
 from service.api.inputs import ComputeSchema, exactly_one, needs, none_of, not_together, output_needs, outputs_field
 from service.api.schemas import FlagOut, LabelOut, quantity_out, ratio_out, response_schema
 from service.api.speeds import KINDS, SPEED_MAX_KT, calibration_field, mach_field, speed_field
@@ -273,7 +273,7 @@ class LiftSolveRequest(ComputeSchema):
                 errors["altitude_kind"] = ["Solving for altitude gives a pressure altitude; leave out altitude_kind."]
         needed = [n for n in ("weight", "wing_area", "cl", "altitude") if n != unknown and n not in data]
         for name in needed:
-            errors[name] = [f"Missing: needed to solve for {unknown}."]
+            errors[name] = [f"{what_to_give(self.fields[name], name)} Needed to solve for {unknown}."]
         if unknown != "speed" and not speeds:
             errors["_schema"] = [f"Missing: one speed of {', '.join(KINDS)}, needed to solve for {unknown}."]
         if "calibration" in data and "ias" not in data and "calibration" not in errors:

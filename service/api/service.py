@@ -24,7 +24,9 @@ class StatusSchema(ma.Schema):
 
 
 class UnitSchema(ma.Schema):
-    unit = ma.fields.String(required=True, metadata={"description": "The unit's name as requests give it."})
+    unit = ma.fields.String(required=True, metadata={"description": "The unit's symbol, as answers give it."})
+    aliases = ma.fields.List(ma.fields.String(), required=True, metadata={
+        "description": "The unit's other standard symbols, also accepted in requests (the knot: kn)."})
     description = ma.fields.String(required=True, metadata={"description": "What the unit is."})
     factor = ma.fields.Float(required=True, metadata={"description": "SI value = value x factor + offset."})
     offset = ma.fields.Float(required=True, metadata={"description": "SI value = value x factor + offset."})

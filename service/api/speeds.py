@@ -16,7 +16,7 @@ from service.api.inputs import Inputs, first_indices, no_solution
 from service.api.lazy import lazy
 from service.api.problems import invalid
 from service.physics import airspeed as spd
-from service.units import DIMENSIONS, UnitError, from_si, to_si
+from service.units import DIMENSIONS, UnitError, canonical, from_si, to_si
 
 #: The speed inputs, in the order a request is checked for them.
 KINDS = ("ias", "cas", "eas", "tas", "mach")
@@ -57,8 +57,10 @@ class CalibrationField(ma.fields.Field):
         for key in sorted(unknown):
             errors[key] = ["Unknown field."]
         unit = value.get("unit", "kt")
-        if not isinstance(unit, str) or unit not in DIMENSIONS["speed"].units:
-            errors["unit"] = [str(UnitError("speed", unit))]
+        try:
+            unit = canonical("speed", unit)
+        except UnitError as err:
+            errors["unit"] = [str(err)]
         columns = {}
         for key in ("ias", "cas"):
             if key not in value:
@@ -91,7 +93,7 @@ class CalibrationField(ma.fields.Field):
             "properties": {
                 "ias": column | {"description": "Indicated airspeeds of the table's rows, strictly increasing."},
                 "cas": column | {"description": "Calibrated airspeeds of the same rows, strictly increasing."},
-                "unit": {"type": "string", "enum": list(DIMENSIONS["speed"].units),
+                "unit": {"type": "string", "enum": list(DIMENSIONS["speed"].symbols),
                          "description": "Unit of both columns; default kt."},
             },
             "required": ["ias", "cas"],
