@@ -286,6 +286,44 @@ def from_si(values, dimension: str, unit: str):
     return np.divide(values, u.factor)
 
 
+def bound_in(dimension: str, unit: str, si: float, *, upper: bool, exclusive: bool = False) -> float:
+    """A range end ``si`` [SI] in ``unit``, exact: the check in ``unit`` and in SI admit the same numbers.
+
+    An inclusive upper end is the largest float ``x`` whose SI value ``to_si(x)`` is at most ``si``; an
+    inclusive lower end the smallest one at least ``si``. An exclusive end is the first float past them
+    (the least ``x`` with ``to_si(x) >= si`` for an upper end), so that ``x < end`` holds exactly when
+    ``to_si(x) < si``. The conversion is monotonic (positive factors), so a value given in ``unit`` is
+    within the published end exactly when its SI value is within ``si``: no value at the end is refused
+    for a rounding of the conversion, and none past it converts to a value beyond the model's range.
+
+    Examples
+    --------
+    The top of the standard atmosphere, 84 852 m, in feet and flight levels:
+
+    >>> bound_in("altitude", "ft", 84852.0, upper=True)
+    278385.82677165355
+    >>> bound_in("altitude", "FL", 84852.0, upper=True)
+    2783.8582677165355
+    >>> bool(to_si(2783.8582677165355, "altitude", "FL") <= 84852.0 < to_si(2783.858267716536, "altitude", "FL"))
+    True
+    """
+    def si_of(x: float) -> float:
+        return float(to_si(np.float64(x), dimension, unit))
+
+    x = float(from_si(np.float64(si), dimension, unit))
+    if upper != exclusive:  # the largest x with si_of(x) <= si
+        while si_of(x) > si:
+            x = math.nextafter(x, -math.inf)
+        while si_of(math.nextafter(x, math.inf)) <= si:
+            x = math.nextafter(x, math.inf)
+        return x
+    while si_of(x) < si:  # the smallest x with si_of(x) >= si
+        x = math.nextafter(x, math.inf)
+    while si_of(math.nextafter(x, -math.inf)) >= si:
+        x = math.nextafter(x, -math.inf)
+    return x
+
+
 def catalogue() -> dict:
     """The unit table as GET /v1/units publishes it."""
     return {

@@ -155,3 +155,34 @@ def test_no_suggestion_for_what_is_not_close(dimension, typed):
 def test_a_suggestion_is_always_a_unit_of_the_dimension(dimension, text):
     suggestion = units.suggest(dimension, text)
     assert suggestion is None or suggestion in units.DIMENSIONS[dimension].units
+
+
+# --- Range ends in every unit: the end in the unit admits exactly the values whose SI value is in range ---
+
+@given(dimension=st.sampled_from([d for d in units.DIMENSIONS if d != "weight"]), data=st.data(),
+       si=st.floats(-1e6, 1e6, allow_nan=False), upper=st.booleans(), exclusive=st.booleans())
+def test_a_range_end_in_any_unit_is_exact(dimension, data, si, upper, exclusive):
+    unit = data.draw(st.sampled_from(list(units.DIMENSIONS[dimension].units)))
+    end = units.bound_in(dimension, unit, si, upper=upper, exclusive=exclusive)
+    inside, outside = (math.nextafter(end, -math.inf), math.nextafter(end, math.inf)) if upper else \
+        (math.nextafter(end, math.inf), math.nextafter(end, -math.inf))
+
+    def admitted_in_si(x):
+        y = float(units.to_si(np.float64(x), dimension, unit))
+        if exclusive:
+            return y < si if upper else y > si
+        return y <= si if upper else y >= si
+
+    # inclusive: the end is admitted and the next float past it is not; exclusive: the end is the first refused
+    assert admitted_in_si(inside)
+    if exclusive:
+        assert not admitted_in_si(end)
+    else:
+        assert admitted_in_si(end)
+        assert not admitted_in_si(outside)
+
+
+def test_the_top_of_the_atmosphere_in_feet_and_flight_levels():
+    # 84 852 m / 0.3048 m/ft = 278 385.826 771 653 5... ft (exact definition of the foot, NIST SP 811)
+    assert units.bound_in("altitude", "ft", 84852.0, upper=True) == pytest.approx(278385.8267716535, rel=1e-15)
+    assert units.bound_in("altitude", "FL", 84852.0, upper=True) == pytest.approx(2783.858267716535, rel=1e-15)
