@@ -194,11 +194,23 @@ def tsc(work: Path, files: list[str], *, emit: bool) -> subprocess.CompletedProc
     return run([*args, *files], cwd=work)
 
 
+#: JSON answers and problem documents; CSV answers are for other clients (`Accept: text/csv`).
 HEADER = """import createClient from "openapi-fetch";
 import type { paths } from "./qbar.js";
 
-const client = createClient<paths, "application/json">({ baseUrl: BASE_URL });
+const client = createClient<paths, "application/json" | "application/problem+json">({ baseUrl: BASE_URL });
 """
+
+MISSPELT = {  # each line must be a compile error: a misspelt unit, or a unit of another dimension
+    "feet": ("/v1/atmosphere", '{ altitude: { value: 7200, unit: "feet" }, isa_deviation: 0 }'),
+    "kts": ("/v1/airspeed", '{ cas: { value: 250, unit: "kts" }, altitude: 10000, isa_deviation: 0 }'),
+    "kt": ("/v1/atmosphere", '{ altitude: { value: 7200, unit: "kt" }, isa_deviation: 0 }'),
+}
+SPELT = [  # the same requests spelt right, called in calls.ts: they compile and answer
+    ("/v1/atmosphere", '{ altitude: { value: 7200, unit: "ft" }, isa_deviation: 0 }'),
+    ("/v1/airspeed", '{ cas: { value: 250, unit: "kt" }, altitude: 10000, isa_deviation: 0 }'),
+    ("/v1/airspeed", '{ cas: { value: 250, unit: "kn" }, altitude: 10000, isa_deviation: 0 }'),
+]
 
 
 def ts_call(call: dict) -> str:
@@ -223,56 +235,84 @@ def calls_source(base_url: str) -> str:
              "const results = [];"]
     for call in OPERATIONS:
         lines.append(f"results.push(await check({json.dumps(_id(call))}, {ts_call(call)}));")
+    for n, (path, body) in enumerate(SPELT):
+        lines.append(f'results.push(await check("spelt {n}", client.POST({json.dumps(path)}, {{ body: {body} }})));')
     lines += [
         "",
-        "// The answer is typed too: a physical output is {value, unit}, a number where the input was one.",
+        "// Answers are typed: a physical output is {value, unit}; a problem document has its pointers.",
         'const fl350 = await client.POST("/v1/atmosphere", { body: { altitude: { value: 350, unit: "FL" },'
         ' isa_deviation: 10 } });',
         "const pressure = fl350.data?.pressure;",
-        'results.push({ name: "typed read", status: fl350.response.status,',
+        'results.push({ name: "typed answer", status: fl350.response.status,',
         '               data: typeof pressure?.value === "number" && pressure.unit === "hPa", error: false });',
+        'const deep = await client.POST("/v1/atmosphere", { body: { altitude: -1e9, isa_deviation: 0 } });',
+        'results.push({ name: "typed problem", status: deep.response.status === 422 ? 200 : deep.response.status,',
+        '               data: deep.error?.errors?.[0]?.pointer === "/altitude", error: false });',
         "console.log(JSON.stringify(results));",
     ]
     return "\n".join(lines) + "\n"
 
 
-@DEFAULTS_PENDING
-def test_typescript_client_compiles_strict_and_calls_every_endpoint(ts_project, base_url):
+@pytest.fixture(scope="module")
+def ts_calls(ts_project, base_url) -> subprocess.CompletedProcess:
+    """calls.ts, compiled with tsc --strict to out/calls.js."""
     (ts_project / "calls.ts").write_text(calls_source(base_url), encoding="utf-8")
-    compiled = tsc(ts_project, ["calls.ts"], emit=True)
-    assert compiled.returncode == 0, compiled.stdout[-5000:] + compiled.stderr[-2000:]
+    return tsc(ts_project, ["calls.ts"], emit=True)
+
+
+@DEFAULTS_PENDING
+def test_typescript_client_compiles_strict_and_calls_every_endpoint(ts_project, ts_calls):
+    assert ts_calls.returncode == 0, ts_calls.stdout[-5000:] + ts_calls.stderr[-2000:]
     done = run(["node", str(ts_project / "out" / "calls.js")], cwd=ts_project)
     assert done.returncode == 0, done.stderr[-3000:]
     results = json.loads(done.stdout)
-    assert [r["name"] for r in results] == [*map(_id, OPERATIONS), "typed read"]
+    expected = [*map(_id, OPERATIONS), *(f"spelt {n}" for n in range(len(SPELT))), "typed answer", "typed problem"]
+    assert [r["name"] for r in results] == expected
     failed = [r for r in results if (r["status"], r["data"], r["error"]) != (200, True, False)]
     assert not failed, failed
 
 
-MISSPELT = {  # each line must be a compile error, naming the unit
-    "feet": '{ altitude: { value: 7200, unit: "feet" }, isa_deviation: 0 }',
-    "kts": '{ cas: { value: 250, unit: "kts" }, altitude: 10000, isa_deviation: 0 }',
-    "kt": '{ altitude: { value: 7200, unit: "kt" }, isa_deviation: 0 }',  # a unit of another dimension
-}
-SPELT = [  # the same requests spelt right: no error
-    ("/v1/atmosphere", '{ altitude: { value: 7200, unit: "ft" }, isa_deviation: 0 }'),
-    ("/v1/airspeed", '{ cas: { value: 250, unit: "kt" }, altitude: 10000, isa_deviation: 0 }'),
-]
-
-
 @DEFAULTS_PENDING
-def test_a_misspelt_unit_does_not_compile_in_typescript(ts_project):
+def test_a_misspelt_unit_does_not_compile_in_typescript(ts_project, ts_calls):
+    assert ts_calls.returncode == 0, "the same requests spelt right (SPELT) must compile"
     header = HEADER.replace("BASE_URL", json.dumps("http://127.0.0.1:1"))
-    paths = {"feet": "/v1/atmosphere", "kts": "/v1/airspeed", "kt": "/v1/atmosphere"}
-    spelt = header + "".join(f"await client.POST({json.dumps(p)}, {{ body: {b} }});\n" for p, b in SPELT)
-    (ts_project / "spelt.ts").write_text(spelt, encoding="utf-8")
-    misspelt_lines = [f"await client.POST({json.dumps(paths[u])}, {{ body: {b} }});" for u, b in MISSPELT.items()]
-    (ts_project / "misspelt.ts").write_text(header + "\n".join(misspelt_lines) + "\n", encoding="utf-8")
+    lines = [f"await client.POST({json.dumps(path)}, {{ body: {body} }});" for path, body in MISSPELT.values()]
+    (ts_project / "misspelt.ts").write_text(header + "\n".join(lines) + "\n", encoding="utf-8")
     first = HEADER.count("\n") + 1  # the line of the first call
-
-    assert tsc(ts_project, ["spelt.ts"], emit=False).returncode == 0
     done = tsc(ts_project, ["misspelt.ts"], emit=False)
     assert done.returncode != 0
     errors = [line for line in done.stdout.splitlines() if re.match(r"misspelt\.ts\(\d+,\d+\): error TS", line)]
     lines_with_errors = {int(re.match(r"misspelt\.ts\((\d+),", e).group(1)) for e in errors}
     assert lines_with_errors == set(range(first, first + len(MISSPELT))), done.stdout[-5000:]
+
+
+# --- The README's client examples, as written ---
+
+README = REPO / "README.md"
+
+
+def readme_blocks(language: str) -> list[str]:
+    """The ``language`` code blocks of the README's "Typed clients" paragraph."""
+    text = README.read_text(encoding="utf-8")
+    section = text[text.index("**Typed clients.**"):text.index("Other languages")]
+    return re.findall(rf"```{language}\n(.*?)```", section, flags=re.S)
+
+
+def test_the_readme_python_client_example_runs(python_client, base_url, capsys):
+    (block,) = readme_blocks("python")
+    assert "http://localhost:8080" in block
+    exec(compile(block.replace("http://localhost:8080", base_url), "README.md", "exec"), {})  # noqa: S102
+    mach, tas, unit = capsys.readouterr().out.split()
+    # 250 kt CAS at FL240, ISA+12: the README's cookbook gives Mach 0.591744 and 366.487 kt TAS
+    assert (mach[:6], tas[:6], unit) == ("0.5917", "366.48", "kt")
+
+
+@DEFAULTS_PENDING
+def test_the_readme_typescript_client_example_compiles(ts_project):
+    (block,) = readme_blocks("ts")
+    (ts_project / "readme.ts").write_text(block, encoding="utf-8")
+    # as in an app built with a bundler: imports without extensions
+    args = [str(CACHE / "node_modules" / ".bin" / "tsc"), "--strict", "--target", "es2022", "--module", "esnext",
+            "--moduleResolution", "bundler", "--lib", "es2022,dom", "--pretty", "false", "--noEmit", "readme.ts"]
+    done = run(args, cwd=ts_project)
+    assert done.returncode == 0, done.stdout[-3000:]
