@@ -87,8 +87,6 @@ def test_the_spec_accepts_the_aliases_and_refuses_the_misspellings():
      "Missing: the sweep of the wing's half-chord line (sweep_half_chord), in deg"),
     ("/v1/lift/stall", {"wing_area": 61, "cl_max": 1.6, "altitude": 0, "isa_deviation": 0}, "/weight",
      'Missing: the weight, in kg, or as {"value": ..., "unit": ...} in one of kg, t, lb, N, kN, lbf.'),
-    ("/v1/lift/solve", {"solve_for": "cl", "weight": 21000, "mach": 0.45, "altitude": 25000, "isa_deviation": 0},
-     "/wing_area", "Missing: the wing reference area (wing_area), in m2"),
     (ATMOSPHERE, {"altitude": {"value": 10}}, "/altitude/unit", "Missing: the unit of `value` (unit), one of m, ft"),
 ])
 def test_a_missing_input_says_what_to_give(client, path, body, pointer, words):
