@@ -117,14 +117,6 @@ def model_classes(package) -> list[str]:
                   if isinstance(node, ast.ClassDef))
 
 
-#: Until every dimension is one named schema (issue 12, item 1), each unit of each field is a numbered class.
-NAMED_SCHEMAS_PENDING = pytest.mark.xfail(strict=True, reason="one inline branch per unit and field: numbered classes")
-#: Until the request schemas publish no `default` (issue 12, item 1): openapi-typescript makes a property with a
-#: default required in a component schema (its defaultNonNullable), so `grid` and `altitude_kind` are required.
-DEFAULTS_PENDING = pytest.mark.xfail(strict=True, reason="request fields with a default come out required")
-
-
-@NAMED_SCHEMAS_PENDING
 def test_python_client_has_few_model_classes_and_none_numbered(python_client):
     classes = model_classes(python_client)
     numbered = [name for name in classes if re.search(r"\d", name)]
@@ -260,7 +252,6 @@ def ts_calls(ts_project, base_url) -> subprocess.CompletedProcess:
     return tsc(ts_project, ["calls.ts"], emit=True)
 
 
-@DEFAULTS_PENDING
 def test_typescript_client_compiles_strict_and_calls_every_endpoint(ts_project, ts_calls):
     assert ts_calls.returncode == 0, ts_calls.stdout[-5000:] + ts_calls.stderr[-2000:]
     done = run(["node", str(ts_project / "out" / "calls.js")], cwd=ts_project)
@@ -272,7 +263,6 @@ def test_typescript_client_compiles_strict_and_calls_every_endpoint(ts_project, 
     assert not failed, failed
 
 
-@DEFAULTS_PENDING
 def test_a_misspelt_unit_does_not_compile_in_typescript(ts_project, ts_calls):
     assert ts_calls.returncode == 0, "the same requests spelt right (SPELT) must compile"
     header = HEADER.replace("BASE_URL", json.dumps("http://127.0.0.1:1"))
@@ -307,7 +297,6 @@ def test_the_readme_python_client_example_runs(python_client, base_url, capsys):
     assert (mach[:6], tas[:6], unit) == ("0.5917", "366.48", "kt")
 
 
-@DEFAULTS_PENDING
 def test_the_readme_typescript_client_example_compiles(ts_project):
     (block,) = readme_blocks("ts")
     (ts_project / "readme.ts").write_text(block, encoding="utf-8")

@@ -87,7 +87,7 @@ class AirspeedRequest(ComputeSchema):
 
 
 AirspeedAtmosphere = type("AirspeedAtmosphere", (ma.Schema,), {
-    name: quantity_out(desc) for name, (_, desc, _) in ATMOSPHERE.items()})
+    name: quantity_out(desc, dim) for name, (dim, desc, _) in ATMOSPHERE.items()})
 
 AirspeedResponse = response_schema("AirspeedResponse", OUTPUTS, AirspeedRequest, fields={
     "atmosphere": ma.fields.Nested(AirspeedAtmosphere, metadata={"description": OUTPUTS["atmosphere"][1]})})
@@ -95,6 +95,7 @@ AirspeedResponse = response_schema("AirspeedResponse", OUTPUTS, AirspeedRequest,
 
 
 @blp.route("/airspeed", methods=["POST"])
+@blp.doc(operationId="convertAirspeed")
 @blp.arguments(AirspeedRequest, examples=examples.AIRSPEED)
 @blp.response(200, AirspeedResponse)
 @blp.problems(*COMPUTE_PROBLEMS)
@@ -177,6 +178,7 @@ def _beyond_model(cas, mach, missing, indices: bool = True) -> str:
 
 
 @blp.route("/airspeed/crossover", methods=["POST"])
+@blp.doc(operationId="findCrossoverAltitude")
 @blp.arguments(CrossoverRequest, examples=examples.CROSSOVER)
 @blp.response(200, CrossoverResponse)
 @blp.problems(*COMPUTE_PROBLEMS)
@@ -238,6 +240,7 @@ ScheduleResponse = response_schema("ScheduleResponse", SCHEDULE_OUTPUTS, Schedul
 
 
 @blp.route("/airspeed/schedule", methods=["POST"])
+@blp.doc(operationId="computeSpeedSchedule")
 @blp.arguments(ScheduleRequest, examples=examples.SCHEDULE)
 @blp.response(200, ScheduleResponse)
 @blp.problems(*COMPUTE_PROBLEMS)

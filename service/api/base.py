@@ -80,6 +80,11 @@ class Converter(OpenAPIConverter):
 
     def schema2jsonschema(self, schema):
         jsonschema = super().schema2jsonschema(schema)
+        # A request field's default is in its description, not a `default` keyword: generators read the
+        # keyword as "always present" (openapi-typescript makes such a property required), so clients would
+        # have to send what the service defaults.
+        for prop in jsonschema.get("properties", {}).values():
+            prop.pop("default", None)
         rules = schema_rules(resolve_schema_instance(schema))
         if rules:
             jsonschema["allOf"] = [rule.spec() for rule in rules]
@@ -126,6 +131,8 @@ class Api(flask_smorest.Api):
         self.ma_plugin.converter.add_attribute_function(fields.field_to_properties)
 
     def _register_responses(self):
+        for name, component in fields.named_schemas().items():
+            self.spec.components.schema(name, component=component)
         self.spec.components.schema("Problem", schema=ProblemSchema)
         self.spec.components.schema("Warning", schema=WarningSchema)
         for status in http.HTTPStatus:

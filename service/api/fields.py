@@ -324,50 +324,107 @@ def _bounded_number(lo, hi, field: Number) -> dict:
     return schema
 
 
+# --- Named schemas: one per dimension, each field refers to its dimension's -------------------------
+
+def schema_name(dimension: str, suffix: str = "") -> str:
+    """The component name of a dimension's schema: "temperature_difference" -> "TemperatureDifference"."""
+    return "".join(part.capitalize() for part in dimension.split("_")) + suffix
+
+
+def ref(name: str) -> dict:
+    return {"$ref": f"#/components/schemas/{name}"}
+
+
+def named_schemas() -> dict[str, dict]:
+    """The named schemas the fields refer to (registered once as components by api.base.Api).
+
+    Per dimension: ``<Dim>Unit`` (the unit enum: every accepted symbol), ``<Dim>Value`` (``{value,
+    unit}``), ``<Dim>`` (an input: a number or array in the field's default unit, or a ``<Dim>Value``) and,
+    for output dimensions, ``<Dim>Out`` (an output: ``{value, unit}``, null where a value does not exist).
+    Ranges are the field's: beside the reference (see :func:`quantity_schema`), not in these.
+    """
+    nullable = {"type": ["number", "null"]}
+    schemas = {
+        "Numbers": {"oneOf": [{"type": "number"}, {"type": "array", "items": {"type": "number"}, "minItems": 1}],
+                    "description": "A number, or a non-empty array of numbers (one per point)."},
+        "NumbersOut": {"oneOf": [nullable, {"type": "array", "items": nullable}],
+                       "description": "A number (scalar inputs) or one number per point; null where the value does "
+                                      "not exist (see warnings)."},
+    }
+    for name, dim in units.DIMENSIONS.items():
+        base = schema_name(name)
+        schemas[base + "Unit"] = {"type": "string", "enum": list(dim.symbols),
+                                  "description": f"A unit of {name.replace('_', ' ')}: {units.allowed(name)} "
+                                                 "(GET /v1/units lists them)."}
+        schemas[base + "Value"] = {
+            "type": "object",
+            "properties": {"value": ref("Numbers") | {"description": "The number or numbers, in `unit`."},
+                           "unit": ref(base + "Unit") | {"description": "The unit of `value`."}},
+            "required": ["value", "unit"],
+            "additionalProperties": False,
+            "description": f"{dim.description} in a unit of your choice.",
+        }
+        schemas[base] = {"oneOf": [ref("Numbers"), ref(base + "Value")],
+                         "description": f"{dim.description}: a number or array in the field's default unit, "
+                                        "or {value, unit}."}
+        if dim.output:
+            schemas[base + "Out"] = {
+                "type": "object",
+                "properties": {"value": ref("NumbersOut") | {"description": "The number or numbers, in `unit`; "
+                                                                           "null where there is none (see warnings)."},
+                               "unit": ref(base + "Unit") | {"description": "The unit of `value`."}},
+                "required": ["value", "unit"],
+                "additionalProperties": False,
+                "description": f"{dim.description}, in the unit output_units chose (default {dim.default}).",
+            }
+    schemas["OutputUnits"] = {
+        "type": "object",
+        "properties": {name: ref(schema_name(name, "Unit")) | {
+            "description": f"{units.DIMENSIONS[name].description}; default {units.DIMENSIONS[name].default}."}
+            for name in units.OUTPUT_DIMENSIONS},
+        "additionalProperties": False,
+        "description": "Units of the outputs, by dimension; defaults: "
+                       + ", ".join(f"{name} {units.DIMENSIONS[name].default}" for name in units.OUTPUT_DIMENSIONS)
+                       + ".",
+    }
+    return schemas
+
+
+def _bounds(field: Number, lo, hi) -> dict:
+    """Range keywords for a number or an array of numbers (JSON Schema applies each to its own type)."""
+    number = {k: v for k, v in _bounded_number(lo, hi, field).items() if k != "type"}
+    return number | {"items": dict(number)} if number and field.allow_array else number
+
+
 def number_schema(field: Number, lo=None, hi=None, *, bounded: bool = True) -> dict:
-    """OpenAPI 3.1 schema of a bare number or flat array of numbers, within the field's bounds
-    (or ``lo``/``hi``; none with ``bounded=False``)."""
+    """OpenAPI 3.1 schema of a bare number or flat array of numbers (``Numbers``), within the field's
+    bounds (or ``lo``/``hi``; none with ``bounded=False``)."""
     if bounded and lo is None and hi is None:
         lo, hi = field.minimum, field.maximum
-    number = _bounded_number(lo, hi, field) if bounded else {"type": "number"}
     if not field.allow_array:
-        return number
-    return {"oneOf": [number, {"type": "array", "items": number, "minItems": 1}]}
-
-
-def _unit_schema(unit: units.Unit) -> dict:
-    """The unit's symbols: a const, or an enum with its aliases."""
-    return {"enum": [unit.name, *unit.aliases]} if unit.aliases else {"const": unit.name}
+        return _bounded_number(lo, hi, field) if bounded else {"type": "number"}
+    return ref("Numbers") | (_bounds(field, lo, hi) if bounded else {})
 
 
 def quantity_schema(field: Quantity, bounds: dict | None = None) -> dict:
-    """OpenAPI schema of a Quantity: number or array in the default unit, or {value, unit}.
+    """OpenAPI schema of a Quantity: its dimension's named schema, with the field's range beside it.
 
-    With bounds (``field.bounds`` unless given: {unit: (lo, hi)}), the object form is one
-    branch per unit, each with the bounds in that unit.
+    The range of the bare number or array (in the default unit) is ``minimum``/``maximum`` and
+    ``items``; the range in each unit of the ``{value, unit}`` form is a conditional on the unit
+    (``if unit is ft then value within ...``), one per unit, so that the type stays the one
+    named schema. ``bounds``: {unit: (lo, hi)}, ``field.bounds`` unless given.
     """
-    bounds = field.bounds if bounds is None else bounds
-    lo, hi = bounds[field.default_unit]
-    plain = number_schema(field, lo, hi)
+    schema = ref(schema_name(field.dimension))
     if not field.bounded:
-        objects = [{
-            "type": "object",
-            "properties": {
-                "value": number_schema(field, bounded=False) | {"description": "The number or numbers, in `unit`."},
-                "unit": {"type": "string", "enum": list(field.dim.symbols), "description": "The unit of `value`."},
-            },
-            "required": ["value", "unit"],
-            "additionalProperties": False,
-        }]
-    else:
-        objects = [{
-            "type": "object",
-            "properties": {"value": number_schema(field, *bounds[unit]) | {"description": f"The number(s) in {unit}."},
-                           "unit": _unit_schema(field.dim.units[unit]) | {"description": "The unit of `value`."}},
-            "required": ["value", "unit"],
-            "additionalProperties": False,
-        } for unit in field.dim.units]
-    return {"oneOf": [*plain.get("oneOf", [plain]), *objects]}
+        return schema
+    bounds = field.bounds if bounds is None else bounds
+    schema |= _bounds(field, *bounds[field.default_unit])
+    schema["allOf"] = [{
+        "if": {"type": "object", "required": ["unit"],
+               "properties": {"unit": {"enum": [name, *unit.aliases]} if unit.aliases else {"const": name}}},
+        "then": {"properties": {"value": _bounds(field, *bounds[name])}},
+    } for name, unit in field.dim.units.items()]
+    return schema
 
 
 def field_to_properties(self, field, ret):
@@ -381,13 +438,5 @@ def field_to_properties(self, field, ret):
     if isinstance(field, Number):
         return number_schema(field)
     if isinstance(field, OutputUnits):
-        return {
-            "type": "object",
-            "properties": {
-                name: {"type": "string", "enum": list(dim.symbols),
-                       "description": f"{dim.description}; default {dim.default}."}
-                for name, dim in ((n, units.DIMENSIONS[n]) for n in units.OUTPUT_DIMENSIONS)
-            },
-            "additionalProperties": False,
-        }
+        return ref("OutputUnits")
     return {}

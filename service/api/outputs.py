@@ -31,14 +31,14 @@ class Leaf(NamedTuple):
     dimension: str | None = None
 
 
-def _written_as(dimension: str) -> str:
+def written_as(dimension: str) -> str:
     """The dimension an output is written in: a weight (a mass or a force as input) as a force."""
     return "force" if dimension == "weight" else dimension
 
 
 def unit_for(dimension: str, chosen: dict) -> str:
     """The output unit of ``dimension``: the caller's choice or the default."""
-    dimension = _written_as(dimension)
+    dimension = written_as(dimension)
     return chosen.get(dimension) or units.DIMENSIONS[dimension].default
 
 
@@ -128,11 +128,11 @@ class Result:
         if self.shape == ():
             value = leaf.si.item() if hasattr(leaf.si, "item") else leaf.si
             if unit is not None:
-                u = units.DIMENSIONS[_written_as(leaf.dimension)].units[unit]
+                u = units.DIMENSIONS[written_as(leaf.dimension)].units[unit]
                 if value is not None and (u.factor != 1.0 or u.offset):
                     value = (value - u.offset) / u.factor
         else:
-            si = leaf.si if unit is None else units.from_si(leaf.si, _written_as(leaf.dimension), unit)
+            si = leaf.si if unit is None else units.from_si(leaf.si, written_as(leaf.dimension), unit)
             value = np.asarray(si)
             if value.shape != self.shape:
                 value = np.broadcast_to(value, self.shape)

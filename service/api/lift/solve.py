@@ -299,6 +299,7 @@ def _solve_outputs(inputs: Inputs) -> list[str]:
 
 
 @blp.route("/lift/solve", methods=["POST"])
+@blp.doc(operationId="solveLift")
 @blp.arguments(LiftSolveRequest, examples=examples.LIFT_SOLVE)
 @blp.response(200, SolveResponse)
 @blp.problems(*COMPUTE_PROBLEMS)
