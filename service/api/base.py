@@ -69,6 +69,9 @@ class ProblemSchema(ma.Schema):
         "description": "For invalid input: each offending value with a pointer into the request."})
     request_id = ma.fields.String(metadata={"description": "The request id (X-Request-ID) for support."})
     limit = ma.fields.Integer(metadata={"description": "For 413: the limit that was exceeded."})
+    acceptable = ma.fields.List(ma.fields.String(), metadata={
+        "description": "For 406: the media types the endpoint answers in (Accept may name them with q-values, "
+                       "wildcards and charset=utf-8)."})
     field = ma.fields.String(metadata={"description": "For no-solution: the output that does not exist."})
     count = ma.fields.Integer(metadata={"description": "For no-solution: how many points have no solution."})
     indices = ma.fields.List(ma.fields.Integer(), metadata={

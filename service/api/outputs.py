@@ -14,11 +14,12 @@ from typing import NamedTuple
 import numpy as np
 import orjson
 from flask import Response, g, request
+from werkzeug.datastructures import MIMEAccept
 
 from service import units
 from service.api.inputs import Inputs
 from service.api.masks import any_true, first_indices
-from service.api.problems import Problem, pointer
+from service.api.problems import Problem, echo, pointer
 
 _JSON_OPTIONS = orjson.OPT_SERIALIZE_NUMPY
 CSV_MEDIA_TYPE = "text/csv"
@@ -231,16 +232,34 @@ def _csv_text(name: str) -> str:
 _JSON_ACCEPTS = frozenset({"", "*/*", "application/json", "application/json, */*", "application/problem+json"})
 
 
+#: The media types of an answer, in the service's order of preference (JSON first on a tie).
+ANSWER_MEDIA_TYPES = ("application/json", CSV_MEDIA_TYPE)
+
+
+def _without_utf8(value: str) -> str:
+    """An Accept entry without a ``charset=utf-8`` parameter: every answer is UTF-8, so it is met."""
+    main, *params = (part.strip() for part in value.split(";"))
+    kept = [p for p in params if p.replace(" ", "").lower() != "charset=utf-8"]
+    return "; ".join([main, *kept])
+
+
 def wants_csv() -> bool:
-    """True when the client's Accept header prefers text/csv over JSON; 406 if it accepts neither."""
+    """True when the client's Accept header prefers text/csv over JSON; 406 if it accepts neither.
+
+    The header is parsed by werkzeug (parameters, q-values, wildcards, lists); ``charset=utf-8`` is
+    dropped from each entry first (werkzeug matches parameters exactly, and both answers are UTF-8).
+    """
     header = request.environ.get("HTTP_ACCEPT")
     if header is None or header in _JSON_ACCEPTS:  # the common cases, without parsing the header
         return False
     accept = request.accept_mimetypes
     if not accept:
         return False
-    best = accept.best_match(["application/json", CSV_MEDIA_TYPE])
+    accept = MIMEAccept([(_without_utf8(value), quality) for value, quality in accept])
+    best = accept.best_match(ANSWER_MEDIA_TYPES)
     if best is None:
-        raise Problem("not-acceptable", "This endpoint answers application/json or text/csv; "
-                                        f"Accept was {request.headers.get('Accept')!r}.")
+        offered = " or ".join(ANSWER_MEDIA_TYPES)
+        raise Problem("not-acceptable", f"This endpoint answers {offered} (UTF-8); Accept was "
+                                        f"{echo(request.headers.get('Accept'))}.",
+                      extra={"acceptable": list(ANSWER_MEDIA_TYPES)})
     return best == CSV_MEDIA_TYPE
