@@ -24,9 +24,10 @@ def _examples(*items: tuple[str, str, dict]) -> dict:
 ATMOSPHERE = _examples(
     ("fl350-isa10", "FL350 on an ISA+10 day",
      {"altitude": {"value": 350, "unit": "FL"}, "isa_deviation": 10}),
-    ("quillon-ridge-hot-day", "Density altitude at Quillon Ridge (7,200 ft) on a 32 degC day, QNH 1008 hPa",
+    ("quillon-ridge-hot-day", "Density altitude at Quillon Ridge (7,200 ft) on a 32 degC day, QNH 1008 hPa, "
+                              "to six significant digits",
      {"altitude": 7200, "qnh": 1008, "temperature": 32,
-      "outputs": ["pressure_altitude", "density_altitude", "isa_deviation", "density"]}),
+      "outputs": ["pressure_altitude", "density_altitude", "isa_deviation", "density"], "significant_digits": 6}),
     ("si-table", "A grid of geometric heights and ISA deviations, in SI units",
      {"altitude": {"value": [0, 3000, 6000], "unit": "m"}, "altitude_kind": "geometric", "isa_deviation": [-10, 15],
       "grid": True, "outputs": ["temperature", "pressure", "density"],

@@ -188,6 +188,13 @@ class ComputeSchema(RuleSchema):
         "example": True,
     })
 
+    significant_digits = ma.fields.Integer(strict=True, validate=ma.validate.Range(1, 17), metadata={
+        "description": "Round every number of the answer to this many significant digits (1 to 17), for people "
+                       "to read: with 6, 15 degC reads 59 degF and not 58.999999999999986. Default: full "
+                       "precision (the nearest double), for machines.",
+        "example": 6,
+    })
+
     @ma.post_load
     def _to_request(self, data, **kwargs):
         return Inputs(data, self.AXES, self.OUTPUTS)
@@ -210,6 +217,7 @@ class Inputs:
     def __init__(self, data: dict, axes: tuple[str, ...], outputs: dict | tuple[str, ...]):
         self.output_units: dict = data.pop("output_units", None) or {}
         self.grid: bool = data.pop("grid", False)
+        self.significant_digits: int | None = data.pop("significant_digits", None)
         wanted = data.pop("outputs", None)
         self.outputs: tuple[str, ...] = tuple(wanted) if wanted is not None else tuple(outputs)
         #: Output name -> its dimension (None: a bare number), from the schema's OUTPUTS table.

@@ -62,6 +62,36 @@ def require(field: str, values, reason: str):
     return values
 
 
+#: 10**k is exact in float64 up to k = 22: the scale of a rounding within that range is exact.
+_EXACT_POWERS_OF_TEN = 22
+
+
+def round_significant(value, digits: int):
+    """``value`` (a float, None, or an array of them; other kinds as they are) to ``digits`` significant digits.
+
+    One point: Python's own decimal rounding. Arrays: vectorised, x scaled by an exact power of ten,
+    rounded to an integer (half to even) and scaled back, so the result is the double nearest to the
+    rounded decimal (it prints with at most ``digits`` digits); where the scaled value is itself
+    rounded (15 digits and more), the last digit can differ by one from a decimal rounding.
+
+    >>> round_significant(58.999999999999986, 6), round_significant(None, 3)
+    (59.0, None)
+    >>> round_significant(np.array([278385.8267716535, 1.48764e-05, 0.0, -44.342, np.nan]), 3).tolist()
+    [278000.0, 1.49e-05, 0.0, -44.3, nan]
+    """
+    if type(value) is float:
+        return float(f"{value:.{digits}g}") if value - value == 0.0 else value
+    if type(value) is not np.ndarray or value.dtype.kind != "f":
+        return value
+    with np.errstate(divide="ignore", invalid="ignore", over="ignore"):
+        k = (digits - 1) - np.floor(np.log10(np.abs(value)))
+        exact = np.isfinite(k) & (np.abs(k) <= _EXACT_POWERS_OF_TEN)
+        k = np.where(exact, k, 0.0)
+        scale = np.power(10.0, np.abs(k))
+        rounded = np.where(k >= 0, np.round(value * scale) / scale, np.round(value / scale) * scale)
+    return np.where(exact, rounded, value)
+
+
 class Result:
     """The outputs of one request, in order, with warnings and (for grids) the inputs."""
 
@@ -140,6 +170,9 @@ class Result:
             value = value.tolist() if value.dtype.kind in "US" else np.ascontiguousarray(value)
         if check:
             self._check_finite(path, value)
+        digits = self.inputs.significant_digits
+        if digits is not None:
+            value = round_significant(value, digits)
         return value, unit
 
     def _check_finite(self, path: str, value):
