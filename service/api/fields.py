@@ -14,7 +14,6 @@ float range (1e400) are refused the same way.
 from __future__ import annotations
 
 import math
-from decimal import ROUND_CEILING, ROUND_FLOOR, Decimal
 from typing import NamedTuple
 
 import marshmallow as ma
@@ -206,21 +205,30 @@ class Number(ma.fields.Field):
         return Value(array, None, None, is_array)
 
 
-def inward(value: float | None, *, up: bool) -> float | None:
-    """A bound converted to another unit, as published and checked: 12 significant digits.
+#: A range end converted to another unit is published as the short decimal it stands for (100 degC is
+#: 212 degF) when the exact float end (units.bound_in) lies within this many units in the last place of it.
+_SNAP_ULPS = 4
 
-    A conversion that is exact but for floating-point noise (100 degC = 212 degF) gives the
-    exact number; any other is rounded toward the inside of the range (``up`` for a lower
-    bound), so that a value which passes it lies inside the range in every unit.
-    """
-    if value is None or value == 0.0:
-        return value
-    nearest = float(f"{value:.12g}")
-    if abs(nearest - value) <= 1e-12 * abs(value):
-        return nearest
-    exponent = math.floor(math.log10(abs(value))) - 11
-    rounded = Decimal(value).quantize(Decimal(1).scaleb(exponent), rounding=ROUND_CEILING if up else ROUND_FLOOR)
-    return float(rounded)
+
+class Range(tuple):
+    """``(lo, hi)`` of a field in one unit, as published and checked; ``si``: the same range in SI, to which
+    the converted values are clipped (a published end that is a short decimal may convert a few units in
+    the last place beyond the SI end)."""
+
+    si: tuple = (None, None)
+
+    def __new__(cls, lo, hi, si):
+        bounds = super().__new__(cls, (lo, hi))
+        bounds.si = si
+        return bounds
+
+
+def _published(exact: float | None) -> float | None:
+    """The end as published: the short decimal it stands for, or the exact float end."""
+    if exact is None or exact == 0.0:
+        return exact
+    snapped = float(f"{exact:.12g}")
+    return snapped if abs(snapped - exact) <= _SNAP_ULPS * math.ulp(exact) else exact
 
 
 _MISSING_IN_OBJECT = {"value": "Missing: the number or array of numbers (value), in `unit`.",
@@ -244,18 +252,21 @@ class Quantity(Number):
         # the bare-number form is in the default unit: publish its bounds there
         self.minimum, self.maximum = self.bounds[self.default_unit]
 
-    def unit_bounds(self, lo, hi, given_in: str) -> dict[str, tuple[float | None, float | None]]:
-        """{unit: (lo, hi)}: the bounds ``lo``/``hi`` (in unit ``given_in``) in every unit of the field."""
-        out = {}
-        source = self.dim.units[given_in]
-        for name, unit in self.dim.units.items():
-            if (unit.factor, unit.offset) == (source.factor, source.offset):
-                out[name] = (inward(lo, up=True), inward(hi, up=False))
-                continue
-            converted = [None if b is None else float(units.from_si(units.to_si(b, self.dimension, given_in),
-                                                                    self.dimension, name)) for b in (lo, hi)]
-            out[name] = (inward(converted[0], up=True), inward(converted[1], up=False))
-        return out
+    def unit_bounds(self, lo, hi, given_in: str) -> dict[str, Range]:
+        """{unit: (lo, hi)}: the range ``lo``..``hi`` (in unit ``given_in``) in every unit of the field, exact.
+
+        Each end is the float end of :func:`service.units.bound_in` (84 852 m is 278385.82677165355 ft),
+        or the short decimal it stands for when that is a few units in the last place away (100 degC
+        is 212 degF); the check uses the same numbers, and the SI values are clipped to the SI range.
+        """
+        si = tuple(None if b is None else float(units.to_si(np.float64(b), self.dimension, given_in))
+                   for b in (lo, hi))
+        return {name: Range(
+            None if si[0] is None else _published(units.bound_in(
+                self.dimension, name, si[0], upper=False, exclusive=self.exclusive_minimum)),
+            None if si[1] is None else _published(units.bound_in(
+                self.dimension, name, si[1], upper=True, exclusive=self.exclusive_maximum)),
+            si) for name in self.dim.units}
 
     def bounds_in(self, unit: str, data) -> tuple[float | None, float | None]:
         """The bounds of a value given in ``unit`` (``data``: the raw request, for subclasses)."""
@@ -280,15 +291,22 @@ class Quantity(Number):
                 raise ma.ValidationError({"value": err.messages}) from None
         else:
             array, is_array = parse_numbers(value, allow_array=self.allow_array)
+        si_lo = si_hi = None
         if self.bounded:
-            lo, hi = self.bounds_in(unit, data)
+            bounds = self.bounds_in(unit, data)
+            lo, hi = bounds
             try:
                 self._check_range(array, lo, hi, lambda: self.describe_range(lo, hi, unit))
             except ma.ValidationError as err:
                 if type(value) is dict:
                     raise ma.ValidationError({"value": err.messages}) from None
                 raise
+            si_lo, si_hi = getattr(bounds, "si", (None, None))
         si = units.to_si(array, self.dimension, unit)
+        if si_hi is not None and not self.exclusive_maximum:
+            si = np.minimum(si, si_hi)
+        if si_lo is not None and not self.exclusive_minimum:
+            si = np.maximum(si, si_lo)
         return Value(np.asarray(si, dtype=np.float64) if is_array else np.float64(si), unit, self.dimension, is_array)
 
 
