@@ -32,6 +32,8 @@ class Value(NamedTuple):
     unit: str | None
     dimension: str | None
     is_array: bool
+    #: The numbers as given, in ``unit`` (for the echo of inputs); None for a dimensionless input (``si``).
+    given: np.ndarray | None = None
 
     @property
     def size(self) -> int:
@@ -307,7 +309,8 @@ class Quantity(Number):
             si = np.minimum(si, si_hi)
         if si_lo is not None and not self.exclusive_minimum:
             si = np.maximum(si, si_lo)
-        return Value(np.asarray(si, dtype=np.float64) if is_array else np.float64(si), unit, self.dimension, is_array)
+        return Value(np.asarray(si, dtype=np.float64) if is_array else np.float64(si), unit, self.dimension, is_array,
+                     array)
 
 
 class OutputUnits(ma.fields.Field):

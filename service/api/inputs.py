@@ -133,6 +133,18 @@ class StrictBoolean(ma.fields.Boolean):
         return value
 
 
+class WholeNumber(ma.fields.Integer):
+    """An integer as JSON Schema has it: 3 or 3.0, never true or "3"."""
+
+    def __init__(self, **kwargs):
+        super().__init__(strict=True, **kwargs)
+
+    def _deserialize(self, value, attr, data, **kwargs):
+        if type(value) is float and value.is_integer():
+            value = int(value)
+        return super()._deserialize(value, attr, data, **kwargs)
+
+
 class ComputeSchema(RuleSchema):
     """Base of every compute request: output units, output selection, grid.
 
@@ -188,7 +200,7 @@ class ComputeSchema(RuleSchema):
         "example": True,
     })
 
-    significant_digits = ma.fields.Integer(strict=True, validate=ma.validate.Range(1, 17), metadata={
+    significant_digits = WholeNumber(validate=ma.validate.Range(1, 17), metadata={
         "description": "Round every number of the answer to this many significant digits (1 to 17), for people "
                        "to read: with 6, 15 degC reads 59 degF and not 58.999999999999986. Default: full "
                        "precision (the nearest double), for machines.",
@@ -248,8 +260,10 @@ class Inputs:
             return self.shape
         if self.grid:
             grids = np.meshgrid(*(v.si for _, v in arrays), indexing="ij", copy=False)
-            for (name, v), g in zip(arrays, grids, strict=False):
-                self.data[name] = v._replace(si=g.ravel())
+            # the numbers as given, crossed alike, for the echo (api.outputs writes them as they are)
+            given = np.meshgrid(*(v.si if v.given is None else v.given for _, v in arrays), indexing="ij", copy=False)
+            for (name, v), g, raw in zip(arrays, grids, given, strict=False):
+                self.data[name] = v._replace(si=g.ravel(), given=None if v.given is None else raw.ravel())
             self.shape = (grids[0].size,)
             return self.shape
         sizes = {name: v.size for name, v in arrays}

@@ -30,6 +30,10 @@ class Leaf(NamedTuple):
 
     si: object
     dimension: str | None = None
+    #: An input echoed: the numbers as the caller gave them, in ``given_unit`` (written as they are, to the
+    #: last bit, when that is the output unit of their dimension).
+    given: object = None
+    given_unit: str | None = None
 
 
 def written_as(dimension: str) -> str:
@@ -156,14 +160,17 @@ class Result:
         """(values in the caller's unit, the unit or None): a Python scalar for one point (plain arithmetic,
         no NumPy call per output), else a C-contiguous array of the points."""
         unit = None if leaf.dimension is None else unit_for(leaf.dimension, self.inputs.output_units)
+        source, convert = leaf.si, unit is not None
+        if leaf.given is not None and leaf.given_unit == unit:  # an input in its output unit: as given
+            source, convert = leaf.given, False
         if self.shape == ():
-            value = leaf.si.item() if hasattr(leaf.si, "item") else leaf.si
-            if unit is not None:
+            value = source.item() if hasattr(source, "item") else source
+            if convert:
                 u = units.DIMENSIONS[written_as(leaf.dimension)].units[unit]
                 if value is not None and (u.factor != 1.0 or u.offset):
                     value = (value - u.offset) / u.factor
         else:
-            si = leaf.si if unit is None else units.from_si(leaf.si, written_as(leaf.dimension), unit)
+            si = units.from_si(source, written_as(leaf.dimension), unit) if convert else source
             value = np.asarray(si)
             if value.shape != self.shape:
                 value = np.broadcast_to(value, self.shape)
@@ -205,8 +212,8 @@ class Result:
     def _input_leaves(self) -> dict:
         """Every numeric input at every point, as outputs (the grid's ``inputs``; the CSV's first columns)."""
         data = self.inputs.data
-        return {name: Leaf(data[name].si, data[name].dimension) for name in self.inputs.axes
-                if hasattr(data.get(name), "si")}
+        return {name: Leaf(data[name].si, data[name].dimension, data[name].given, data[name].unit)
+                for name in self.inputs.axes if hasattr(data.get(name), "si")}
 
     def document(self) -> dict:
         def json_leaf(path, leaf, check=True):
