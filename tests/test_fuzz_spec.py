@@ -91,6 +91,10 @@ INEXPRESSIBLE = [
     # cross within the model's range, a speed beyond the pitot relations, a lift solve without
     # a solution, a result beyond the floating-point range): physics, not the shape of the data.
     ("no solution", lambda doc: doc["type"] == "/problems/no-solution"),
+    # An output_units key must apply to an output of the answer, which depends on `outputs`, the
+    # endpoint's answer tree, grid and Accept: a 422 for a key that applies to nothing.
+    ("output unit for nothing", lambda doc: all(p.startswith("/output_units/") for p in _pointers(doc))
+     and "No output of this answer is" in _messages(doc)),
     # pressure altitude = indicated altitude + H(QNH): each is within its range, their sum may not be.
     ("QNH-corrected altitude out of range",
      lambda doc: _pointers(doc) == {"/altitude"} and "corrected for QNH" in _messages(doc)),

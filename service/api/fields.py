@@ -388,7 +388,7 @@ def named_schemas() -> dict[str, dict]:
         schemas[base] = {"oneOf": [ref("Numbers"), ref(base + "Value")],
                          "description": f"{dim.description}: a number or array in the field's default unit, "
                                         "or {value, unit}."}
-        if dim.output:
+        if dim.output or name == "weight":  # a weight is written as a force or as a mass (api.outputs.unit_for)
             schemas[base + "Out"] = {
                 "type": "object",
                 "properties": {"value": ref("NumbersOut") | {"description": "The number or numbers, in `unit`; "
@@ -396,7 +396,8 @@ def named_schemas() -> dict[str, dict]:
                                "unit": ref(base + "Unit") | {"description": "The unit of `value`."}},
                 "required": ["value", "unit"],
                 "additionalProperties": False,
-                "description": f"{dim.description}, in the unit output_units chose (default {dim.default}).",
+                "description": f"{dim.description}, in the unit output_units chose (default "
+                               f"{units.DIMENSIONS['force' if name == 'weight' else name].default}).",
             }
     schemas["OutputUnits"] = {
         "type": "object",
@@ -406,7 +407,8 @@ def named_schemas() -> dict[str, dict]:
         "additionalProperties": False,
         "description": "Units of the outputs, by dimension; defaults: "
                        + ", ".join(f"{name} {units.DIMENSIONS[name].default}" for name in units.OUTPUT_DIMENSIONS)
-                       + ".",
+                       + ". A weight output is a force (N, or the `force` unit), or a mass (weight / g0) when `mass` "
+                         "is named. A key that applies to no output of the answer is refused (422).",
     }
     return schemas
 

@@ -19,7 +19,7 @@ from werkzeug.datastructures import MIMEAccept
 from service import units
 from service.api.inputs import Inputs
 from service.api.masks import any_true, first_indices
-from service.api.problems import Problem, echo, pointer
+from service.api.problems import Problem, echo, invalid, pointer
 
 _JSON_OPTIONS = orjson.OPT_SERIALIZE_NUMPY
 CSV_MEDIA_TYPE = "text/csv"
@@ -36,15 +36,23 @@ class Leaf(NamedTuple):
     given_unit: str | None = None
 
 
-def written_as(dimension: str) -> str:
-    """The dimension an output is written in: a weight (a mass or a force as input) as a force."""
-    return "force" if dimension == "weight" else dimension
+def chosen_by(dimension: str, chosen: dict) -> str | None:
+    """The ``output_units`` key that sets the unit of an output of ``dimension``; None for its default.
+
+    A weight is written as a mass when ``output_units`` names a mass unit (weight / g0: kg, t, lb),
+    else as a force (``output_units.force``, default N); the ``weight`` dimension holds both kinds of unit.
+    """
+    if dimension == "weight":
+        return "mass" if "mass" in chosen else "force" if "force" in chosen else None
+    return dimension if dimension in chosen else None
 
 
 def unit_for(dimension: str, chosen: dict) -> str:
-    """The output unit of ``dimension``: the caller's choice or the default."""
-    dimension = written_as(dimension)
-    return chosen.get(dimension) or units.DIMENSIONS[dimension].default
+    """The output unit of ``dimension``: the caller's choice or the default (a weight: N)."""
+    key = chosen_by(dimension, chosen)
+    if key is not None:
+        return chosen[key]
+    return units.DIMENSIONS["force" if dimension == "weight" else dimension].default
 
 
 def no_solution(field: str, mask, reason: str) -> Problem:
@@ -106,6 +114,7 @@ class Result:
         self.tree: dict = {}
         self.warnings: list[dict] = []
         self._null_masks: dict[str, object] = {}  # output -> where null_where made it null
+        self._units_used: set = set()  # the output_units keys that set the unit of something written
 
     def wants(self, name: str) -> bool:
         return self.inputs.wants(name)
@@ -160,17 +169,19 @@ class Result:
         """(values in the caller's unit, the unit or None): a Python scalar for one point (plain arithmetic,
         no NumPy call per output), else a C-contiguous array of the points."""
         unit = None if leaf.dimension is None else unit_for(leaf.dimension, self.inputs.output_units)
+        if unit is not None:
+            self._units_used.add(chosen_by(leaf.dimension, self.inputs.output_units))
         source, convert = leaf.si, unit is not None
         if leaf.given is not None and leaf.given_unit == unit:  # an input in its output unit: as given
             source, convert = leaf.given, False
         if self.shape == ():
             value = source.item() if hasattr(source, "item") else source
             if convert:
-                u = units.DIMENSIONS[written_as(leaf.dimension)].units[unit]
+                u = units.DIMENSIONS[leaf.dimension].units[unit]
                 if value is not None and (u.factor != 1.0 or u.offset):
                     value = (value - u.offset) / u.factor
         else:
-            si = units.from_si(source, written_as(leaf.dimension), unit) if convert else source
+            si = units.from_si(source, leaf.dimension, unit) if convert else source
             value = np.asarray(si)
             if value.shape != self.shape:
                 value = np.broadcast_to(value, self.shape)
@@ -258,10 +269,22 @@ class Result:
         return response
 
     def response(self) -> Response:
-        """The answer in the format the client accepts (JSON unless text/csv is preferred)."""
-        if wants_csv():
-            return self.csv_response()
-        return self.json_response()
+        """The answer in the format the client accepts (JSON unless text/csv is preferred); a 422 when an
+        ``output_units`` key applies to nothing written (nothing is silently ignored)."""
+        response = self.csv_response() if wants_csv() else self.json_response()
+        unused = [key for key in self.inputs.output_units if key not in self._units_used]
+        if unused:
+            raise invalid([{"pointer": pointer("output_units", key),
+                            "message": f"No output of this answer is "
+                                       f"{_A_DIMENSION.get(key, 'a ' + key.replace('_', ' '))}: "
+                                       "leave it out, or ask for an output it applies to (`outputs`)."}
+                           for key in unused])
+        return response
+
+
+#: How the 422 for an unused output_units key names the dimension.
+_A_DIMENSION = {"mass": "a mass or a weight", "force": "a force or a weight",
+                "altitude": "an altitude", "angle": "an angle", "area": "an area"}
 
 
 def _csv_text(name: str) -> str:

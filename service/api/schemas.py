@@ -7,7 +7,7 @@ import marshmallow as ma
 
 from service.api.base import WarningSchema
 from service.api.fields import Number, ref, schema_name
-from service.api.outputs import unit_for, written_as
+from service.api.outputs import unit_for
 
 
 class QuantityOut(ma.fields.Field):
@@ -21,7 +21,7 @@ class QuantityOut(ma.fields.Field):
         self.dimension = dimension
 
     def openapi(self):
-        return ref(schema_name(written_as(self.dimension), "Out"))
+        return ref(schema_name(self.dimension, "Out"))
 
 
 class NumberOut(ma.fields.Field):

@@ -69,7 +69,7 @@ _MODEL_RANGE = (f"the model's range ({from_si(H_MIN, 'altitude', 'ft'):.0f} ft t
 
 SOLVE_OUTPUTS = {
     "lift": ("force", "Lift L = n W [N]."),
-    "weight": ("force", "Weight, as a force [N]."),
+    "weight": ("weight", "Weight, as a force [N], or as a mass (weight / g0) when output_units names `mass`."),
     "load_factor": (None, "Load factor n [-]."),
     "bank_angle": ("angle", "Bank angle of the level, coordinated turn with this load factor [deg]; null (with a "
                             "warning) where n < 1."),
