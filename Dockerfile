@@ -29,7 +29,8 @@ print(*p["project"]["dependencies"], *p["build-system"]["requires"], sep="\n")' 
 # .dockerignore lets in only what the wheel is built from. No network from here on.
 COPY . .
 RUN pip wheel --no-index --find-links=/wheels --wheel-dir /wheels --no-deps -c constraints.txt . \
- && cp constraints.txt /wheels/
+ && cp constraints.txt /wheels/ \
+ && cd /wheels && sha256sum *.whl constraints.txt > SHA256SUMS
 
 # --- runtime: the wheel and nothing else ----------------------------------------------------
 FROM ${PYTHON_IMAGE} AS runtime
@@ -39,9 +40,14 @@ ENV PYTHONUNBUFFERED=1 \
     PIP_DISABLE_PIP_VERSION_CHECK=1
 
 # Installed from the builder's wheels only (no index), held to constraints.txt (copied beside
-# them); the wheels are bind-mounted, so they never become a layer of this image.
+# them); the wheels are bind-mounted, so they never become a layer of this image. Their list with
+# hashes stays, as a record of what the image holds, and is checked against the mounted wheels.
+# Copying it also makes new wheels rebuild the install step: podman 4's builder keys its layer
+# cache on copied files, not on what a RUN step mounts (it reused the install of older code).
+COPY --from=builder /wheels/SHA256SUMS /usr/share/qbar/wheels.sha256
 RUN --mount=type=bind,from=builder,source=/wheels,target=/wheels \
-    pip install --no-index --find-links=/wheels -c /wheels/constraints.txt /wheels/qbar-*.whl
+    cd /wheels && sha256sum --check --quiet /usr/share/qbar/wheels.sha256 \
+ && pip install --no-index --find-links=/wheels -c /wheels/constraints.txt /wheels/qbar-*.whl
 
 # A numeric user: Kubernetes' runAsNonRoot can only check a number. The metrics directory is
 # created for a plain `docker run`; on Kubernetes an emptyDir is mounted there.

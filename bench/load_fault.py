@@ -1,10 +1,11 @@
-"""Load and fault run: gunicorn under concurrent mixed load, one worker SIGKILLed, the master reloaded.
+"""Load and fault run: gunicorn under concurrent mixed load, one worker SIGKILLed, the master reloaded,
+then slow clients and oversized errors against the same load.
 
-    /work/venv/bin/python -m bench.load_fault                 # 20000 requests, 8 clients, 4 workers
-    /work/venv/bin/python -m bench.load_fault --requests 1500 # a shorter run
+    .venv/bin/python -m bench.load_fault                 # 20000 requests, 8 clients, 4 workers, phases of 20 s
+    .venv/bin/python -m bench.load_fault --requests 1500 --phase-seconds 8   # a shorter run
 
 qbar runs as in production (``gunicorn -c python:service.gunicorn_conf "service:create_app()"``,
-gthread workers) on a free loopback port; nothing leaves the machine. Client threads (http.client,
+gevent workers) on a free loopback port; nothing leaves the machine. Client threads (http.client,
 one new connection per request, ``Connection: close``) send a fixed mix of single-point requests
 to every compute endpoint and bulk requests (thousands of points, grids). Every answer is compared
 byte for byte with the answer the same request gets in-process through the Flask test client
@@ -19,7 +20,17 @@ Faults, at fixed fractions of the requests sent:
   it started before the kill, ended after it, and no worker logged it (the app writes one access
   line per answered request, with the worker's pid and our X-Request-ID).
 
-Bounded by the number of requests and by --max-seconds. Worker memory (RSS, from /proc) is read
+Then two phases of --phase-seconds each, the client threads sending single-point requests
+throughout (checked byte for byte as above) while:
+
+- slow clients: --slow connections trickle a request head or body a byte every 0.5 s (reopened
+  when the server closes them at its header or body timeout);
+- oversized errors: four more threads send hostile bodies as fast as they are answered (300 000
+  unknown fields, 1 000 000 unknown output names, a 1 MB unit name, JSON nested 100 000 deep), each
+  of which must come back as a 4xx problem document of at most 4 KiB.
+
+For each phase: requests answered and failed, p50/p99, and the peak RSS of the workers (sampled
+every 0.1 s). Bounded by the number of requests and by --max-seconds. Worker memory (RSS, from /proc) is read
 after a warm-up and at the end, and sampled through the run. One connection per request keeps
 each failure attributable: a keep-alive client must also resend on a pooled connection that a
 reloading or dead worker has closed, which is the client's concern, not the server's.
@@ -180,7 +191,115 @@ class Server:
         return out
 
 
-def run(requests: int, clients: int, workers: int, max_seconds: float) -> dict:
+def hostile_bodies() -> list[tuple[str, bytes]]:
+    """(name, body): requests that once made answers of hundreds of MB, a 500 or a stuck worker."""
+    return [
+        ("unknown-fields", json.dumps({"altitude": 1000, **{f"x{i}": 1 for i in range(300_000)}}).encode()),
+        ("unknown-outputs", json.dumps({"altitude": 1000, "outputs": ["nope"] * 1_000_000}).encode()),
+        ("long-unit", json.dumps({"altitude": {"value": 1000, "unit": "k" * 1_000_000}}).encode()),
+        ("deep-nesting", b'{"altitude": ' + b"[" * 100_000 + b"]" * 100_000 + b"}"),
+    ]
+
+
+def phase(server, kind: str, seconds: float, clients: int, mix, bodies, expected, slow: int) -> dict:
+    """One phase: ``clients`` threads of single-point requests, plus slow clients or hostile senders."""
+    port = server.port
+    singles = [i for i, m in enumerate(mix) if m[3] == "single"]
+    stop = threading.Event()
+    lock = threading.Lock()
+    normal, hostile, peaks = [], [], {}
+    deadline = time.monotonic() + seconds
+
+    def send(path, body, headers=None, timeout=60):
+        conn = http.client.HTTPConnection(HOST, port, timeout=timeout)
+        conn.request("POST", path, body=body, headers={"Content-Type": "application/json", "Connection": "close",
+                                                       **(headers or {})})
+        response = conn.getresponse()
+        data = response.read()
+        conn.close()
+        return response.status, response.getheader("Content-Type"), data
+
+    def client(k):
+        n = k
+        while time.monotonic() < deadline:
+            index = singles[n % len(singles)]
+            n += clients
+            t = time.monotonic()
+            try:
+                status, _, data = send(mix[index][1], bodies[index])
+                ok = status == 200 and data == expected[mix[index][0]]
+            except (OSError, http.client.HTTPException):
+                ok = False
+            with lock:
+                normal.append((ok, time.monotonic() - t))
+
+    def hostile_sender(name, body):
+        while time.monotonic() < deadline:
+            t = time.monotonic()
+            try:
+                status, ctype, data = send("/v1/atmosphere", body)
+                ok = 400 <= status < 500 and ctype == "application/problem+json" and len(data) <= 4096
+            except (OSError, http.client.HTTPException):
+                ok = False
+            with lock:
+                hostile.append((ok, time.monotonic() - t))
+
+    def trickler(k):
+        head = (b"POST /v1/atmosphere HTTP/1.1\r\nHost: x\r\nContent-Type: application/json\r\n"
+                b"Content-Length: 18\r\n\r\n")
+        text = head + b'{"altitude": 1000}'
+        start = len(head) if k % 2 else 30  # half trickle their body, half their head
+        while time.monotonic() < deadline:
+            try:
+                sock = socket.create_connection((HOST, port), timeout=30)
+                sock.sendall(text[:start])
+                for byte in text[start:]:
+                    if stop.wait(0.5):
+                        break
+                    sock.sendall(bytes([byte]))
+                sock.close()
+            except OSError:
+                stop.wait(0.2)
+
+    def sampler():
+        while not stop.is_set():
+            for pid in server.worker_pids():
+                rss = rss_mb(pid)
+                if rss is not None:
+                    peaks[pid] = max(peaks.get(pid, 0.0), rss)
+            stop.wait(0.1)
+
+    threads = [threading.Thread(target=client, args=(k,)) for k in range(clients)]
+    if kind == "slow":
+        extra = [threading.Thread(target=trickler, args=(k,), daemon=True) for k in range(slow)]
+    else:
+        extra = [threading.Thread(target=hostile_sender, args=item) for item in hostile_bodies()]
+    helper = threading.Thread(target=sampler)
+    for thread in [helper, *extra, *threads]:
+        thread.start()
+    for thread in threads:
+        thread.join()
+    stop.set()
+    for thread in [helper, *extra]:
+        thread.join(timeout=65)
+
+    def summary(records):
+        times = np.array([t for ok, t in records if ok]) * 1000
+        return {"answered": int(sum(ok for ok, _ in records)), "failed": int(sum(not ok for ok, _ in records)),
+                "p50_ms": round(float(np.percentile(times, 50)), 1) if times.size else None,
+                "p99_ms": round(float(np.percentile(times, 99)), 1) if times.size else None}
+
+    result = {"seconds": seconds, "single_point": summary(normal),
+              "peak_worker_rss_mb": round(max(peaks.values()), 1) if peaks else None}
+    if kind == "slow":
+        result["slow_connections"] = slow
+    else:
+        result["hostile"] = summary(hostile)
+    return result
+
+
+def run(requests: int, clients: int, workers: int, max_seconds: float, phase_seconds: float = 20.0,
+        slow: int = 60) -> dict:
     mix = _mix()
     expected = expected_answers(mix)
     schedule = [i for i, (_, _, _, _, weight) in enumerate(mix) for _ in range(weight)]
@@ -266,12 +385,16 @@ def run(requests: int, clients: int, workers: int, max_seconds: float) -> dict:
         for thread in helpers:
             thread.join()
         end_rss = {pid: rss_mb(pid) for pid in server.worker_pids()}
+        phases = {"slow_clients": phase(server, "slow", phase_seconds, clients, mix, bodies, expected, slow),
+                  "oversized_errors": phase(server, "oversized", phase_seconds, clients, mix, bodies, expected, slow)}
         status = server.stop()
         served = server.served_by()
         errors = server.stderr.read_text(errors="replace")
 
-    return report(records, events, served, start_rss, end_rss, samples, elapsed, requests, clients, workers,
-                  status, errors, t0)
+    result = report(records, events, served, start_rss, end_rss, samples, elapsed, requests, clients, workers,
+                    status, errors, t0)
+    result["phases"] = phases
+    return result
 
 
 def _explain(record, events, served) -> str:
@@ -342,7 +465,7 @@ def _error_lines(stderr: str) -> dict[str, int]:
 
 def print_report(result: dict) -> None:
     r = result
-    print(f"qbar load and fault run: {r['workers']} gunicorn workers (gthread), {r['clients']} client threads, "
+    print(f"qbar load and fault run: {r['workers']} gunicorn workers (gevent), {r['clients']} client threads, "
           f"loopback, {r['seconds']} s")
     print(f"  requests sent        {r['requests_sent']} (planned {r['planned']})")
     print(f"  answered correctly   {r['answered_correctly']} (status 200 and the same bytes as in-process)")
@@ -360,6 +483,14 @@ def print_report(result: dict) -> None:
     print(f"  worker RSS at end    {r['rss_end_mb']} MB")
     print(f"  RSS of each worker sampled over >= {SETTLE_S + 5:.0f} s, {SETTLE_S:.0f} s after its first sample, its "
           f"highest after that and its last [MB, MB, MB, s sampled]: {r['rss_settled_max_last_mb']}")
+    for name, p in r.get("phases", {}).items():
+        extra = (f"{p['slow_connections']} slow connections" if "slow_connections" in p else
+                 f"hostile bodies answered {p['hostile']['answered']}, failed {p['hostile']['failed']}, "
+                 f"p50 {p['hostile']['p50_ms']} ms, p99 {p['hostile']['p99_ms']} ms")
+        single = p["single_point"]
+        print(f"  phase {name} ({p['seconds']:.0f} s, {extra}): single-point answered {single['answered']}, "
+              f"failed {single['failed']}, p50 {single['p50_ms']} ms, p99 {single['p99_ms']} ms; "
+              f"peak worker RSS {p['peak_worker_rss_mb']} MB")
     print(f"  gunicorn exit status {r['gunicorn_exit_status']}; error lines: {r['error_lines'] or 'none'}")
 
 
@@ -369,14 +500,18 @@ def main(argv=None) -> int:
     parser.add_argument("--clients", type=int, default=8)
     parser.add_argument("--workers", type=int, default=4)
     parser.add_argument("--max-seconds", type=float, default=180.0)
+    parser.add_argument("--phase-seconds", type=float, default=20.0, help="length of the slow and oversized phases")
+    parser.add_argument("--slow", type=int, default=60, help="slow connections in the slow-client phase")
     parser.add_argument("--json", action="store_true", help="print the figures as JSON too")
     args = parser.parse_args(argv)
-    result = run(args.requests, args.clients, args.workers, args.max_seconds)
+    result = run(args.requests, args.clients, args.workers, args.max_seconds, args.phase_seconds, args.slow)
     print_report(result)
     if args.json:
         print(json.dumps(result, indent=2))
     unexplained = [f for f in result["failures"] if f["explanation"].startswith("UNEXPLAINED")]
-    return 1 if unexplained else 0
+    phase_failures = sum(p["single_point"]["failed"] + p.get("hostile", {}).get("failed", 0)
+                         for p in result["phases"].values())
+    return 1 if unexplained or phase_failures else 0
 
 
 if __name__ == "__main__":

@@ -48,8 +48,6 @@ def create_app(config: dict | None = None) -> Flask:
         API_TITLE="qbar",
         API_VERSION=__version__,
         OPENAPI_VERSION="3.1.0",
-        OPENAPI_URL_PREFIX="/",
-        OPENAPI_JSON_PATH="openapi.json",
         API_SPEC_OPTIONS={
             "info": {
                 "description": API_DESCRIPTION,

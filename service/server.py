@@ -146,14 +146,15 @@ class DeadlineInput:
         self._seconds = seconds
 
     def _call(self, method, *args):
-        timeout = Problem("request-timeout", f"The body did not arrive within {self._seconds:g} s of the "
-                          "request's head.", headers=CLOSE)
-        remaining = self._deadline - time.monotonic()
-        if remaining <= 0:
-            raise timeout
+        timer = gevent.Timeout(max(self._deadline - time.monotonic(), 0.0))
         try:
-            with gevent.Timeout(remaining, timeout):
+            with timer:
                 return method(*args)
+        except gevent.Timeout as expired:
+            if expired is not timer:
+                raise
+            raise Problem("request-timeout", f"The body did not arrive within {self._seconds:g} s of the request's "
+                          "head.", headers=CLOSE) from None
         except gunicorn_errors.ParseException as error:
             raise Problem("bad-request", f"The body could not be read: {error}.", headers=CLOSE) from None
         except gunicorn_errors.NoMoreData:

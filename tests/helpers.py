@@ -3,6 +3,7 @@
 import gc
 import json
 import sys
+from collections import Counter
 
 PROBLEM = "application/problem+json"
 
@@ -48,4 +49,23 @@ def count_calls(fn) -> int:
     finally:
         sys.setprofile(None)
         gc.callbacks[:] = callbacks
+    return calls
+
+
+def spy(monkeypatch, module, *names) -> Counter:
+    """Count the calls of ``module.<name>`` for each of ``names`` (the original still runs).
+
+    A test that something is not computed asserts the count is zero, and then asks for it and asserts the
+    count grew: should the code stop calling it through ``module`` (a moved import, say), the second half
+    fails, instead of the first passing for the wrong reason.
+    """
+    calls: Counter = Counter()
+    for name in names:
+        original = getattr(module, name)
+
+        def counted(*args, _name=name, _original=original, **kwargs):
+            calls[_name] += 1
+            return _original(*args, **kwargs)
+
+        monkeypatch.setattr(module, name, counted)
     return calls

@@ -25,7 +25,7 @@ from jsonschema import Draft202012Validator
 from service import create_app
 from service.physics import airspeed as spd
 from service.physics import atmosphere as atm
-from tests.helpers import assert_problem, post
+from tests.helpers import assert_problem, post, spy
 
 AIRSPEED, CROSSOVER, SCHEDULE = "/v1/airspeed", "/v1/airspeed/crossover", "/v1/airspeed/schedule"
 API_RTOL = 5e-6
@@ -438,28 +438,27 @@ def test_output_selection(client, path, body, keep):
     assert "valid:" in assert_problem(r, 422, "/outputs/0")["detail"]
 
 
-def _boom(*args, **kwargs):
-    raise AssertionError("computed although nobody asked for it")
-
-
 def test_unrequested_airspeed_physics_does_not_run(client, monkeypatch):
-    for name in ("cas_to_ias", "dynamic_pressure", "eas_from_tas", "tas_from_mach"):
-        monkeypatch.setattr(spd, name, _boom)
-    for name in ("density", "speed_of_sound", "dynamic_viscosity"):
-        monkeypatch.setattr(atm, name, _boom)
-    r = post(client, AIRSPEED, {"cas": [250, 300], "altitude": 10000, "calibration": TQ62,
-                                "outputs": ["mach", "impact_pressure"]})
+    calls = spy(monkeypatch, spd, "cas_to_ias", "dynamic_pressure", "eas_from_tas", "tas_from_mach")
+    calls_atm = spy(monkeypatch, atm, "density", "speed_of_sound")
+    body = {"cas": [250, 300], "altitude": 10000, "calibration": TQ62}
+    r = post(client, AIRSPEED, body | {"outputs": ["mach", "impact_pressure"]})
     assert r.status_code == 200, r.json
     assert list(r.json) == ["mach", "impact_pressure", "warnings"]
+    assert not calls and not calls_atm
+    r = post(client, AIRSPEED, body | {"outputs": ["ias", "dynamic_pressure", "eas", "atmosphere"]})
+    assert r.status_code == 200, r.json
+    assert set(calls) == {"cas_to_ias", "dynamic_pressure", "eas_from_tas", "tas_from_mach"}
+    assert set(calls_atm) == {"density", "speed_of_sound"}
 
 
 def test_unrequested_schedule_physics_does_not_run(client, monkeypatch):
     body = {"cas": 300, "mach": 0.78, "altitude": [10000, 35000]}
-    monkeypatch.setattr(spd, "speed_schedule", _boom)
+    calls = spy(monkeypatch, spd, "speed_schedule", "crossover_altitude")
     assert post(client, SCHEDULE, body | {"outputs": ["crossover_altitude"]}).status_code == 200
-    monkeypatch.undo()
-    monkeypatch.setattr(spd, "crossover_altitude", _boom)
+    assert calls == {"crossover_altitude": 1}
     assert post(client, SCHEDULE, body | {"outputs": ["governing", "tas"]}).status_code == 200
+    assert calls == {"crossover_altitude": 1, "speed_schedule": 1}
 
 
 def test_crossover_pressure_is_computed_once(client, monkeypatch):

@@ -5,7 +5,7 @@ import math
 import numpy as np
 import pytest
 
-from tests.helpers import assert_problem, post
+from tests.helpers import assert_problem, post, spy
 
 ATM = "/v1/atmosphere"
 
@@ -123,13 +123,12 @@ def test_output_selection(client):
 def test_unselected_physics_does_not_run(client, monkeypatch):
     from service.physics import atmosphere as atm
 
-    def boom(*args, **kwargs):
-        raise AssertionError("not asked for")
-
-    monkeypatch.setattr(atm, "dynamic_viscosity", boom)
-    monkeypatch.setattr(atm, "density_altitude", boom)
-    monkeypatch.setattr(atm, "pressure_level_height", boom)
+    calls = spy(monkeypatch, atm, "dynamic_viscosity", "density_altitude", "pressure_level_height", "speed_of_sound")
     assert post(client, ATM, {"altitude": 0, "outputs": ["pressure", "density"]}).status_code == 200
+    assert not calls
+    assert post(client, ATM, {"altitude": 0, "outputs": ["dynamic_viscosity", "density_altitude",
+                                                         "geometric_altitude", "speed_of_sound"]}).status_code == 200
+    assert set(calls) == {"dynamic_viscosity", "density_altitude", "pressure_level_height", "speed_of_sound"}
 
 
 def test_density_altitude_beyond_range_is_null_with_warning(client):

@@ -30,7 +30,7 @@ from aerocalc3 import std_atm as ac_atm
 from hypothesis import HealthCheck, given, settings
 from hypothesis import strategies as st
 
-from tests.helpers import assert_problem, post
+from tests.helpers import assert_problem, post, spy
 
 SOLVE, STALL, CURVE = "/v1/lift/solve", "/v1/lift/stall", "/v1/lift/curve"
 API_RTOL = 5e-6
@@ -592,37 +592,38 @@ def test_output_selection(client):
                                         "outputs": ["colour"]}), 422, "/outputs/0")
 
 
-def _forbid(monkeypatch, module, *names):
-    def boom(*args, **kwargs):
-        raise AssertionError("not asked for")
-
-    for name in names:
-        monkeypatch.setattr(module, name, boom)
-
-
 def test_unrequested_physics_does_not_run(client, monkeypatch):
     from service.physics import airspeed as spd
     from service.physics import atmosphere as atm
     from service.physics import lift as lf
     from service.physics import wing
 
-    _forbid(monkeypatch, atm, "density_altitude", "speed_of_sound")
-    _forbid(monkeypatch, spd, "cas_from_impact_pressure", "tas_from_mach", "eas_from_tas")
-    _forbid(monkeypatch, lf, "bank_from_load_factor", "stall_load_factor", "cl_fraction")
-    _forbid(monkeypatch, wing, "angle_from_cl")
+    watched = {atm: ("density_altitude", "standard_state"),
+               spd: ("cas_from_impact_pressure", "tas_from_mach", "eas_from_tas"),
+               lf: ("bank_from_load_factor", "stall_load_factor", "cl_fraction"), wing: ("angle_from_cl",)}
+    calls = {module: spy(monkeypatch, module, *names) for module, names in watched.items()}
+
+    def ran(path, body) -> set[str]:
+        """The watched functions one request runs."""
+        for counter in calls.values():
+            counter.clear()
+        assert post(client, path, body).status_code == 200
+        return {name for counter in calls.values() for name in counter}
+
     wing_block = {"aspect_ratio": 11, "sweep_half_chord": 0}
-    assert post(client, SOLVE, {"solve_for": "cl", **TQ62, "mach": 0.45, "altitude": 20000, "wing": wing_block,
-                                "outputs": ["cl", "pressure_altitude"]}).status_code == 200
+    solve = {"solve_for": "cl", **TQ62, "mach": 0.45, "altitude": 20000, "wing": wing_block}
+    assert ran(SOLVE, solve | {"outputs": ["cl", "pressure_altitude"]}) == {"standard_state"}
     # with an EAS even the standard atmosphere is not evaluated
-    _forbid(monkeypatch, atm, "standard_state")
-    assert post(client, SOLVE, {"solve_for": "speed", **TQ62, "cl": 0.8, "altitude": 20000,
-                                "outputs": ["eas", "dynamic_pressure"]}).status_code == 200
-    assert post(client, CURVE, {"aspect_ratio": 9, "sweep_half_chord": 0, "mach": 0.5, "cl": 0.5,
-                                "outputs": ["lift_slope"]}).status_code == 200
-    monkeypatch.undo()
-    _forbid(monkeypatch, lf, "stall_load_factor", "cl_fraction", "bank_from_load_factor")
-    assert post(client, STALL, {"weight": 22000, "wing_area": 61, "cl_max": 1.6, "altitude": 0, "eas": 150,
-                                "speed_factors": [1.3], "outputs": ["stall"]}).status_code == 200
+    assert ran(SOLVE, {"solve_for": "speed", **TQ62, "cl": 0.8, "altitude": 20000,
+                       "outputs": ["eas", "dynamic_pressure"]}) == set()
+    assert ran(CURVE, {"aspect_ratio": 9, "sweep_half_chord": 0, "mach": 0.5, "cl": 0.5,
+                       "outputs": ["lift_slope"]}) == set()
+    stall = {"weight": 22000, "wing_area": 61, "cl_max": 1.6, "altitude": 0, "eas": 150, "speed_factors": [1.3]}
+    assert not ran(STALL, stall | {"outputs": ["stall"]}) & {"stall_load_factor", "cl_fraction",
+                                                             "bank_from_load_factor"}
+    # asked for, each runs (so the counts above watch the calls the endpoints make)
+    asked = ran(SOLVE, solve | {"outputs": ["density_altitude", "cas", "tas", "eas", "bank_angle", "angle_of_attack"]})
+    assert asked | ran(STALL, stall | {"outputs": ["margin"]}) == {name for names in watched.values() for name in names}
 
 
 def test_no_nan_anywhere(client):

@@ -9,7 +9,7 @@
 
 The npm packages are pinned in tests/clients/package.json and package-lock.json; ``npm ci`` installs them into
 .cache/clients/ (ignored by git) and again only when the lock file changes. node and npm come from the machine
-(tests/run.sh installs Debian's when they are missing).
+(.ci/run installs Debian's when they are missing).
 """
 
 from __future__ import annotations
@@ -152,7 +152,7 @@ def node_project() -> Path:
     """.cache/clients with the pinned npm packages installed (npm ci when the lock file has changed)."""
     for tool in ("node", "npm"):
         if shutil.which(tool) is None:
-            pytest.fail(f"{tool} is not on PATH: run tests/run.sh, which installs Debian's nodejs and npm")
+            pytest.fail(f"{tool} is not on PATH: run .ci/run, which installs Debian's nodejs and npm")
     CACHE.mkdir(parents=True, exist_ok=True)
     lock = (NODE_PROJECT / "package-lock.json").read_bytes()
     stamp = CACHE / ".installed"

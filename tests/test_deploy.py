@@ -475,7 +475,10 @@ def test_runtime_installs_only_the_wheel_with_the_constraints():
     assert "from=builder,source=/wheels,target=/wheels" in install
     name = tomllib.loads((REPO / "pyproject.toml").read_text(encoding="utf-8"))["project"]["name"]
     assert f"/wheels/{name}-*.whl" in install
-    assert not any(keyword == "COPY" for keyword, _ in runtime_stage()), "the runtime gets no source"
+    copies = [arguments for keyword, arguments in runtime_stage() if keyword == "COPY"]
+    # the runtime gets no source: only the builder's list of wheels with their hashes, checked at install
+    assert copies == ["--from=builder /wheels/SHA256SUMS /usr/share/qbar/wheels.sha256"]
+    assert "sha256sum --check --quiet /usr/share/qbar/wheels.sha256" in install
 
 
 def test_image_command_is_gunicorn_with_the_config_module():

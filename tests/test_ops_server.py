@@ -24,6 +24,7 @@ import urllib.request
 import pytest
 from prometheus_client.parser import text_string_to_metric_families
 
+from service.cli import bind_address
 from tests.live_server import HOST, REPO, free_port, running_gunicorn, server_env
 
 SLOW_CLIENTS = 40  # per kind: header tricklers and body tricklers
@@ -70,6 +71,14 @@ def assert_problem(status, headers, body, expected_status):
 
 # --- slow clients ------------------------------------------------------------------------------
 
+@pytest.fixture(scope="module")
+def live(tmp_path_factory):
+    """One server, one worker, for most tests here: a 10 KiB body limit."""
+    with running_gunicorn(env={"QBAR_MAX_BODY_BYTES": "10240"}, workers=1,
+                          logs=tmp_path_factory.mktemp("live")) as base_url:
+        yield base_url
+
+
 def trickle(base_url, head: bytes, tail: bytes, stop: threading.Event, opened: list):
     """Open a connection, send ``head``, then ``tail`` a byte every 0.2 s until ``stop``."""
     try:
@@ -87,57 +96,65 @@ def trickle(base_url, head: bytes, tail: bytes, stop: threading.Event, opened: l
         pass
 
 
-def test_slow_clients_hold_no_worker(tmp_path):
+def test_slow_clients_hold_no_worker(live):
     """Dozens of connections trickling their head or body leave every other client answered at once."""
-    with running_gunicorn(workers=1, logs=tmp_path) as base_url:
-        stop, opened = threading.Event(), []
-        heads = [(b"POST /v1/atmosphere HTTP/1.1\r\nHost: x\r\nContent-Type: application/json\r\nContent-Len",
-                  b"gth: 18\r\n\r\n" + BODY)] * SLOW_CLIENTS
-        bodies = [(b"POST /v1/atmosphere HTTP/1.1\r\nHost: x\r\nContent-Type: application/json\r\n"
-                   b"Content-Length: 18\r\n\r\n{", BODY[1:])] * SLOW_CLIENTS
-        threads = [threading.Thread(target=trickle, args=(base_url, head, tail, stop, opened), daemon=True)
-                   for head, tail in heads + bodies]
-        for thread in threads:
-            thread.start()
-        try:
-            time.sleep(0.5)
-            assert len(opened) == 2 * SLOW_CLIENTS
-            started = time.monotonic()
-            while time.monotonic() - started < 3.0:  # one worker, 80 slow connections, for 3 s
-                for path, body in (("/v1/health", None), ("/v1/atmosphere", BODY)):
-                    t0 = time.monotonic()
-                    status, _ = post(base_url, path, body, timeout=PROBE_BUDGET) if body else (
-                        urllib.request.urlopen(base_url + path, timeout=PROBE_BUDGET).status, b"")
-                    assert status == 200 and time.monotonic() - t0 < PROBE_BUDGET
-                time.sleep(0.1)
-        finally:
-            stop.set()
-            for sock in opened:
-                sock.close()
+    base_url = live
+    stop, opened = threading.Event(), []
+    heads = [(b"POST /v1/atmosphere HTTP/1.1\r\nHost: x\r\nContent-Type: application/json\r\nContent-Len",
+              b"gth: 18\r\n\r\n" + BODY)] * SLOW_CLIENTS
+    bodies = [(b"POST /v1/atmosphere HTTP/1.1\r\nHost: x\r\nContent-Type: application/json\r\n"
+               b"Content-Length: 18\r\n\r\n{", BODY[1:])] * SLOW_CLIENTS
+    threads = [threading.Thread(target=trickle, args=(base_url, head, tail, stop, opened), daemon=True)
+               for head, tail in heads + bodies]
+    for thread in threads:
+        thread.start()
+    try:
+        time.sleep(0.5)
+        assert len(opened) == 2 * SLOW_CLIENTS
+        started = time.monotonic()
+        while time.monotonic() - started < 3.0:  # one worker, 80 slow connections, for 3 s
+            for path, body in (("/v1/health", None), ("/v1/atmosphere", BODY)):
+                t0 = time.monotonic()
+                status, _ = post(base_url, path, body, timeout=PROBE_BUDGET) if body else (
+                    urllib.request.urlopen(base_url + path, timeout=PROBE_BUDGET).status, b"")
+                assert status == 200 and time.monotonic() - t0 < PROBE_BUDGET
+            time.sleep(0.1)
+    finally:
+        stop.set()
+        for sock in opened:
+            sock.close()
 
 
-def test_a_stalled_head_is_closed_after_the_header_timeout(tmp_path):
-    with running_gunicorn(env={"QBAR_HEADER_TIMEOUT": "1"}, workers=1, logs=tmp_path) as base_url:
-        with socket.create_connection(address(base_url), timeout=5) as sock:
-            sock.sendall(b"POST /v1/atmosphere HTTP/1.1\r\nHost: x\r\n")
-            t0 = time.monotonic()
-            assert sock.recv(100) == b""  # closed, nothing answered
-            assert 0.5 < time.monotonic() - t0 < 3.0
+@pytest.fixture(scope="module")
+def quick(tmp_path_factory):
+    """A server with one-second header and body timeouts."""
+    with running_gunicorn(env={"QBAR_HEADER_TIMEOUT": "1", "QBAR_BODY_TIMEOUT": "1"}, workers=1,
+                          logs=tmp_path_factory.mktemp("quick")) as base_url:
+        yield base_url
 
 
-def test_a_stalled_body_is_a_408_after_the_body_timeout(tmp_path):
-    with running_gunicorn(env={"QBAR_BODY_TIMEOUT": "1"}, workers=1, logs=tmp_path) as base_url:
-        with socket.create_connection(address(base_url), timeout=5) as sock:
-            sock.sendall(b"POST /v1/atmosphere HTTP/1.1\r\nHost: x\r\nContent-Type: application/json\r\n"
-                         b"Content-Length: 18\r\n\r\n{\"alt")
-            t0 = time.monotonic()
-            answer = sock.recv(65536)
-            assert 0.5 < time.monotonic() - t0 < 3.0
-            while chunk := sock.recv(65536):  # then closed by the server
-                answer += chunk
-        head, _, body = answer.partition(b"\r\n\r\n")
-        assert head.startswith(b"HTTP/1.1 408 ") and b"Connection: close" in head
-        assert json.loads(body)["type"] == "/problems/request-timeout"
+def test_a_stalled_head_is_closed_after_the_header_timeout(quick):
+    base_url = quick
+    with socket.create_connection(address(base_url), timeout=5) as sock:
+        sock.sendall(b"POST /v1/atmosphere HTTP/1.1\r\nHost: x\r\n")
+        t0 = time.monotonic()
+        assert sock.recv(100) == b""  # closed, nothing answered
+        assert 0.5 < time.monotonic() - t0 < 3.0
+
+
+def test_a_stalled_body_is_a_408_after_the_body_timeout(quick):
+    base_url = quick
+    with socket.create_connection(address(base_url), timeout=5) as sock:
+        sock.sendall(b"POST /v1/atmosphere HTTP/1.1\r\nHost: x\r\nContent-Type: application/json\r\n"
+                     b"Content-Length: 18\r\n\r\n{\"alt")
+        t0 = time.monotonic()
+        answer = sock.recv(65536)
+        assert 0.5 < time.monotonic() - t0 < 3.0
+        while chunk := sock.recv(65536):  # then closed by the server
+            answer += chunk
+    head, _, body = answer.partition(b"\r\n\r\n")
+    assert head.startswith(b"HTTP/1.1 408 ") and b"Connection: close" in head
+    assert json.loads(body)["type"] == "/problems/request-timeout"
 
 
 # --- the server's own errors ----------------------------------------------------------------------
@@ -173,14 +190,6 @@ def test_a_chunked_body_over_the_limit_is_a_413(live):
     raw = CHUNKED + (b"1000\r\n" + chunk + b"\r\n") * 3 + b"0\r\n\r\n"  # 12 KiB against a 10 KiB limit
     doc = assert_problem(*exchange(live, raw), 413)
     assert doc["limit"] == 10 * 1024
-
-
-@pytest.fixture(scope="module")
-def live(tmp_path_factory):
-    """One server for the error tests: a 10 KiB body limit."""
-    with running_gunicorn(env={"QBAR_MAX_BODY_BYTES": "10240"}, workers=1,
-                          logs=tmp_path_factory.mktemp("live")) as base_url:
-        yield base_url
 
 
 # --- a graceful stop ---------------------------------------------------------------------------------
@@ -238,18 +247,22 @@ def metric_value(base_url, name, labels):
 
 def test_the_metrics_directory_stays_bounded_across_worker_restarts(tmp_path):
     metrics = tmp_path / "metrics"
-    env = {"GUNICORN_CMD_ARGS": "--max-requests 10 --max-requests-jitter 0", "PROMETHEUS_MULTIPROC_DIR": str(metrics)}
+    env = {"GUNICORN_CMD_ARGS": "--max-requests 5 --max-requests-jitter 0", "PROMETHEUS_MULTIPROC_DIR": str(metrics)}
     with running_gunicorn(env=env, workers=2, logs=tmp_path / "logs") as base_url:
         sent = 0
         for _ in range(4):  # a gevent worker notices its max_requests within a second: a batch a second
-            for _ in range(30):
+            for _ in range(15):
                 assert post(base_url)[0] == 200
                 sent += 1
             time.sleep(1.2)
         log = (tmp_path / "logs" / "stderr.log").read_text()
-        assert log.count('"Booting worker') >= 6  # two workers, restarted at least twice each
-        files = sorted(p.name for p in metrics.glob("*.db"))
-        # the live workers' counter and histogram files and one archive of each kind; nothing of the dead
+        assert log.count('"Booting worker') >= 4  # two workers, and restarts
+        deadline = time.monotonic() + 10
+        while True:  # the live workers' counter and histogram files and one archive of each kind
+            files = sorted(p.name for p in metrics.glob("*.db"))
+            if len(files) <= 6 or time.monotonic() > deadline:
+                break
+            time.sleep(0.2)  # a restart under way: its predecessor's files are archived when it has exited
         assert len(files) <= 6 and {"counter_archive.db", "histogram_archive.db"} <= set(files), files
         labels = {"endpoint": "/v1/atmosphere", "method": "POST", "status": "200"}
         assert metric_value(base_url, "qbar_http_requests_total", labels) == sent
@@ -296,13 +309,9 @@ def serve(argv, env, tmp_path):
                             start_new_session=True)
 
 
-@pytest.mark.parametrize("how", ["QBAR_BIND", "--port over QBAR_BIND"])
-def test_qbar_serve_listens_where_qbar_bind_says(tmp_path, how):
-    port, other = free_port(), free_port()
-    if how == "QBAR_BIND":
-        proc = serve([], {"QBAR_BIND": f"{HOST}:{port}"}, tmp_path)
-    else:
-        proc = serve(["--port", str(port)], {"QBAR_BIND": f"{HOST}:{other}"}, tmp_path)
+def test_qbar_serve_listens_where_qbar_bind_says(tmp_path):
+    port = free_port()
+    proc = serve([], {"QBAR_BIND": f"{HOST}:{port}"}, tmp_path)
     try:
         deadline = time.monotonic() + 30
         while True:
@@ -312,9 +321,6 @@ def test_qbar_serve_listens_where_qbar_bind_says(tmp_path, how):
             except OSError:
                 assert time.monotonic() < deadline and proc.poll() is None
                 time.sleep(0.1)
-        if how != "QBAR_BIND":
-            with pytest.raises(OSError):
-                urllib.request.urlopen(f"http://{HOST}:{other}/v1/health", timeout=1)
     finally:
         proc.send_signal(signal.SIGTERM)
         try:
@@ -332,3 +338,15 @@ def test_qbar_serve_refuses_a_bad_bind_with_one_line():
     assert result.returncode != 0 and result.stderr.startswith("QBAR_BIND: expected HOST:PORT")
     assert result.stderr.count("\n") == 1
 
+
+
+@pytest.mark.parametrize(("environ", "flags", "bind"), [
+    ({}, {}, "127.0.0.1:8080"),
+    ({"QBAR_BIND": "0.0.0.0:9000"}, {}, "0.0.0.0:9000"),
+    ({"QBAR_BIND": "0.0.0.0:9000"}, {"port": 8081}, "0.0.0.0:8081"),
+    ({"QBAR_BIND": "0.0.0.0:9000"}, {"host": "127.0.0.2"}, "127.0.0.2:9000"),
+    ({"QBAR_BIND": "[::]:9000"}, {"host": "::1", "port": 8082}, "[::1]:8082"),
+    ({"QBAR_BIND": " "}, {"port": 8083}, "127.0.0.1:8083"),
+])
+def test_qbar_serve_flags_replace_the_parts_of_qbar_bind(environ, flags, bind):
+    assert bind_address(environ, **flags) == bind

@@ -27,7 +27,12 @@ from hypothesis import strategies as st
 
 from service.physics import airspeed as asp
 from service.physics.atmosphere import density, standard_pressure, standard_temperature
-from service.physics.constants import A0, FT, GAMMA, KT, P0, R_AIR, RHO0, T0
+from tests import reference as ref
+
+# Typed from the standard and the unit definitions (tests/reference.py), never imported from the code under test.
+FT, KT = 0.3048, 1852.0 / 3600.0  # international foot, knot (exact)
+GAMMA, P0, R_AIR, T0 = ref.KAPPA, ref.P0, ref.R, ref.T0  # ICAO Doc 7488/3
+A0, RHO0 = ref.A0, ref.RHO0  # sqrt(1.4 R T0) = 340.294 m/s, p0 / (R T0) = 1.225 kg/m3
 
 SHAPES = ("scalar", "1d", "2d")
 AEROCALC_RTOL = 5e-6
@@ -482,3 +487,18 @@ def test_mach_from_cas_ignores_temperature_but_tas_does_not():
     assert asp.mach_from_cas(300 * KT, p) == pytest.approx(ac.cas_alt2mach(300, 30_000), rel=AEROCALC_RTOL)
     ratio = asp.tas_from_mach(0.8, T0 + 30) / asp.tas_from_mach(0.8, T0)
     assert ratio == pytest.approx(math.sqrt((T0 + 30) / T0), rel=1e-15)
+
+
+# Zero speed and zero pressure difference: every relation gives exactly 0, never NaN (a pitot at rest reads 0;
+# the closed forms at M = 0 by hand), on the single-point path (floats) and the array path.
+@pytest.mark.parametrize(("fn", "args"), [
+    (asp.cas_from_impact_pressure, (0.0,)), (asp.impact_pressure_from_cas, (0.0,)),
+    (asp.mach_from_impact_pressure, (0.0, 101_325.0)), (asp.impact_pressure_from_mach, (0.0, 50_000.0)),
+    (asp.mach_from_cas, (0.0, 50_000.0)), (asp.cas_from_mach, (0.0, 50_000.0)), (asp.tas_from_mach, (0.0, 250.0)),
+    (asp.mach_from_tas, (0.0, 250.0)), (asp.eas_from_tas, (0.0, 0.5)), (asp.tas_from_eas, (0.0, 0.5)),
+    (asp.dynamic_pressure, (0.0, 50_000.0)),
+])
+def test_zero_speed_gives_zero_not_nan(fn, args):
+    assert fn(*args) == 0.0
+    out = fn(*(np.array([x, x]) for x in args))
+    np.testing.assert_array_equal(out, [0.0, 0.0])

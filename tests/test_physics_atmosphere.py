@@ -21,22 +21,36 @@ from hypothesis import strategies as st
 
 from bench.atmosphere_physics import ours  # the six properties, as the benchmark computes them
 from service.physics import atmosphere as atm
-from service.physics.constants import (
-    EARTH_RADIUS,
-    G0,
-    H_MAX,
-    H_MIN,
-    LAYER_BASES,
-    LAYER_LAPSE_RATES,
-    P0,
-    R_AIR,
-    T0,
-)
+from service.physics import constants
+from tests import reference as ref
+
+# The standard's constants typed from its text (tests/reference.py, ICAO Doc 7488/3), never imported from the code
+# under test: a wrong constant in service.physics.constants then fails here instead of passing unseen.
+EARTH_RADIUS, G0, P0, R_AIR, T0 = ref.R_EARTH, ref.G0, ref.P0, ref.R, ref.T0
+H_MIN, H_MAX = ref.H_LOW, ref.H_TOP
+LAYER_BASES = tuple(base for base, _ in ref.LAYERS)
+LAYER_LAPSE_RATES = tuple(lapse for _, lapse in ref.LAYERS)
 
 SETTINGS = settings(max_examples=60, deadline=None)
 SHAPES = {"scalar": (), "1-D": (3,), "2-D": (2, 3)}
 H_86KM = EARTH_RADIUS * 86_000.0 / (EARTH_RADIUS + 86_000.0)  # U.S. Std Atm 1976 eq. 18
 altitudes = st.floats(min_value=H_MIN, max_value=H_MAX, allow_nan=False)
+
+
+def test_constants_are_the_standards():
+    # ICAO Doc 7488/3 table A and table D; NIST SP 811 for the units (typed in tests/reference.py).
+    assert (constants.G0, constants.R_AIR, constants.GAMMA, constants.T0, constants.P0) == (
+        9.80665, 287.05287, 1.4, 288.15, 101325.0)
+    assert constants.EARTH_RADIUS == 6_356_766.0
+    assert (constants.SUTHERLAND_BETA, constants.SUTHERLAND_S) == (1.458e-6, 110.4)
+    assert constants.LAYER_BASES == LAYER_BASES and constants.LAYER_LAPSE_RATES == LAYER_LAPSE_RATES
+    assert (constants.H_MIN, constants.H_MAX) == (-5000.0, 84852.0)
+    assert constants.RHO0 == pytest.approx(1.225, abs=1e-6) and constants.A0 == pytest.approx(340.294, abs=1e-3)
+    assert (constants.FT, constants.KT, constants.LB, constants.INHG) == (0.3048, 1852 / 3600, 0.45359237, 3386.389)
+    assert constants.LBF == pytest.approx(4.4482216152605, rel=1e-15)
+    assert constants.PSI == pytest.approx(6894.757293168361, rel=1e-15)
+    assert constants.SLUG == pytest.approx(14.593902937206364, rel=1e-15)
+    assert constants.MILE == pytest.approx(1609.344, rel=1e-15)
 
 
 def shaped(value, shape):

@@ -14,7 +14,13 @@ from hypothesis import strategies as st
 from service.physics import lift
 from service.physics.airspeed import cas_from_mach, dynamic_pressure, mach_from_cas, tas_from_eas, tas_from_mach
 from service.physics.atmosphere import density, pressure_altitude, standard_pressure, standard_state
-from service.physics.constants import FT, H_MAX, H_MIN, KT, LBF, RHO0, SLUG
+from tests import reference as ref
+
+# Typed from the unit definitions and the standard (tests/reference.py), never imported from the code under test.
+FT, KT = 0.3048, 1852.0 / 3600.0  # international foot, knot (exact)
+LBF = 4.4482216152605  # 0.45359237 kg x 9.80665 m/s2 (exact)
+SLUG = 14.593902937206364  # lbf s2 / ft (NIST SP 811: 1.459 390 E+01 kg)
+H_MIN, H_MAX, RHO0 = ref.H_LOW, ref.H_TOP, ref.RHO0
 
 SHAPES = [(), (3,), (2, 3)]
 
@@ -259,3 +265,15 @@ def test_bank_and_stall_round_trips(phi, k):
     # At k times the stall speed the stall load factor is k^2 and the CL fraction 1/k^2.
     assert lift.stall_load_factor(k * 40.0, 40.0) == pytest.approx(k**2, rel=1e-12)
     assert lift.cl_fraction(k) * lift.stall_load_factor(k * 40.0, 40.0) == pytest.approx(1.0, rel=1e-12)
+
+
+def test_zero_dynamic_pressure_gives_zero_speed_not_nan():
+    # V_E = sqrt(2 q / rho0): 0 at q = 0 (by hand), scalar and array; q < 0 has no speed (NaN).
+    assert lift.eas_from_dynamic_pressure(0.0) == 0.0
+    np.testing.assert_array_equal(lift.eas_from_dynamic_pressure(np.array([0.0, 0.0])), [0.0, 0.0])
+    assert lift.dynamic_pressure_from_eas(0.0) == 0.0
+    assert math.isnan(lift.eas_from_dynamic_pressure(-1.0))
+    # The level-turn edges: 0 deg bank is n = 1 exactly, n = 1 is 0 deg, n < 1 has no bank angle.
+    assert lift.load_factor_from_bank(0.0) == 1.0 and lift.bank_from_load_factor(1.0) == 0.0
+    assert math.isnan(lift.bank_from_load_factor(0.999))
+    assert lift.cl_fraction(1.0) == 1.0 and lift.stall_load_factor(0.0, 50.0) == 0.0

@@ -5,8 +5,10 @@
   JSON value at all either loads or is refused with a ValidationError, never another exception.
 - Through the API, at every compute endpoint: any valid request gives 200 with finite numbers
   (a null only where a warning names the output) or, where the primary result does not exist for
-  those values, a 422 no-solution problem; any request with one input replaced by an arbitrary
-  JSON value gives 200 or a 4xx problem document, never a 5xx, never NaN or Infinity in a body.
+  those values, a 422 no-solution problem; the strategies draw mostly answerable requests (by
+  construction from the independent reference, tests/reference.py), at least 80 % answered; any
+  request with one input replaced by an arbitrary JSON value gives 200 or a 4xx problem document,
+  never a 5xx, never NaN or Infinity in a body.
 
 Bounded: max_examples per property (EXAMPLES), derandomized, no deadline.
 """
@@ -27,6 +29,7 @@ from service import units as unit_table
 from service.api import air
 from service.api.fields import Quantity
 from service.api.problems import flatten_messages
+from tests import reference as ref
 from tests.test_bad_inputs import ENDPOINTS
 
 EXAMPLES = 60
@@ -193,25 +196,44 @@ def schedule_request(draw):
             "altitude": draw(quantity(ALTITUDE, size)), **draw(day(size))}
 
 
+KT = 1852.0 / 3600.0  # m/s per knot (exact)
+G0 = 9.80665  # standard gravity (exact)
+
+
 @st.composite
 def crossover_request(draw):
-    return {"cas": draw(st.floats(1e-3, 3000)), "mach": draw(st.floats(1e-3, 5.0))}
+    """A CAS and a Mach number that meet inside the model: mostly drawn from a crossover altitude (by the
+    independent reference), one in eight drawn at random over the fields' whole ranges (often no solution)."""
+    if draw(st.integers(0, 7)) == 0:
+        return {"cas": draw(st.floats(1e-3, 3000)), "mach": draw(st.floats(1e-3, 5.0))}
+    H = draw(st.floats(-4990.0, 84000.0) | st.floats(0.0, 15000.0))
+    mach = draw(st.floats(0.05, 5.0))
+    cas = ref.cas_of_qc(ref.std_tp(H)[1] * ref.pitot_ratio(mach)) / KT
+    if not 1e-3 <= cas <= 3000.0:
+        cas, mach = 290.0, 0.76  # Mach 5 low down is beyond the CAS field: an ordinary climb instead
+    return {"cas": cas, "mach": mach}
 
 
 @st.composite
 def solve_request(draw):
+    """A consistent flight state n W = q S CL (q = 0.7 p M^2, by the independent reference) with one unknown
+    removed: answerable by construction."""
     unknown = draw(st.sampled_from(["cl", "speed", "weight", "wing_area", "load_factor", "altitude"]))
-    known = {"cl": draw(st.floats(0.01, 3.0)), "weight": draw(st.floats(100, 600_000)),
-             "wing_area": draw(st.floats(5, 900)), "altitude": draw(quantity(ALTITUDE, 0)),
-             "mach": draw(st.floats(0.05, 3.0)), **draw(day(0))}
-    if draw(st.booleans()):
-        known["bank_angle"] = draw(quantity(BANK, 0))
+    H = draw(st.floats(-4000.0, 20000.0))
+    mach = draw(st.floats(0.05, 0.95) | st.floats(1.0, 3.0))
+    S, cl = draw(st.floats(5, 900)), draw(st.floats(0.05, 3.0))
+    bank = draw(st.none() | st.floats(0.0, 75.0))
+    n = 1.0 if bank is None or unknown == "load_factor" else 1.0 / math.cos(math.radians(bank))
+    q = 0.7 * ref.std_tp(H)[1] * mach * mach
+    known = {"cl": cl, "weight": q * S * cl / (n * G0), "wing_area": S, "altitude": {"value": H, "unit": "m"},
+             "mach": mach, **draw(day(0))}
+    if bank is not None and unknown != "load_factor":
+        known["bank_angle"] = bank
     if unknown in ("speed", "altitude"):
         known.pop("mach" if unknown == "speed" else "altitude")
         if unknown == "altitude":
             known.pop("isa_deviation", None)
-    elif unknown == "load_factor":
-        known.pop("bank_angle", None)
+            known.pop("temperature", None)
     if unknown not in ("speed", "load_factor", "altitude"):
         known.pop(unknown)
     return {"solve_for": unknown, **known}
@@ -232,9 +254,15 @@ def stall_request(draw):
 
 @st.composite
 def curve_request(draw):
+    """A wing and an angle of attack, or a CL that the wing reaches within +/-30 deg (by the independent DATCOM
+    slope, so that the angle exists)."""
     body = {"aspect_ratio": draw(st.floats(0.1, 40)), "sweep_half_chord": draw(st.floats(-80, 80)),
             "mach": draw(st.floats(0, 0.99)), "cl_max": draw(st.floats(0.5, 3))}
-    body |= ({"cl": draw(st.floats(-2, 2))} if draw(st.booleans()) else {"angle_of_attack": draw(st.floats(-20, 20))})
+    if draw(st.booleans()):
+        slope = ref.datcom_slope(body["aspect_ratio"], math.radians(body["sweep_half_chord"]), body["mach"])
+        body["cl"] = slope * math.radians(draw(st.floats(-30, 30)))
+    else:
+        body["angle_of_attack"] = draw(st.floats(-20, 20))
     return body
 
 
@@ -277,12 +305,19 @@ def test_every_compute_endpoint_has_a_valid_request_strategy():
 
 @pytest.mark.parametrize("path", sorted(VALID))
 def test_valid_requests_give_finite_answers(client, path):
+    statuses = []
+
     @SETTINGS
     @given(VALID[path])
     def check(body):
-        assert_answer(client.post(path, data=json.dumps(body, allow_nan=False), content_type="application/json"))
+        response = client.post(path, data=json.dumps(body, allow_nan=False), content_type="application/json")
+        assert_answer(response)
+        statuses.append(response.status_code)
 
     check()
+    # The strategies draw mostly answerable requests (the crossover's draws one in eight at random, where most
+    # have no solution): at least 80 % of the examples are answers, not no-solution problems.
+    assert statuses.count(200) >= 0.8 * len(statuses), statuses
 
 
 # --- Through the API: invalid requests ----------------------------------------------------------------

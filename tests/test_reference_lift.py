@@ -62,6 +62,9 @@ def _solve_expected(case):
         else:
             if kind == "mach":
                 H = ref.pressure_altitude(q / (0.7 * si * si))  # q = (kappa / 2) p M^2, kappa = 1.4
+            elif kind == "tas" and "T" in case:  # the gas law gives the pressure: p = rho R T
+                H = ref.pressure_altitude(2.0 * q / (si * si) * ref.R * case["T"])
+                dT = case["T"] - ref.std_tp(H)[0]
             elif kind == "tas":
                 rho = 2.0 * q / (si * si)
                 H = brentq(lambda h: _density_off_standard(h, dT) - rho, -5000.0, 84852.0, xtol=1e-10)
@@ -107,7 +110,9 @@ def _solve_body(case):
         body[case["kind"]] = case["speed"]
     if case["solve_for"] != "altitude":
         body["altitude"] = {"value": case["H"], "unit": "m"}
-    if case.get("dT"):
+    if "T" in case:
+        body["temperature"] = {"value": case["T"], "unit": "K"}
+    elif case.get("dT"):
         body["isa_deviation"] = case["dT"]
     if "bank" in case:
         body["bank_angle"] = case["bank"]
@@ -140,6 +145,7 @@ SOLVES = [
     {"solve_for": "load_factor", "mass": 21000.0, "S": 61.0, "cl": 1.2, "kind": "cas", "speed": 100.0, "H": 7620.0},
     {"solve_for": "altitude", "mass": 21000.0, "S": 61.0, "cl": 0.6, "kind": "mach", "speed": 0.45, "dT": 5.0},
     {"solve_for": "altitude", "mass": 21000.0, "S": 61.0, "cl": 0.6, "kind": "tas", "speed": 270.0, "dT": -7.0},
+    {"solve_for": "altitude", "mass": 21000.0, "S": 61.0, "cl": 0.6, "kind": "tas", "speed": 270.0, "T": 240.0},
     {"solve_for": "altitude", "mass": 21000.0, "S": 61.0, "cl": 0.6, "kind": "cas", "speed": 190.0, "dT": 12.0},
 ]
 
@@ -421,3 +427,24 @@ def test_curve_typed_values():
     # = 4.5287 per rad (the formula worked by hand).
     assert ref.datcom_slope(6.0, 0.0, 0.0) == pytest.approx(2 * math.pi * 6 / (2 + math.sqrt(40)), rel=1e-15)
     assert ref.datcom_slope(6.0, 0.0, 0.0) == pytest.approx(4.5287, abs=1e-4)
+
+
+def test_solve_from_an_ias_through_the_calibration_table(client):
+    # IAS 150 kt lies halfway between the rows 100 -> 102 and 200 -> 201: CAS 151.5 kt (by hand), then as a CAS.
+    answer = post_ok(client, "/v1/lift/solve", {
+        "solve_for": "cl", "weight": 21000, "wing_area": 61, "ias": [150, 250],
+        "calibration": {"ias": [100, 200, 300], "cas": [102, 201, 298]}, "altitude": 4000, "isa_deviation": -6})
+    rows = [_solve_expected({"solve_for": "cl", "mass": 21000.0, "S": 61.0, "kind": "cas", "speed": v, "H": 1219.2,
+                             "dT": -6.0}) for v in (151.5, 249.5)]
+    _compare_solve(answer, {k: [r[k] for r in rows] for k in rows[0]})
+
+
+@pytest.mark.parametrize("qnh", [985.0, 1013.25, 1035.0])
+def test_stall_at_an_indicated_altitude_with_qnh(client, qnh):
+    # The air at indicated 6000 ft on QNH: pressure altitude 6000 ft + H(QNH); OAT 20 degC.
+    H = 6000 * FT + ref.pressure_altitude(qnh * 100.0)
+    dT = 293.15 - ref.std_tp(H)[0]
+    answer = post_ok(client, "/v1/lift/stall", {"weight": 22000, "wing_area": 61, "cl_max": 1.6, "altitude": 6000,
+                                                "qnh": qnh, "temperature": 20, "bank_angle": 30})
+    expected = _stall_expected(22000 * G0, 61.0, 1.6, H, dT, 1 / math.cos(math.radians(30)))
+    _compare_stall(answer, [expected])

@@ -17,7 +17,7 @@ from service.api.masks import any_true, first_indices
 from service.api.problems import invalid
 from service.api.rules import Given, Never, NotTogether, Rule, Unit
 from service.physics import atmosphere as atm
-from service.physics.constants import H_MAX, H_MIN, P0, RHO0, T0
+from service.physics.constants import H_MAX, H_MIN
 from service.units import from_si
 
 #: Bounds of the ISA deviation [K]: wider than any observed atmosphere, and narrow enough
@@ -96,8 +96,7 @@ class _KindRange(Rule):
                 "then": {"properties": {name: quantity_schema(self.field, self.field.geometric_bounds)}},
                 "else": {"properties": {name: quantity_schema(self.field, self.field.bounds)}}}
 
-    def check(self, data):
-        return {}
+    check = None  # the field checks it
 
 
 def altitude_field(description: str, required: bool = True, example=None) -> Altitude:
@@ -163,7 +162,7 @@ class Air:
     def T(self):
         if "_T" in self.__dict__:
             return self._T
-        return self.T_std + self.dT if self._dT is not None else self.T_std
+        return self.T_std if self._dT is None else atm.temperature_from_deviation(self.H, self._dT, self.T_std)
 
     @lazy
     def dT(self):
@@ -197,17 +196,13 @@ class Air:
     def geometric_altitude(self):
         return atm.pressure_level_height(self.H, self.dT, self.p)  # the standard state already evaluated
 
-    @property
-    def delta(self):
-        return self.p / P0
+    @lazy
+    def _ratios(self):
+        return atm.ratios(self.p, self.T, self.rho)
 
-    @property
-    def theta(self):
-        return self.T / T0
-
-    @property
-    def sigma(self):
-        return self.rho / RHO0
+    delta = property(lambda self: self._ratios[0], doc="Pressure ratio p / p0 [-].")
+    theta = property(lambda self: self._ratios[1], doc="Temperature ratio T / T0 [-].")
+    sigma = property(lambda self: self._ratios[2], doc="Density ratio rho / rho0 [-].")
 
 
 def check_altitude_range(H, field: str, what: str = "pressure altitude") -> None:

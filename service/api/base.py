@@ -16,6 +16,7 @@ from service.api import fields, problems
 from service.api.inputs import BodyParser
 from service.api.problems import PROBLEM_MEDIA_TYPE
 from service.api.rules import schema_rules
+from service.api.spec import JSON_MEDIA_TYPE
 from service.api.spec import complete as complete_spec
 
 #: The problem responses every compute endpoint can give (documented with Blueprint.problems).
@@ -27,11 +28,18 @@ class Blueprint(flask_smorest.Blueprint):
 
     ARGUMENTS_PARSER = BodyParser()
 
+    def response(self, status_code, schema=None, *, content_type=JSON_MEDIA_TYPE, **kwargs):
+        """flask-smorest's response(), answering application/json (the Api's default media type is the
+        problem documents')."""
+        return super().response(status_code, schema, content_type=content_type, **kwargs)
+
     def problems(self, *statuses: int):
         """Document the problem responses ``statuses`` of a view (components in the spec)."""
 
         def decorator(func):
-            # Documentation only: unlike alt_response, no wrapper is added to the call path.
+            # Documentation only. flask-smorest's public ways (alt_response, doc) each wrap the view, a Python
+            # call per request per status; this writes the same entry its own decorators write (_apidoc).
+            # tests/test_spec_complete.py pins the result: every compute operation lists COMPUTE_PROBLEMS.
             func._apidoc = deepcopy(getattr(func, "_apidoc", {}))
             responses = func._apidoc.setdefault("response", {}).setdefault("responses", {})
             for status in statuses:
@@ -56,7 +64,7 @@ class WarningSchema(ma.Schema):
 
 
 class ProblemSchema(ma.Schema):
-    """RFC 9457 problem document."""
+    """RFC 9457 problem document. Bounded: see service.api.problems.BOUNDS."""
 
     type = ma.fields.String(required=True, metadata={
         "description": "Stable URI of the problem kind, e.g. /problems/validation (GET it for a description)."})
@@ -66,7 +74,9 @@ class ProblemSchema(ma.Schema):
     instance = ma.fields.String(metadata={"description": "The path of the request that failed.",
                                           "example": "/v1/atmosphere"})
     errors = ma.fields.List(ma.fields.Nested(ErrorItemSchema), metadata={
-        "description": "For invalid input: each offending value with a pointer into the request."})
+        "description": "For invalid input: each offending value with a pointer into the request. " + problems.BOUNDS})
+    errors_omitted = ma.fields.Integer(metadata={
+        "description": f"How many further errors were found beyond the {problems.MAX_ERRORS} listed.", "example": 3})
     request_id = ma.fields.String(metadata={"description": "The request id (X-Request-ID) for support."})
     limit = ma.fields.Integer(metadata={"description": "For 413: the limit that was exceeded."})
     acceptable = ma.fields.List(ma.fields.String(), metadata={
@@ -99,14 +109,28 @@ class MarshmallowPlugin(_MarshmallowPlugin):
 
 
 class Api(flask_smorest.Api):
-    """flask-smorest Api answering every error with a problem document, publishing the completed spec."""
+    """flask-smorest Api answering every error with a problem document, publishing the completed spec.
+
+    Configured through flask-smorest's public hooks: the marshmallow plugin (spec_kwargs), the error schema
+    and its media type for the lazily registered error responses (ERROR_SCHEMA, DEFAULT_RESPONSE_CONTENT_TYPE;
+    our Blueprint says application/json for its answers), our error handlers registered after flask-smorest's
+    (Flask keeps the last one per class), and /openapi.json served by our own rule (OPENAPI_URL_PREFIX unset:
+    flask-smorest serves nothing).
+    """
 
     ERROR_SCHEMA = ProblemSchema
     DEFAULT_ERROR_RESPONSE_NAME = None
+    DEFAULT_RESPONSE_CONTENT_TYPE = PROBLEM_MEDIA_TYPE
 
-    def __init__(self, *args, **kwargs):
+    def init_app(self, app, *, spec_kwargs=None):
         self._spec_dict = None
-        super().__init__(*args, **kwargs)
+        super().init_app(app, spec_kwargs={"marshmallow_plugin": MarshmallowPlugin(), **(spec_kwargs or {})})
+        self.ma_plugin.converter.add_attribute_function(fields.field_to_properties)
+        for name, component in fields.named_schemas().items():  # the dimensions' types the fields refer to
+            self.spec.components.schema(name, component=component)
+        self.spec.components.schema("Warning", schema=WarningSchema)
+        problems.register(app)
+        app.add_url_rule("/openapi.json", "openapi_json", self.openapi_json)
 
     def spec_dict(self) -> dict:
         """The published spec: apispec's document completed by service.api.spec (computed examples, CSV,
@@ -115,34 +139,7 @@ class Api(flask_smorest.Api):
             self._spec_dict = complete_spec(self._app, self.spec.to_dict())
         return self._spec_dict
 
-    def _openapi_json(self):
+    def openapi_json(self):
+        """GET /openapi.json: the published spec."""
         return flask.current_app.response_class(
             flask.json.dumps(self.spec_dict(), indent=2, sort_keys=False), mimetype="application/json")
-
-    def _register_pagination_header(self):
-        """Nothing: qbar does not paginate (flask-smorest would add an unused PaginationMetadata schema)."""
-
-    def _register_etag_headers(self):
-        """Nothing: qbar's answers carry no ETag."""
-
-    def _register_error_handlers(self):
-        problems.register(self._app)
-
-    def _init_spec(self, *args, **kwargs):
-        kwargs.setdefault("marshmallow_plugin", MarshmallowPlugin())
-        super()._init_spec(*args, **kwargs)
-        self.ma_plugin.converter.add_attribute_function(fields.field_to_properties)
-
-    def _register_responses(self):
-        for name, component in fields.named_schemas().items():
-            self.spec.components.schema(name, component=component)
-        self.spec.components.schema("Problem", schema=ProblemSchema)
-        self.spec.components.schema("Warning", schema=WarningSchema)
-        for status in http.HTTPStatus:
-            if status < 400:
-                continue
-            response = {
-                "description": status.phrase,
-                "content": {PROBLEM_MEDIA_TYPE: {"schema": {"$ref": "#/components/schemas/Problem"}}},
-            }
-            self.spec.components.response(status.name, response, lazy=True)

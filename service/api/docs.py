@@ -123,7 +123,7 @@ def page():
         "init": "init.js",
     }
     values = {key: asset_url(name) for key, name in links.items()}
-    values.update(caution=service.CAUTION, spec=flask.url_for("api-docs.openapi_json"))
+    values.update(caution=service.CAUTION, spec=flask.url_for("openapi_json"))
     response = flask.Response(PAGE.format(**{k: html.escape(v) for k, v in values.items()}), mimetype="text/html")
     response.cache_control.no_cache = True
     return response

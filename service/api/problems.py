@@ -126,7 +126,8 @@ class Problem(Exception):
             if omitted:
                 doc["errors_omitted"] = omitted
         doc.update(self.extra)
-        doc["detail"] = bounded(self.detail)
+        detail = str(self.detail)  # built from bounded messages (invalid) or by the code: only cut here
+        doc["detail"] = encodable(detail if len(detail) <= MAX_TEXT else detail[:MAX_TEXT - 3] + "...")
         request_id = g.get("request_id") if g else None
         if request_id:
             doc["request_id"] = request_id
@@ -221,24 +222,37 @@ def flatten_messages(messages, prefix: str = "") -> ErrorList:
     """Turn marshmallow's nested error messages into a list of {pointer, message}.
 
     ``_schema`` entries point at the object that holds them. At most MAX_ERRORS entries are
-    made; the rest are only counted (``omitted``).
+    made; the rest are only counted (``omitted``), without building their pointers.
     """
     out = ErrorList()
-    stack = [(prefix, messages)]
-    while stack:
-        where, node = stack.pop()
-        if isinstance(node, dict):
-            items = list(node.items())
-            for key, value in reversed(items):
-                stack.append((where if key == ma.exceptions.SCHEMA else where + "/" + escape_pointer_token(key),
-                              value))
-        elif isinstance(node, (list, tuple)):
-            stack.extend((where, value) for value in reversed(node))
-        elif len(out) < MAX_ERRORS:
-            out.append({"pointer": where, "message": str(node)})
-        else:
-            out.omitted += 1
+    _flatten(messages, prefix, out)
     return out
+
+
+def _flatten(node, where: str, out: ErrorList) -> None:
+    if isinstance(node, dict):
+        for key, value in node.items():
+            if len(out) >= MAX_ERRORS:
+                out.omitted += _leaves(value)
+            else:
+                _flatten(value, where if key == ma.exceptions.SCHEMA else where + "/" + escape_pointer_token(key), out)
+    elif isinstance(node, (list, tuple)):
+        for value in node:
+            if len(out) >= MAX_ERRORS:
+                out.omitted += _leaves(value)
+            else:
+                _flatten(value, where, out)
+    else:
+        out.append({"pointer": where, "message": str(node)})
+
+
+def _leaves(node) -> int:
+    """How many messages ``node`` (nested dicts and lists of messages) holds."""
+    if isinstance(node, dict):
+        node = node.values()
+    elif not isinstance(node, (list, tuple)):
+        return 1
+    return sum(1 if isinstance(value, str) else _leaves(value) for value in node)
 
 
 def invalid(errors: dict | list, detail: str | None = None, slug: str = "validation") -> Problem:

@@ -15,11 +15,7 @@
    (stdout): method, path, status, duration_ms, points, request_id, remote_addr. Never a
    header value other than the request id, so keys cannot reach the log.
 
-Metrics (prometheus-client): requests by endpoint (the URL rule, not the raw path, so that
-the number of series stays bounded), method and status; latency by endpoint; points
-computed by endpoint. With ``PROMETHEUS_MULTIPROC_DIR`` set (gunicorn's workers) the values
-live in that directory and ``/metrics`` adds up every worker's files; otherwise (tests, a
-single process) each app has its own registry.
+Metrics: service.api.metrics.
 """
 
 from __future__ import annotations
@@ -32,18 +28,10 @@ import re
 import sys
 from time import perf_counter
 
-from flask import Flask, Response, current_app, g, has_request_context, request
+from flask import Flask, Response, g, has_request_context, request
 from flask_cors import CORS
-from prometheus_client import (
-    CONTENT_TYPE_LATEST,
-    CollectorRegistry,
-    Counter,
-    Histogram,
-    disable_created_metrics,
-    generate_latest,
-)
-from prometheus_client import multiprocess as prometheus_multiprocess
 
+from service.api.metrics import METRICS_DIR_VARIABLE, Metrics, metrics_view
 from service.api.problems import Problem
 from service.logs import JsonFormatter
 
@@ -84,9 +72,6 @@ CORS_ALLOW_HEADERS = ("Authorization", API_KEY_HEADER, "Content-Type", REQUEST_I
 CORS_EXPOSE_HEADERS = (REQUEST_ID_HEADER,)
 CORS_MAX_AGE = 600  # seconds a browser may cache a preflight answer
 
-#: Latency buckets [s]: a single point takes about a millisecond, 200 000 points about a second.
-LATENCY_BUCKETS = (0.001, 0.0025, 0.005, 0.01, 0.025, 0.05, 0.1, 0.25, 0.5, 1.0, 2.5, 5.0, 10.0)
-METRICS_DIR_VARIABLE = "PROMETHEUS_MULTIPROC_DIR"
 UNMATCHED = "(unmatched)"  # the endpoint label of a path no route matches (404, 405)
 _METHODS = frozenset({"GET", "HEAD", "POST", "PUT", "PATCH", "DELETE", "OPTIONS"})
 
@@ -170,73 +155,6 @@ def authenticate(keyring: KeyRing, environ) -> None:
 def is_protected(rule: str) -> bool:
     """Whether the URL rule ``rule`` needs a key when keys are configured."""
     return rule.startswith(PROTECTED_PREFIX) and rule not in OPEN_PATHS
-
-
-# --- metrics -------------------------------------------------------------------------------
-
-class Metrics:
-    """The service's Prometheus metrics.
-
-    ``multiprocess``: the values live in PROMETHEUS_MULTIPROC_DIR (prometheus-client's
-    multiprocess mode, chosen by that variable when prometheus-client is imported); the
-    metrics are then registered nowhere, and each scrape collects every process's files.
-    Otherwise they belong to a registry of their own, one per app.
-    """
-
-    def __init__(self, multiprocess: bool):
-        # No *_created series (process-wide): the multiprocess mode has none, so both modes agree.
-        disable_created_metrics()
-        self.multiprocess = multiprocess
-        self.registry = None if multiprocess else CollectorRegistry()
-        self.requests = Counter(
-            "qbar_http_requests", "HTTP requests answered, by endpoint (URL rule), method and status.",
-            ("endpoint", "method", "status"), registry=self.registry)
-        self.latency = Histogram(
-            "qbar_http_request_duration_seconds", "Time from the request's arrival in the app to its answer [s].",
-            ("endpoint",), buckets=LATENCY_BUCKETS, registry=self.registry)
-        self.points = Counter(
-            "qbar_points_computed", "Points computed by successful compute requests.",
-            ("endpoint",), registry=self.registry)
-        self._children: dict[tuple, tuple] = {}
-
-    def observe(self, endpoint: str, method: str, status: int, seconds: float, points: int | None) -> None:
-        """Count one answered request."""
-        key = (endpoint, method, status)
-        children = self._children.get(key)
-        if children is None:
-            children = (self.requests.labels(endpoint, method, str(status)),
-                        self.latency.labels(endpoint), self.points.labels(endpoint))
-            self._children[key] = children
-        requests, latency, computed = children
-        requests.inc()
-        latency.observe(seconds)
-        if points and status < 400:
-            computed.inc(points)
-
-    def exposition(self) -> bytes:
-        """The metrics in the Prometheus text format.
-
-        Multiprocess: every file of the directory, read afresh. The master folds a dead worker's
-        files into an archive (service.server.archive_dead_worker); a file that goes between the
-        directory listing and its reading is read again from a new listing.
-        """
-        if not self.multiprocess:
-            return generate_latest(self.registry)
-        for attempt in range(3):
-            registry = CollectorRegistry()
-            prometheus_multiprocess.MultiProcessCollector(registry)
-            try:
-                return generate_latest(registry)
-            except FileNotFoundError:
-                if attempt == 2:
-                    raise
-        raise AssertionError("not reached")
-
-
-def metrics_view():
-    """GET /metrics: the Prometheus text format."""
-    body = current_app.extensions["qbar.metrics"].exposition()
-    return Response(body, status=200, content_type=CONTENT_TYPE_LATEST)
 
 
 # --- logs ----------------------------------------------------------------------------------

@@ -47,6 +47,8 @@ class Given:
     def __init__(self, *names: str, value: dict | None = None, inside: dict | None = None,
                  any_of: tuple[str, ...] = (), all_of: tuple[Given, ...] = ()):
         self.names, self.value, self.inside, self.any_of, self.all_of = names, value or {}, inside or {}, any_of, all_of
+        #: Fields every request that meets the condition gives.
+        self.needs = frozenset((*names, *self.inside, *(n for c in all_of for n in c.needs)))
 
     def schema(self) -> dict:
         schema = _required(self.names) if self.names else {}
@@ -60,11 +62,21 @@ class Given:
         return schema
 
     def holds(self, data) -> bool:
-        return (all(name in data for name in self.names)
-                and all(_value_of(data[name]) == v for name, v in self.value.items())
-                and all(name in data and cond.holds(data[name] or {}) for name, cond in self.inside.items())
-                and (not self.any_of or any(name in data for name in self.any_of))
-                and all(cond.holds(data) for cond in self.all_of))
+        if not data.keys() >= self.needs:  # the common case, in C
+            return False
+        for name, value in self.value.items():
+            loaded = data[name]
+            if (getattr(loaded, "unit", None) if isinstance(value, Unit) else loaded) != value:
+                return False
+        for name, cond in self.inside.items():
+            if not cond.holds(data[name] or {}):
+                return False
+        if self.any_of and data.keys().isdisjoint(self.any_of):
+            return False
+        for cond in self.all_of:
+            if not cond.holds(data):
+                return False
+        return True
 
     def fields(self) -> tuple[str, ...]:
         return (*self.names, *self.inside, *self.any_of, *(n for c in self.all_of for n in c.fields()))
@@ -80,15 +92,17 @@ def _value_schema(value) -> dict:
     return {"const": value}
 
 
-def _value_of(loaded):
-    unit = getattr(loaded, "unit", None)
-    return Unit(unit) if unit is not None else loaded
-
-
 # --- rules -----------------------------------------------------------------------------------------
 
+#: What a check returns when the rule holds (shared: never written to).
+HOLDS: dict = {}
+
+
 class Rule:
-    """A rule over the fields ``names`` of one schema: ``spec()`` for the spec, ``check(data)`` for the 422."""
+    """A rule over the fields ``names`` of one schema: ``spec()`` for the spec, ``check(data)`` for the 422.
+
+    Checks run on every request: the common case (the rule holds) costs a set operation or two.
+    """
 
     names: tuple[str, ...] = ()
 
@@ -104,7 +118,7 @@ class NotTogether(Rule):
     """At most one of ``names``; ``message(given)`` (or the text) on each field given."""
 
     def __init__(self, *names: str, message: Message | None = None, why: str = ""):
-        self.names = names
+        self.names, self.name_set = names, frozenset(names)
         self.message = message or (f"Give either {names[0]} or {names[1]}, not both." + (f" {why}" if why else ""))
 
     def spec(self) -> dict:
@@ -113,8 +127,10 @@ class NotTogether(Rule):
         return {"oneOf": [NoneOf(*self.names).spec(), *(_required([name]) for name in self.names)]}
 
     def check(self, data):
+        if len(data.keys() & self.name_set) < 2:
+            return HOLDS
         given = [name for name in self.names if name in data]
-        return {name: _say(self.message, given) for name in given} if len(given) > 1 else {}
+        return {name: _say(self.message, given) for name in given}
 
 
 class ExactlyOne(NotTogether):
@@ -128,7 +144,7 @@ class ExactlyOne(NotTogether):
         return {"oneOf": [_required([name]) for name in self.names]}
 
     def check(self, data):
-        if not any(name in data for name in self.names):
+        if data.keys().isdisjoint(self.name_set):
             return {"_schema": self.missing}
         return super().check(data)
 
@@ -145,6 +161,8 @@ class NoneOf(Rule):
         return {"not": {"anyOf": [_required([name]) for name in self.names]}}
 
     def check(self, data):
+        if data.keys().isdisjoint(self.names):
+            return HOLDS
         return {name: _say(self.message, name) for name in self.names if name in data}
 
 
@@ -152,15 +170,15 @@ class Needs(Rule):
     """Where ``name`` is given, so is each of ``needed``; else ``messages``: {field: text}."""
 
     def __init__(self, name: str, *needed: str, messages: dict[str, str]):
-        self.names, self.needed, self.messages = (name, *needed), needed, messages
+        self.names, self.needed, self.messages = (name, *needed), frozenset(needed), messages
 
     def spec(self):
-        return {"if": _required(self.names[:1]), "then": _required(self.needed)}
+        return {"if": _required(self.names[:1]), "then": _required(self.names[1:])}
 
     def check(self, data):
-        if self.names[0] in data and not all(name in data for name in self.needed):
-            return dict(self.messages)
-        return {}
+        if self.names[0] in data and not data.keys() >= self.needed:
+            return self.messages
+        return HOLDS
 
 
 class Never(Rule):
@@ -174,7 +192,7 @@ class Never(Rule):
         return {"not": self.when.schema()}
 
     def check(self, data):
-        return {self.field: self.message} if self.when.holds(data) else {}
+        return {self.field: self.message} if self.when.holds(data) else HOLDS
 
 
 class OutputNeeds(Rule):
@@ -190,9 +208,9 @@ class OutputNeeds(Rule):
                 "then": self.then.schema()}
 
     def check(self, data):
-        wanted = data.get("outputs") or ()
-        if self.output not in wanted or self.then.holds(data):
-            return {}
+        wanted = data.get("outputs")
+        if not wanted or self.output not in wanted or self.then.holds(data):
+            return HOLDS
         return {"outputs": {i: self.message for i, name in enumerate(wanted) if name == self.output}}
 
 
@@ -260,12 +278,12 @@ class RuleSchema(ma.Schema):
 
     @ma.validates_schema
     def _check_rules(self, data, **kwargs):
-        rules = self.__dict__.get("_rules")
-        if rules is None:
-            rules = self.__dict__["_rules"] = schema_rules(self)
+        checks = self.__dict__.get("_checks")
+        if checks is None:  # once per schema instance; a rule the fields check themselves has check None
+            checks = self.__dict__["_checks"] = [rule.check for rule in schema_rules(self) if rule.check]
         errors: dict = {}
-        for rule in rules:
-            for key, message in rule.check(data).items():
+        for check in checks:
+            for key, message in check(data).items():
                 if isinstance(message, dict):  # {index: message} of a list field (outputs)
                     for index, text in message.items():
                         errors.setdefault(key, {}).setdefault(index, [text])

@@ -154,6 +154,7 @@ def complete(app: Flask, generated: dict) -> dict:
     spec = copy.deepcopy(generated)
     components = spec.setdefault("components", {})
     schemas = components.get("schemas", {})
+    schemas.pop("PaginationMetadata", None)  # flask-smorest registers it with every Api; qbar does not paginate
     components.setdefault("headers", {}).update(copy.deepcopy(HEADERS))
     filler = _Filler(schemas)
 

@@ -58,6 +58,7 @@ from typing import NamedTuple
 
 import numpy as np
 
+from . import single_point as one
 from .arrays import any_true, result
 from .atmosphere import density, pressure_altitude, speed_of_sound
 from .constants import A0, GAMMA, P0, RHO0
@@ -112,30 +113,6 @@ def _nan_where(mask, x):
     return np.where(mask, np.nan, x) if any_true(mask) else x
 
 
-def _scalar(*xs) -> bool:
-    """True when every argument is one number (the single-point path: plain Python floats)."""
-    return all(type(x) is float or type(x) is np.float64 for x in xs)
-
-
-def _ratio_from_mach_one(M: float) -> float:
-    """:func:`_ratio_from_mach` for one float (the same two relations)."""
-    if not M >= 0.0:
-        return math.nan
-    M2 = M * M
-    if M > 1.0:
-        return _K * M2**_E / (_C * M2 - 1.0) ** (_E - 1.0) - 1.0
-    return math.expm1(_E * math.log1p(_HALF_GM1 * M2))
-
-
-def _mach_from_ratio_one(r: float) -> float:
-    """:func:`_mach_from_ratio` for one float (the same closed form and Newton iteration)."""
-    if not (r >= 0.0 and r < math.inf):
-        return math.nan
-    if r > _RATIO_SONIC:
-        return _newton_supersonic_one(r)
-    return math.sqrt(math.expm1(math.log1p(r) / _E) / _HALF_GM1)
-
-
 def _ratio_from_mach(M):
     """Impact pressure over static pressure, qc/p, for Mach M [-] (NaN for M < 0)."""
     M = np.asarray(M, dtype=float)
@@ -181,10 +158,10 @@ def _newton_supersonic(r):
     with M for M >= 1, from the large-Mach asymptote M = sqrt((1 + r) / (K c^(1-E))),
     which lies above the root. Each step is clamped at M = 1; points whose last step
     is still above ``NEWTON_RTOL * M`` after ``NEWTON_MAX_ITER`` steps are NaN. A single
-    point runs the same iteration on a Python float (no per-call array overhead).
+    point runs the same iteration on a Python float (service.physics.single_point).
     """
     if r.size == 1:
-        return np.array([_newton_supersonic_one(float(r[0]))])
+        return np.array([one.newton_supersonic(float(r[0]))])
     target = np.log1p(r) - _LN_K
     M = np.maximum(np.sqrt((1.0 + r) / _ASYMPTOTE), 1.0)
     converged = np.zeros(M.shape, dtype=bool)
@@ -195,18 +172,6 @@ def _newton_supersonic(r):
         if converged.all():
             break
     return np.where(converged, M, np.nan)
-
-
-def _newton_supersonic_one(r):
-    """:func:`_newton_supersonic` for one float (same start, step, clamp, tolerance and cap)."""
-    target = math.log1p(r) - _LN_K
-    M = max(math.sqrt((1.0 + r) / _ASYMPTOTE), 1.0)
-    for _ in range(NEWTON_MAX_ITER):
-        M_new = max(M - _newton_step(M, target, math.log), 1.0)
-        if abs(M_new - M) <= NEWTON_RTOL * M_new:
-            return M_new
-        M = M_new
-    return math.nan
 
 
 def impact_pressure_from_mach(mach, p):
@@ -252,8 +217,8 @@ def impact_pressure_from_mach(mach, p):
     .. [1] NACA Report 1135, 1953.
     .. [2] ICAO Doc 7488/3, 1993.
     """
-    if _scalar(mach, p):
-        return np.float64(_ratio_from_mach_one(float(mach)) * float(p))
+    if one.is_one(mach, p):
+        return np.float64(one.ratio_from_mach(float(mach)) * float(p))
     return result(_ratio_from_mach(mach) * np.asarray(p, dtype=float))
 
 
@@ -299,8 +264,8 @@ def mach_from_impact_pressure(qc, p):
     ----------
     .. [1] NACA Report 1135, 1953.
     """
-    if _scalar(qc, p):
-        return np.float64(_mach_from_ratio_one(float(qc) / float(p)) if p > 0.0 else math.nan)
+    if one.is_one(qc, p):
+        return np.float64(one.mach_from_ratio(float(qc) / float(p)) if p > 0.0 else math.nan)
     p = np.asarray(p, dtype=float)
     return result(_mach_from_ratio(np.asarray(qc, dtype=float) / np.where(p > 0.0, p, np.nan)))
 
@@ -345,8 +310,8 @@ def impact_pressure_from_cas(cas):
     .. [1] NACA Report 1135, 1953.
     .. [2] ICAO Doc 7488/3, 1993.
     """
-    if _scalar(cas):
-        return np.float64(_ratio_from_mach_one(float(cas) / A0) * P0)
+    if one.is_one(cas):
+        return np.float64(one.ratio_from_mach(float(cas) / A0) * P0)
     return result(_ratio_from_mach(np.asarray(cas, dtype=float) / A0) * P0)
 
 
@@ -385,8 +350,8 @@ def cas_from_impact_pressure(qc):
     .. [1] NACA Report 1135, 1953.
     .. [2] ICAO Doc 7488/3, 1993.
     """
-    if _scalar(qc):
-        return np.float64(A0 * _mach_from_ratio_one(float(qc) / P0))
+    if one.is_one(qc):
+        return np.float64(A0 * one.mach_from_ratio(float(qc) / P0))
     return result(A0 * _mach_from_ratio(np.asarray(qc, dtype=float) / P0))
 
 

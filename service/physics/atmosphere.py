@@ -37,6 +37,7 @@ import math
 
 import numpy as np
 
+from . import single_point as one
 from .arrays import flat, shaped
 from .constants import (
     EARTH_RADIUS,
@@ -318,7 +319,7 @@ def standard_state(H):
        1976, eqs. 23, 33a, 33b.
     """
     if type(H) is float or type(H) is np.float64:
-        return _standard_state_scalar(float(H))
+        return one.standard_state(float(H))
     H, shape = flat(H)
     T, log_p, k = _temperature_log_pressure(H)
     p = np.exp(log_p, out=log_p)
@@ -329,20 +330,6 @@ def standard_state(H):
 #: The lookup table as Python tuples (hb, tb, L, pb, K_log, K_lin) for the single-point path.
 _SCALAR_LAYERS = tuple(zip(*(table.tolist() for table in (_LUT_HB, _LUT_TB, _LUT_L, _LUT_PB, _LUT_K_LOG, _LUT_K_LIN)),
                            strict=True))
-
-
-def _standard_state_scalar(H: float) -> tuple[np.float64, np.float64]:
-    """standard_state for one point: the same formula in plain Python (no NumPy call per
-    operation, which for one point costs more than the arithmetic)."""
-    if H != H:
-        return np.float64(np.nan), np.float64(np.nan)
-    k = min(max(int((H - H_MIN) / _LUT_STEP), 0), int(_LUT_LAST))
-    hb, tb, lapse, pb, k_log, k_lin = _SCALAR_LAYERS[k]
-    dH = H - hb
-    T = tb + lapse * dH
-    if T <= 0.0:
-        return np.float64(T), np.float64(np.nan)
-    return np.float64(T), np.float64(pb * math.exp(k_log * math.log(T / tb) + k_lin * dH))
 
 
 def standard_temperature(H):
@@ -774,7 +761,7 @@ def qnh_offset(qnh):
 # Off-standard days
 # --------------------------------------------------------------------------------------------
 
-def temperature_from_deviation(H, dT):
+def temperature_from_deviation(H, dT, T_std=None):
     """Temperature on a day with ISA deviation ``dT``: standard temperature plus ``dT``.
 
     Parameters
@@ -783,6 +770,9 @@ def temperature_from_deviation(H, dT):
         Pressure altitude (geopotential) [m]; callers check the range.
     dT : float or array_like
         ISA deviation [K].
+    T_std : float or array_like, optional
+        The standard temperature at ``H`` when the caller has it already [K] (the layers are then not
+        evaluated again).
 
     Returns
     -------
@@ -803,7 +793,7 @@ def temperature_from_deviation(H, dT):
     ----------
     .. [1] ICAO Doc 7488/3 (1993).
     """
-    return np.add(standard_temperature(H), dT)
+    return np.add(standard_temperature(H) if T_std is None else T_std, dT)
 
 
 def pressure_level_height(H, dT, p=None):

@@ -1,0 +1,95 @@
+"""Contracts every physics function keeps, whatever its formula (the modules' docstrings state them):
+
+- "a scalar or an array of any shape": Python ints and lists of ints give the same float64 results as floats;
+- values that do not exist are NaN, returned quietly (no RuntimeWarning: the service turns warnings into log noise
+  and the suite into errors), on the single-point path and the array path.
+
+Expected values come from the independent reference (tests/reference.py) where a value is checked.
+"""
+
+import math
+import warnings
+
+import numpy as np
+import pytest
+
+from service.physics import airspeed as asp
+from service.physics import atmosphere as atm
+from service.physics import lift, wing
+from tests import reference as ref
+
+#: (function, integral arguments): every public relation with arguments that are whole numbers.
+INTEGRAL = [
+    (atm.geopotential_altitude, (3000,)), (atm.geometric_altitude, (3000,)), (atm.standard_state, (3000,)),
+    (atm.standard_temperature, (12000,)), (atm.standard_pressure, (25000,)), (atm.standard_density, (40000,)),
+    (atm.density, (90000, 280)), (atm.speed_of_sound, (250,)), (atm.dynamic_viscosity, (250,)),
+    (atm.kinematic_viscosity, (250, 1)), (atm.ratios, (50000, 250, 1)), (atm.pressure_altitude, (50000,)),
+    (atm.density_altitude, (1,)), (atm.qnh_offset, (99000,)), (atm.temperature_from_deviation, (3000, 15)),
+    (atm.pressure_level_height, (3000, 15)),
+    (asp.impact_pressure_from_mach, (2, 30000)), (asp.mach_from_impact_pressure, (40000, 30000)),
+    (asp.impact_pressure_from_cas, (150,)), (asp.cas_from_impact_pressure, (20000,)),
+    (asp.mach_from_cas, (150, 30000)), (asp.cas_from_mach, (2, 30000)), (asp.tas_from_mach, (2, 250)),
+    (asp.mach_from_tas, (300, 250)), (asp.eas_from_tas, (200, 1)), (asp.tas_from_eas, (200, 1)),
+    (asp.dynamic_pressure, (1, 30000)), (asp.crossover_pressure, (150, 1)), (asp.crossover_altitude, (150, 1)),
+    (lift.load_factor_from_bank, (1,)), (lift.bank_from_load_factor, (2,)),
+    (lift.lift_coefficient, (200000, 2, 5000, 60)), (lift.required_dynamic_pressure, (200000, 2, 60, 1)),
+    (lift.weight_supported, (5000, 60, 1, 2)), (lift.wing_area_required, (200000, 2, 5000, 1)),
+    (lift.load_factor_supported, (5000, 60, 1, 200000)), (lift.eas_from_dynamic_pressure, (5000,)),
+    (lift.dynamic_pressure_from_eas, (90,)), (lift.pressure_for_mach, (5000, 1)), (lift.density_for_tas, (5000, 90)),
+    (lift.pressure_for_density, (1, 250)), (lift.pressure_altitude_for_density, (1, 10)),
+    (lift.pressure_altitude_for_cas, (5000, 90)), (lift.stall_eas, (200000, 60, 2, 2)),
+    (lift.scale_stall_eas, (50, 180000, 200000, 2)), (lift.stall_load_factor, (90, 60)), (lift.cl_fraction, (2,)),
+    (wing.lift_slope, (8, 0, 0, 1)), (wing.kappa_from_section_slope, (6,)), (wing.cl_from_angle, (1, 5, 0)),
+    (wing.angle_from_cl, (1, 5, 0)),
+]
+
+
+def _floats(args):
+    return tuple(float(a) for a in args)
+
+
+def _flat(result):
+    parts = result if isinstance(result, tuple) else (result,)
+    return [np.asarray(p) for p in parts]
+
+
+@pytest.mark.parametrize(("fn", "args"), INTEGRAL, ids=[f.__module__.rsplit(".", 1)[1] + "." + f.__name__
+                                                        for f, _ in INTEGRAL])
+def test_int_inputs_give_the_float_results(fn, args):
+    expected = _flat(fn(*_floats(args)))
+    for given in (args, tuple([a, a] for a in args), tuple(np.array([a, a]) for a in args)):
+        got = _flat(fn(*given))
+        assert len(got) == len(expected)
+        for g, e in zip(got, expected, strict=True):
+            assert g.dtype == np.float64, (fn.__name__, g.dtype)
+            np.testing.assert_allclose(g.reshape(-1), np.broadcast_to(e, g.shape).reshape(-1), rtol=1e-15)
+
+
+def test_int_inputs_check_a_value():
+    # One value by the independent reference, so the comparison above is not of two wrong answers.
+    assert asp.tas_from_mach(2, 250) == pytest.approx(2 * math.sqrt(ref.KAPPA * ref.R * 250), rel=1e-15)
+    assert lift.pressure_for_density(1, 250) == pytest.approx(ref.R * 250, rel=1e-15)
+    assert lift.cl_fraction(2) == 0.25 and lift.stall_load_factor(90, 60) == 2.25
+
+
+#: (function, arguments where the value does not exist): the result is NaN, without a warning.
+NO_VALUE = [
+    (atm.pressure_altitude, (0.01,)), (atm.pressure_altitude, (-5.0,)), (atm.density_altitude, (0.0,)),
+    (atm.density_altitude, (10.0,)), (atm.qnh_offset, (1.0e6,)),
+    (asp.mach_from_impact_pressure, (-1.0, 30000.0)), (asp.impact_pressure_from_mach, (-0.5, 30000.0)),
+    (asp.cas_from_impact_pressure, (-1.0,)), (asp.impact_pressure_from_cas, (-1.0,)),
+    (asp.crossover_altitude, (0.5, 0.9)), (asp.crossover_pressure, (100.0, 0.0)),
+    (lift.bank_from_load_factor, (0.5,)), (lift.eas_from_dynamic_pressure, (-1.0,)),
+    (lift.scale_stall_eas, (50.0, -180000.0, 200000.0, 1.0)), (lift.pressure_altitude_for_density, (10.0, 0.0)),
+    (lift.pressure_altitude_for_density, (1.0, -200.0)), (lift.pressure_altitude_for_cas, (1.0e7, 50.0)),
+    (wing.lift_slope, (8.0, 0.0, 1.0, 1.0)), (wing.lift_slope, (8.0, 0.0, 1.5, 1.0)),
+]
+
+
+@pytest.mark.parametrize(("fn", "args"), NO_VALUE, ids=[f"{f.__name__}{a}" for f, a in NO_VALUE])
+def test_no_value_is_a_quiet_nan(fn, args):
+    with warnings.catch_warnings():
+        warnings.simplefilter("error")
+        single = fn(*args)
+        array = fn(*(np.array([a, a]) for a in args))
+    assert np.isnan(single) and np.all(np.isnan(array)), (single, array)

@@ -1,0 +1,82 @@
+"""Each rule over several fields is declared once and yields both its JSON Schema (the spec's allOf) and its
+check (the 422): over random requests, the spec's verdict and the check's agree, for every request schema."""
+
+from __future__ import annotations
+
+import functools
+
+import jsonschema
+import pytest
+from hypothesis import given, settings
+from hypothesis import strategies as st
+
+from service.api.airspeed import AirspeedRequest, CrossoverRequest, ScheduleRequest
+from service.api.atmosphere import AtmosphereRequest
+from service.api.fields import Value
+from service.api.lift.curve import LiftCurveRequest
+from service.api.lift.solve import UNKNOWNS, LiftSolveRequest, LiftWingSchema
+from service.api.lift.stall import LiftStallRequest
+from service.api.rules import NotTogether, RuleSchema, schema_rules
+
+SCHEMAS = [AtmosphereRequest, AirspeedRequest, CrossoverRequest, ScheduleRequest, LiftSolveRequest,
+           LiftStallRequest, LiftCurveRequest, LiftWingSchema]
+
+
+def _value(unit):
+    """A loaded quantity as a check sees it."""
+    return Value(1.0, unit, "altitude", False)
+
+
+#: Per field, the (raw JSON, loaded) forms a request may give (absent is always possible).
+FORMS = {
+    "altitude": [(5000, _value("ft")), ({"value": 300, "unit": "FL"}, _value("FL"))],
+    "altitude_kind": [("pressure", "pressure"), ("geometric", "geometric")],
+    "wing": [({}, {}), ({"cl_max": 1.6}, {"cl_max": 1.6})],
+    "solve_for": [(unknown, unknown) for unknown in UNKNOWNS],
+}
+
+
+def _request(schema: RuleSchema, draw) -> tuple[dict, dict]:
+    """A random request over the fields the schema's rules name: (raw JSON, loaded data)."""
+    rules = schema_rules(schema)
+    names = sorted({name for rule in rules for name in _fields(rule)} - {"outputs"})
+    raw, loaded = {}, {}
+    for name in names:
+        if name == "solve_for" or draw(st.booleans()):
+            raw[name], loaded[name] = draw(st.sampled_from(FORMS.get(name, [(1.0, 1.0)])))
+    if "altitude_kind" in schema.fields and "altitude_kind" not in loaded:
+        loaded["altitude_kind"] = "pressure"  # its load_default
+    outputs = list(getattr(schema, "OUTPUTS", ()))
+    if outputs and draw(st.booleans()):
+        raw["outputs"] = loaded["outputs"] = draw(st.lists(st.sampled_from(outputs), min_size=1, max_size=3))
+    return raw, loaded
+
+
+def _fields(rule):
+    names = set(rule.names)
+    for _, (required, _, rules) in getattr(rule, "cases", {}).items():
+        names |= set(required) | {name for inner in rules for name in _fields(inner)}
+    return names
+
+
+@functools.cache
+def _schema_and_validator(schema_class):
+    schema = schema_class()
+    return schema, jsonschema.Draft202012Validator({"allOf": [rule.spec() for rule in schema_rules(schema)]})
+
+
+@pytest.mark.parametrize("schema_class", SCHEMAS, ids=lambda c: c.__name__)
+@settings(max_examples=100, deadline=None)
+@given(data=st.data())
+def test_spec_and_check_agree(schema_class, data):
+    schema, validator = _schema_and_validator(schema_class)
+    rules = schema_rules(schema)
+    raw, loaded = _request(schema, data.draw)
+    by_spec = validator.is_valid(raw)
+    errors = {key: message for rule in rules if rule.check for key, message in rule.check(loaded).items()}
+    assert by_spec == (not errors), (raw, errors)
+
+
+def test_a_rule_applies_only_where_its_fields_are():
+    assert NotTogether("load_factor", "bank_angle") not in schema_rules(AtmosphereRequest())
+    assert all(set(rule.names) <= set(AtmosphereRequest().fields) for rule in schema_rules(AtmosphereRequest()))
