@@ -58,6 +58,13 @@ for _name, _rules in GENERATED_WITHOUT.items():
     _schema = GENERATION_SPEC["components"]["schemas"][_name]
     assert all(rule in _schema["allOf"] for rule in _rules), f"{_name}: a rule left out is no longer in the spec"
     _schema["allOf"] = [rule for rule in _schema["allOf"] if rule not in _rules]
+# The per-unit ranges of the {value, unit} form (conditionals beside a dimension's $ref) together with a
+# request's rules are more than schemathesis's generator takes (UnsupportedSchema for the endpoints with
+# five speed fields): data is generated without them, and valid_by_spec still judges it by the whole spec.
+for _schema in GENERATION_SPEC["components"]["schemas"].values():
+    for _prop in _schema.get("properties", {}).values():
+        if "$ref" in _prop and all("if" in c for c in _prop.get("allOf", [{}])):
+            _prop.pop("allOf", None)
 schema = schemathesis.openapi.from_dict(GENERATION_SPEC, config=schemathesis.Config.from_dict(CONFIG))
 
 
