@@ -29,8 +29,8 @@ from tests.helpers import assert_problem, post, spy
 
 AIRSPEED, CROSSOVER, SCHEDULE = "/v1/airspeed", "/v1/airspeed/crossover", "/v1/airspeed/schedule"
 API_RTOL = 5e-6
-#: Our demo type NR-200 (invented operator Northwind Regional): IAS -> CAS calibration [kt].
-NR200 = {"ias": [120, 160, 200, 240, 280, 320], "cas": [123, 162, 201, 240, 278.5, 317], "unit": "kt"}
+#: Our demo type TQ-62 (invented operator Tavrenne Regional): IAS -> CAS calibration [kt].
+TQ62 = {"ias": [120, 160, 200, 240, 280, 320], "cas": [123, 162, 201, 240, 278.5, 317], "unit": "kt"}
 KT = 1852 / 3600
 FT = 0.3048
 
@@ -225,7 +225,7 @@ def test_units_in_and_out(client):
 
 def test_ias_through_the_calibration_table(client):
     doc = post(client, AIRSPEED, {"ias": [250, 120, 320], "altitude": {"value": 330, "unit": "FL"},
-                                  "isa_deviation": 15, "calibration": NR200}).json
+                                  "isa_deviation": 15, "calibration": TQ62}).json
     # linear interpolation by hand: 240 + (250 - 240) (278.5 - 240) / (280 - 240); the end rows exactly
     np.testing.assert_allclose(values(doc, "cas"), [249.625, 123, 317], rtol=1e-12)
     np.testing.assert_allclose(values(doc, "ias"), [250, 120, 320], rtol=1e-12)
@@ -236,13 +236,13 @@ def test_ias_through_the_calibration_table(client):
 
 
 def test_calibration_in_another_unit(client):
-    table = {"ias": [v * 1.852 for v in NR200["ias"]], "cas": [v * 1.852 for v in NR200["cas"]], "unit": "km/h"}
+    table = {"ias": [v * 1.852 for v in TQ62["ias"]], "cas": [v * 1.852 for v in TQ62["cas"]], "unit": "km/h"}
     doc = post(client, AIRSPEED, {"ias": 250, "altitude": 0, "calibration": table}).json
     assert doc["cas"]["value"] == pytest.approx(249.625, rel=1e-12)
 
 
 def test_ias_output_null_with_warning_outside_the_table(client):
-    doc = post(client, AIRSPEED, {"cas": [100, 200, 400, 317], "altitude": 5000, "calibration": NR200}).json
+    doc = post(client, AIRSPEED, {"cas": [100, 200, 400, 317], "altitude": 5000, "calibration": TQ62}).json
     assert doc["ias"]["value"][0] is None and doc["ias"]["value"][2] is None
     # inverse interpolation by hand: 200 + (200 - 201) / (240 - 201) * 40; the last row exactly
     assert doc["ias"]["value"][1] == pytest.approx(200 - 40 / 39, rel=1e-12)
@@ -255,10 +255,10 @@ def test_ias_output_null_with_warning_outside_the_table(client):
 
 
 def test_ias_outside_the_table_is_422(client):
-    r = post(client, AIRSPEED, {"ias": [200, 110], "altitude": 0, "calibration": NR200})
+    r = post(client, AIRSPEED, {"ias": [200, 110], "altitude": 0, "calibration": TQ62})
     doc = assert_problem(r, 422, "/ias")
     assert "IAS column, 120 to 320 kt at points [1]; nothing is extrapolated" in doc["detail"]
-    one = assert_problem(post(client, AIRSPEED, {"ias": 330, "altitude": 0, "calibration": NR200}), 422, "/ias")
+    one = assert_problem(post(client, AIRSPEED, {"ias": 330, "altitude": 0, "calibration": TQ62}), 422, "/ias")
     assert "120 to 320 kt; nothing" in one["detail"]
 
 
@@ -301,7 +301,7 @@ def test_none_or_two_speeds(client):
     ({"cas": 0, "altitude": 0}, "/cas"),
     ({"eas": -50, "altitude": 0}, "/eas"),
     ({"tas": [100, 0], "altitude": 0}, "/tas/1"),
-    ({"ias": {"value": -1, "unit": "kt"}, "altitude": 0, "calibration": NR200}, "/ias/value"),
+    ({"ias": {"value": -1, "unit": "kt"}, "altitude": 0, "calibration": TQ62}, "/ias/value"),
     ({"cas": 3001, "altitude": 0}, "/cas"),
     ({"cas": {"value": 100, "unit": "knots"}, "altitude": 0}, "/cas/unit"),
     ({"mach": 0, "altitude": 0}, "/mach"),
@@ -400,7 +400,7 @@ def test_grid_crossover_and_schedule(client):
 
 
 def test_csv_header_units_and_dotted_names(client):
-    body = {"cas": [250, 330], "altitude": {"value": [100, 300], "unit": "FL"}, "calibration": NR200}
+    body = {"cas": [250, 330], "altitude": {"value": [100, 300], "unit": "FL"}, "calibration": TQ62}
     r = post(client, AIRSPEED, body, headers={"Accept": "text/csv"})
     assert r.status_code == 200 and r.mimetype == "text/csv"
     rows = list(csv.reader(io.StringIO(r.get_data(as_text=True))))
@@ -441,7 +441,7 @@ def test_output_selection(client, path, body, keep):
 def test_unrequested_airspeed_physics_does_not_run(client, monkeypatch):
     calls = spy(monkeypatch, spd, "cas_to_ias", "dynamic_pressure", "eas_from_tas", "tas_from_mach")
     calls_atm = spy(monkeypatch, atm, "density", "speed_of_sound")
-    body = {"cas": [250, 300], "altitude": 10000, "calibration": NR200}
+    body = {"cas": [250, 300], "altitude": 10000, "calibration": TQ62}
     r = post(client, AIRSPEED, body | {"outputs": ["mach", "impact_pressure"]})
     assert r.status_code == 200, r.json
     assert list(r.json) == ["mach", "impact_pressure", "warnings"]
@@ -613,9 +613,9 @@ def test_documented_problem_statuses(client, path, body):
     assert_problem(post(client, path, body, headers={"Accept": "image/png"}), 406)
     assert_problem(post(client, path, [body]), 422, "")
     assert_problem(client.get(path), 405)
-    keyed = create_app({"TESTING": True, "QBAR_API_KEYS": "nr-ops-key-0123456789abcdef"}).test_client()
+    keyed = create_app({"TESTING": True, "QBAR_API_KEYS": "tav-ops-key-0123456789abcdef"}).test_client()
     assert_problem(post(keyed, path, body), 401)
-    assert post(keyed, path, body, headers={"X-API-Key": "nr-ops-key-0123456789abcdef"}).status_code == 200
+    assert post(keyed, path, body, headers={"X-API-Key": "tav-ops-key-0123456789abcdef"}).status_code == 200
 
 
 def test_point_limit_is_a_413(app):
@@ -638,7 +638,7 @@ def spec_validator(client, path):
 
 
 @pytest.mark.parametrize(("path", "body"), [
-    (AIRSPEED, {"cas": [100, 280], "altitude": 10000, "calibration": NR200}),
+    (AIRSPEED, {"cas": [100, 280], "altitude": 10000, "calibration": TQ62}),
     (AIRSPEED, {"mach": 1.6, "altitude": {"value": 450, "unit": "FL"}, "grid": True}),
     (CROSSOVER, {"cas": [280, 300], "mach": 0.78, "grid": True}),
     (SCHEDULE, {"cas": [600, 300], "mach": [0.5, 0.78], "altitude": 10000}),

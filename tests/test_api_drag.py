@@ -22,7 +22,7 @@ CP1 = {"weight": {"value": 2950, "unit": "lb"}, "wing_area": {"value": 174, "uni
        "aspect_ratio": 7.37, "oswald_efficiency": 0.8}
 CJ1 = {"weight": {"value": 19815, "unit": "lb"}, "wing_area": {"value": 318, "unit": "ft2"}, "cd0": 0.02,
        "aspect_ratio": 53.3**2 / 318, "oswald_efficiency": 0.81}
-NR200 = {"weight": 21000, "wing_area": 61, "cd0": 0.024, "aspect_ratio": 11, "oswald_efficiency": 0.78}
+TQ62 = {"weight": 21000, "wing_area": 61, "cd0": 0.024, "aspect_ratio": 11, "oswald_efficiency": 0.78}
 
 
 def test_anderson_cp1_thrust_required(client):
@@ -62,7 +62,7 @@ def test_anderson_cp1_glide_from_10000_ft(client):
 def test_characteristic_speeds_closed_forms(client):
     # Closed forms (Anderson, chapter 6): V_mp / V_md = 3^(-1/4) = 0.759836, (L/D)_mp = 0.866025 (L/D)max; the EAS
     # of minimum drag sqrt(2 W / (rho0 S CL)) with CL = sqrt(CD0 / k), k = 1 / (pi A e); sink = TAS sin(gamma).
-    doc = post(client, "/v1/drag/speeds", NR200 | {"altitude": {"value": 250, "unit": "FL"}, "isa_deviation": 5,
+    doc = post(client, "/v1/drag/speeds", TQ62 | {"altitude": {"value": 250, "unit": "FL"}, "isa_deviation": 5,
                                                    "output_units": {"speed": "m/s", "vertical_speed": "m/s"}}).json
     md, mp, bg = doc["minimum_drag"], doc["minimum_power"], doc["best_glide"]
     k = 1 / (math.pi * 11 * 0.78)
@@ -81,7 +81,7 @@ def test_characteristic_speeds_closed_forms(client):
 
 def test_drag_from_cl_and_from_the_speed_agree(client):
     # The same point from the CL, or from the EAS that CL gives: the same drag (and a level turn: n = 1/cos 30).
-    base = NR200 | {"altitude": 12000, "temperature": -10, "bank_angle": 30}
+    base = TQ62 | {"altitude": 12000, "temperature": -10, "bank_angle": 30}
     by_cl = post(client, "/v1/drag", base | {"cl": 0.7}).json
     by_eas = post(client, "/v1/drag", base | {"eas": by_cl["eas"]}).json
     for name in ("cl", "cd", "lift_to_drag"):
@@ -94,8 +94,8 @@ def test_drag_from_cl_and_from_the_speed_agree(client):
 def test_induced_drag_factor_or_aspect_ratio(client):
     # k = 1 / (pi A e) given directly gives the same answer.
     k = 1 / (math.pi * 11 * 0.78)
-    a = post(client, "/v1/drag", NR200 | {"mach": 0.45, "altitude": 25000}).json
-    b = post(client, "/v1/drag", {key: value for key, value in NR200.items() if key not in ("aspect_ratio",
+    a = post(client, "/v1/drag", TQ62 | {"mach": 0.45, "altitude": 25000}).json
+    b = post(client, "/v1/drag", {key: value for key, value in TQ62.items() if key not in ("aspect_ratio",
                                                                                             "oswald_efficiency")}
              | {"induced_drag_factor": k, "mach": 0.45, "altitude": 25000}).json
     assert b["cd"] == pytest.approx(a["cd"], rel=1e-12)
@@ -103,17 +103,17 @@ def test_induced_drag_factor_or_aspect_ratio(client):
 
 def test_warning_beyond_the_polar_mach_limit(client):
     # No compressibility drag: above the Mach limit (default 0.6) a warning names the points.
-    doc = post(client, "/v1/drag", NR200 | {"mach": [0.5, 0.74], "altitude": 37000}).json
+    doc = post(client, "/v1/drag", TQ62 | {"mach": [0.5, 0.74], "altitude": 37000}).json
     assert [w["field"] for w in doc["warnings"]] == ["cd"]
     assert doc["warnings"][0]["indices"] == [1] and "compressibility" in doc["warnings"][0]["message"]
-    assert post(client, "/v1/drag", NR200 | {"mach": 0.74, "altitude": 37000, "mach_limit": 0.78}).json[
+    assert post(client, "/v1/drag", TQ62 | {"mach": 0.74, "altitude": 37000, "mach_limit": 0.78}).json[
         "warnings"] == []
-    speeds = post(client, "/v1/drag/speeds", NR200 | {"weight": 23000, "altitude": 41000, "mach_limit": 0.5}).json
+    speeds = post(client, "/v1/drag/speeds", TQ62 | {"weight": 23000, "altitude": 41000, "mach_limit": 0.5}).json
     assert {w["field"] for w in speeds["warnings"]} == {"minimum_drag", "best_glide"}
 
 
 def test_grid_and_csv(client):
-    body = NR200 | {"weight": [18000, 23000], "altitude": [0, 20000, 35000], "grid": True}
+    body = TQ62 | {"weight": [18000, 23000], "altitude": [0, 20000, 35000], "grid": True}
     doc = post(client, "/v1/drag/speeds", body).json
     assert len(doc["minimum_drag"]["eas"]["value"]) == 6
     assert doc["inputs"]["altitude"]["value"] == [0, 20000, 35000] * 2
@@ -126,18 +126,18 @@ def test_grid_and_csv(client):
 @pytest.mark.parametrize(
     ("path", "body", "pointer"),
     [
-        ("/v1/drag", NR200 | {"mach": 0.4, "cl": 0.5, "altitude": 0}, "/cl"),  # two flight conditions
-        ("/v1/drag", NR200 | {"altitude": 0}, ""),  # none
-        ("/v1/drag", NR200 | {"mach": 0.4, "altitude": 0, "induced_drag_factor": 0.04}, "/induced_drag_factor"),
-        ("/v1/drag", {**NR200, "oswald_efficiency": None} | {"mach": 0.4, "altitude": 0}, "/oswald_efficiency"),
-        ("/v1/drag/speeds", {k: v for k, v in NR200.items() if k != "oswald_efficiency"} | {"altitude": 0},
+        ("/v1/drag", TQ62 | {"mach": 0.4, "cl": 0.5, "altitude": 0}, "/cl"),  # two flight conditions
+        ("/v1/drag", TQ62 | {"altitude": 0}, ""),  # none
+        ("/v1/drag", TQ62 | {"mach": 0.4, "altitude": 0, "induced_drag_factor": 0.04}, "/induced_drag_factor"),
+        ("/v1/drag", {**TQ62, "oswald_efficiency": None} | {"mach": 0.4, "altitude": 0}, "/oswald_efficiency"),
+        ("/v1/drag/speeds", {k: v for k, v in TQ62.items() if k != "oswald_efficiency"} | {"altitude": 0},
          "/aspect_ratio"),
-        ("/v1/drag/speeds", {k: v for k, v in NR200.items() if k != "cd0"} | {"altitude": 0}, "/cd0"),
-        ("/v1/drag/speeds", NR200 | {"altitude": 0, "cd0": 0}, "/cd0"),
-        ("/v1/drag/speeds", NR200 | {"altitude": 0, "oswald_efficiency": 1.2}, "/oswald_efficiency"),
-        ("/v1/drag/speeds", NR200 | {"altitude": 0, "height": -100}, "/height"),
-        ("/v1/drag/speeds", NR200 | {"altitude": 0, "mach_limit": [0.6, 0.7]}, "/mach_limit"),
-        ("/v1/drag/speeds", NR200, "/altitude"),  # no altitude: nothing defaults to sea level
+        ("/v1/drag/speeds", {k: v for k, v in TQ62.items() if k != "cd0"} | {"altitude": 0}, "/cd0"),
+        ("/v1/drag/speeds", TQ62 | {"altitude": 0, "cd0": 0}, "/cd0"),
+        ("/v1/drag/speeds", TQ62 | {"altitude": 0, "oswald_efficiency": 1.2}, "/oswald_efficiency"),
+        ("/v1/drag/speeds", TQ62 | {"altitude": 0, "height": -100}, "/height"),
+        ("/v1/drag/speeds", TQ62 | {"altitude": 0, "mach_limit": [0.6, 0.7]}, "/mach_limit"),
+        ("/v1/drag/speeds", TQ62, "/altitude"),  # no altitude: nothing defaults to sea level
     ],
 )
 def test_refusals(client, path, body, pointer):
@@ -147,5 +147,5 @@ def test_refusals(client, path, body, pointer):
 @pytest.mark.parametrize("altitude", [{"value": -5000, "unit": "m"}, {"value": 84852, "unit": "m"}])
 def test_speeds_at_the_ends_of_the_atmosphere(client, altitude):
     # The model's range ends: 200 and finite (the Mach numbers far aloft are beyond the polar: a warning).
-    doc = post(client, "/v1/drag/speeds", NR200 | {"altitude": altitude}).json
+    doc = post(client, "/v1/drag/speeds", TQ62 | {"altitude": altitude}).json
     assert doc["minimum_drag"]["tas"]["value"] > 0 and doc["best_glide"]["sink_rate"]["value"] > 0

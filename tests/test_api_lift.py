@@ -15,7 +15,7 @@ Outside references
   slope corrected by Prandtl-Glauert, 2 pi kappa / sqrt(1 - M^2); a very small aspect ratio to pi A / 2 (slender-wing
   theory, Jones, NACA Report 835).
 
-Demo data: the invented type NR-200 of the invented operator Northwind Regional (wing area 61 m2, aspect ratio 11,
+Demo data: the invented type TQ-62 of the invented operator Tavrenne Regional (wing area 61 m2, aspect ratio 11,
 MTOW 23 000 kg, CLmax clean 1.6, a flight-manual stall speed of 108 kt CAS at 22 000 kg).
 """
 
@@ -36,9 +36,9 @@ SOLVE, STALL, CURVE = "/v1/lift/solve", "/v1/lift/stall", "/v1/lift/curve"
 API_RTOL = 5e-6
 G0 = 9.80665  # standard gravity, exact by definition (CGPM 1901)
 RHO0 = 101325 / (287.05287 * 288.15)  # ICAO Doc 7488/3: rho0 = p0 / (R T0), tabulated as 1.225 kg/m3
-#: NR-200 (invented): what the tests fly with.
-NR200 = {"weight": 21000, "wing_area": 61}
-#: NR-200 (invented) airspeed calibration IAS -> CAS [kt], as in tests/test_api_airspeed.py.
+#: TQ-62 (invented): what the tests fly with.
+TQ62 = {"weight": 21000, "wing_area": 61}
+#: TQ-62 (invented) airspeed calibration IAS -> CAS [kt], as in tests/test_api_airspeed.py.
 CALIBRATION = {"ias": [120, 160, 200, 240, 280, 320], "cas": [123, 162, 201, 240, 278.5, 317], "unit": "kt"}
 
 
@@ -69,7 +69,7 @@ def test_anderson_cp1_cl_through_the_api(client):
 
 
 def test_cl_at_cruise_is_complete_and_unit_tagged(client):
-    doc = ok(client, SOLVE, {"solve_for": "cl", **NR200, "mach": 0.45, "altitude": {"value": 250, "unit": "FL"},
+    doc = ok(client, SOLVE, {"solve_for": "cl", **TQ62, "mach": 0.45, "altitude": {"value": 250, "unit": "FL"},
                              "isa_deviation": 5})
     # q = (gamma/2) p M^2 with the ICAO table's 376.01 hPa at 25 000 ft (from memory)
     q = 0.7 * 37601 * 0.45**2
@@ -97,19 +97,19 @@ def test_cl_at_cruise_is_complete_and_unit_tagged(client):
 
 def test_doubling_speed_quarters_cl(client):
     # common practice, no source: CL ~ 1 / EAS^2 at constant lift (any altitude, any kind of speed at one altitude)
-    doc = ok(client, SOLVE, {"solve_for": "cl", **NR200, "eas": [120, 240], "altitude": [3000, 30000]})
+    doc = ok(client, SOLVE, {"solve_for": "cl", **TQ62, "eas": [120, 240], "altitude": [3000, 30000]})
     assert value(doc, "cl")[1] == pytest.approx(value(doc, "cl")[0] / 4, rel=1e-12)
-    doc = ok(client, SOLVE, {"solve_for": "cl", **NR200, "tas": [150, 300], "altitude": 10000})
+    doc = ok(client, SOLVE, {"solve_for": "cl", **TQ62, "tas": [150, 300], "altitude": 10000})
     assert value(doc, "cl")[1] == pytest.approx(value(doc, "cl")[0] / 4, rel=1e-12)
 
 
 def test_at_1_3_vs_cl_is_59_percent_of_clmax(client):
     # common practice, no source: CL / CLmax = 1 / 1.3^2 = 0.59 at 1.3 Vs
-    vs = ok(client, SOLVE, {"solve_for": "speed", **NR200, "cl": 1.6, "altitude": 2000})
-    at = ok(client, SOLVE, {"solve_for": "cl", **NR200, "eas": 1.3 * value(vs, "eas"), "altitude": 2000})
+    vs = ok(client, SOLVE, {"solve_for": "speed", **TQ62, "cl": 1.6, "altitude": 2000})
+    at = ok(client, SOLVE, {"solve_for": "cl", **TQ62, "eas": 1.3 * value(vs, "eas"), "altitude": 2000})
     assert at["cl"] / 1.6 == pytest.approx(1 / 1.69, rel=1e-12)
     assert at["cl"] / 1.6 == pytest.approx(0.59, abs=0.005)
-    stall = ok(client, STALL, {**NR200, "cl_max": 1.6, "altitude": 2000, "speed_factors": [1.3]})
+    stall = ok(client, STALL, {**TQ62, "cl_max": 1.6, "altitude": 2000, "speed_factors": [1.3]})
     assert stall["multiples"][0]["cl_fraction"] == pytest.approx(0.59, abs=0.005)
     assert value(stall["multiples"][0], "eas") == pytest.approx(1.3 * value(vs, "eas"), rel=1e-12)
 
@@ -117,7 +117,7 @@ def test_at_1_3_vs_cl_is_59_percent_of_clmax(client):
 def test_quarter_density_near_40000_ft_doubles_tas(client):
     # common practice, no source: TAS = EAS / sqrt(sigma), sigma = 1/4 near 40 000 ft; aerocalc3 0.10
     # std_atm.alt2density gives 0.30156 kg/m3 at 40 000 ft, sigma = 0.2462, so TAS / EAS = 2.015 there
-    doc = ok(client, SOLVE, {"solve_for": "speed", **NR200, "cl": 0.5, "altitude": 40000})
+    doc = ok(client, SOLVE, {"solve_for": "speed", **TQ62, "cl": 0.5, "altitude": 40000})
     assert value(doc, "density") == pytest.approx(ac_atm.alt2density(40000, alt_units="ft",
                                                                      density_units="kg/m**3"), rel=API_RTOL)
     assert value(doc, "tas") / value(doc, "eas") == pytest.approx(2.0, rel=0.01)
@@ -151,7 +151,7 @@ def test_weight_as_force_or_mass(client):
 
 
 def test_load_factor_and_bank_angle(client):
-    base = {"solve_for": "cl", **NR200, "eas": 180, "altitude": 5000}
+    base = {"solve_for": "cl", **TQ62, "eas": 180, "altitude": 5000}
     level = ok(client, SOLVE, base)
     turn = ok(client, SOLVE, base | {"bank_angle": 60})
     assert turn["load_factor"] == pytest.approx(2.0)  # n = 1 / cos 60 deg
@@ -165,18 +165,18 @@ def test_load_factor_and_bank_angle(client):
 
 
 def test_solve_for_load_factor_gives_bank(client):
-    cl = ok(client, SOLVE, {"solve_for": "cl", **NR200, "eas": 150, "altitude": 5000})["cl"]
-    doc = ok(client, SOLVE, {"solve_for": "load_factor", **NR200, "eas": 150, "altitude": 5000, "cl": 2 * cl})
+    cl = ok(client, SOLVE, {"solve_for": "cl", **TQ62, "eas": 150, "altitude": 5000})["cl"]
+    doc = ok(client, SOLVE, {"solve_for": "load_factor", **TQ62, "eas": 150, "altitude": 5000, "cl": 2 * cl})
     assert doc["load_factor"] == pytest.approx(2.0, rel=1e-12)
     assert doc["bank_angle"]["value"] == pytest.approx(60.0, rel=1e-9)
 
 
 @pytest.mark.parametrize("isa_deviation", [-20, 0, 15])
 def test_altitude_for_mach_and_cl(client, isa_deviation):
-    forward = ok(client, SOLVE, {"solve_for": "cl", **NR200, "mach": 0.45, "altitude": 23000,
+    forward = ok(client, SOLVE, {"solve_for": "cl", **TQ62, "mach": 0.45, "altitude": 23000,
                                  "isa_deviation": isa_deviation})
     # p = n W / ((gamma/2) M^2 S CL): temperature does not enter
-    doc = ok(client, SOLVE, {"solve_for": "altitude", **NR200, "mach": 0.45, "cl": forward["cl"],
+    doc = ok(client, SOLVE, {"solve_for": "altitude", **TQ62, "mach": 0.45, "cl": forward["cl"],
                              "isa_deviation": isa_deviation})
     assert value(doc, "pressure_altitude") == pytest.approx(23000, abs=1e-6)
     assert value(doc, "tas") == pytest.approx(value(forward, "tas"), rel=1e-12)
@@ -184,7 +184,7 @@ def test_altitude_for_mach_and_cl(client, isa_deviation):
 
 
 def test_altitude_for_tas_and_cl(client):
-    doc = ok(client, SOLVE, {"solve_for": "altitude", **NR200, "tas": 250, "cl": 0.6, "isa_deviation": [0, 15]})
+    doc = ok(client, SOLVE, {"solve_for": "altitude", **TQ62, "tas": 250, "cl": 0.6, "isa_deviation": [0, 15]})
     rho = 2 * 21000 * G0 / (61 * 0.6 * (250 * 1852 / 3600) ** 2)  # rho = 2 W / (S CL V^2)
     assert value(doc, "density") == pytest.approx([rho, rho], rel=1e-9)
     h = value(doc, "pressure_altitude")
@@ -196,8 +196,8 @@ def test_altitude_for_tas_and_cl(client):
 
 def test_altitude_for_tas_with_temperature(client):
     """With the outside air temperature, the density fixes the pressure by the gas law p = rho R T."""
-    forward = ok(client, SOLVE, {"solve_for": "cl", **NR200, "tas": 250, "altitude": 12000, "temperature": -12})
-    doc = ok(client, SOLVE, {"solve_for": "altitude", **NR200, "tas": 250, "cl": forward["cl"], "temperature": -12})
+    forward = ok(client, SOLVE, {"solve_for": "cl", **TQ62, "tas": 250, "altitude": 12000, "temperature": -12})
+    doc = ok(client, SOLVE, {"solve_for": "altitude", **TQ62, "tas": 250, "cl": forward["cl"], "temperature": -12})
     assert value(doc, "pressure_altitude") == pytest.approx(12000, abs=1e-6)
     assert value(doc, "density") == pytest.approx(value(forward, "density"), rel=1e-12)
 
@@ -216,9 +216,9 @@ def test_altitude_for_cas_matches_aerocalc_and_warns(client):
 
 
 def test_altitude_for_ias_with_calibration(client):
-    forward = ok(client, SOLVE, {"solve_for": "cl", **NR200, "ias": 200, "calibration": CALIBRATION,
+    forward = ok(client, SOLVE, {"solve_for": "cl", **TQ62, "ias": 200, "calibration": CALIBRATION,
                                  "altitude": 12000})
-    doc = ok(client, SOLVE, {"solve_for": "altitude", **NR200, "ias": 200, "calibration": CALIBRATION,
+    doc = ok(client, SOLVE, {"solve_for": "altitude", **TQ62, "ias": 200, "calibration": CALIBRATION,
                              "cl": forward["cl"]})
     assert value(doc, "cas") == pytest.approx(201.0)  # the table's row
     assert value(doc, "pressure_altitude") == pytest.approx(12000, abs=1e-3)
@@ -226,14 +226,14 @@ def test_altitude_for_ias_with_calibration(client):
 
 def test_wing_block_adds_angle_of_attack_and_flags_stall(client):
     wing = {"aspect_ratio": 11, "sweep_half_chord": 0, "zero_lift_angle": -2.5, "cl_max": 1.6}
-    doc = ok(client, SOLVE, {"solve_for": "cl", **NR200, "eas": [90, 120, 200], "altitude": 2000, "wing": wing})
+    doc = ok(client, SOLVE, {"solve_for": "cl", **TQ62, "eas": [90, 120, 200], "altitude": 2000, "wing": wing})
     curve = ok(client, CURVE, {"aspect_ratio": 11, "sweep_half_chord": 0, "zero_lift_angle": -2.5,
                                "mach": doc["mach"], "cl": doc["cl"]})
     assert value(doc, "angle_of_attack") == pytest.approx(value(curve, "angle_of_attack"), rel=1e-12)
     assert doc["beyond_stall"] == [c > 1.6 for c in doc["cl"]] == [True, False, False]
     assert list(doc)[-3:] == ["angle_of_attack", "beyond_stall", "warnings"]
     # without cl_max: no flag; supersonic points: null with a warning
-    fast = ok(client, SOLVE, {"solve_for": "cl", **NR200, "mach": [0.5, 0.8, 1.2], "altitude": 35000,
+    fast = ok(client, SOLVE, {"solve_for": "cl", **TQ62, "mach": [0.5, 0.8, 1.2], "altitude": 35000,
                               "wing": {"aspect_ratio": 11, "sweep_half_chord": 0}})
     assert "beyond_stall" not in fast
     assert fast["angle_of_attack"]["value"][2] is None
@@ -335,7 +335,7 @@ def test_margin_below_the_stall_speed(client):
 
 
 def test_reference_stall_speed_scaled_by_weight(client):
-    # NR-200 (invented): 108 kt CAS at 22 000 kg, given at 10 000 ft; at 19 000 kg, 2000 ft, ISA+10
+    # TQ-62 (invented): 108 kt CAS at 22 000 kg, given at 10 000 ft; at 19 000 kg, 2000 ft, ISA+10
     doc = ok(client, STALL, {"weight": 19000, "altitude": 2000, "isa_deviation": 10,
                              "reference": {"stall_speed": 108, "weight": {"value": 22, "unit": "t"},
                                            "altitude": {"value": 100, "unit": "FL"}}})
@@ -410,33 +410,33 @@ def test_curve_warns_above_mach_0_7(client):
 @pytest.mark.parametrize(("path", "body", "pointers"), [
     # missing inputs, each named
     (SOLVE, {"solve_for": "cl"}, ["/weight", "/wing_area", "/altitude", ""]),
-    (SOLVE, {"solve_for": "speed", **NR200}, ["/cl", "/altitude"]),
-    (SOLVE, {"solve_for": "altitude", **NR200, "mach": 0.5}, ["/cl"]),
-    (SOLVE, {**NR200, "cl": 0.5, "mach": 0.5, "altitude": 0}, ["/solve_for"]),
+    (SOLVE, {"solve_for": "speed", **TQ62}, ["/cl", "/altitude"]),
+    (SOLVE, {"solve_for": "altitude", **TQ62, "mach": 0.5}, ["/cl"]),
+    (SOLVE, {**TQ62, "cl": 0.5, "mach": 0.5, "altitude": 0}, ["/solve_for"]),
     (STALL, {"weight": 22000, "wing_area": 61, "altitude": 0}, ["/cl_max"]),
     (STALL, {"wing_area": 61, "cl_max": 1.6, "altitude": 0}, ["/weight"]),
     (STALL, {"weight": 22000, "wing_area": 61, "cl_max": 1.6}, ["/altitude"]),
     (STALL, {"weight": 22000, "reference": {"stall_speed": 108}, "altitude": 0}, ["/reference/weight"]),
     (CURVE, {"sweep_half_chord": 0, "mach": 0.5}, ["/aspect_ratio"]),
-    (SOLVE, {"solve_for": "cl", **NR200, "mach": 0.5, "altitude": 0, "wing": {"aspect_ratio": 9}},
+    (SOLVE, {"solve_for": "cl", **TQ62, "mach": 0.5, "altitude": 0, "wing": {"aspect_ratio": 9}},
      ["/wing/sweep_half_chord"]),
     # a value given for the unknown
-    (SOLVE, {"solve_for": "cl", **NR200, "cl": 0.5, "mach": 0.5, "altitude": 0}, ["/cl"]),
-    (SOLVE, {"solve_for": "speed", **NR200, "cl": 0.5, "tas": 200, "altitude": 0}, ["/tas"]),
-    (SOLVE, {"solve_for": "weight", **NR200, "cl": 0.5, "tas": 200, "altitude": 0}, ["/weight"]),
-    (SOLVE, {"solve_for": "wing_area", **NR200, "cl": 0.5, "tas": 200, "altitude": 0}, ["/wing_area"]),
-    (SOLVE, {"solve_for": "load_factor", **NR200, "cl": 0.5, "tas": 200, "altitude": 0, "bank_angle": 30},
+    (SOLVE, {"solve_for": "cl", **TQ62, "cl": 0.5, "mach": 0.5, "altitude": 0}, ["/cl"]),
+    (SOLVE, {"solve_for": "speed", **TQ62, "cl": 0.5, "tas": 200, "altitude": 0}, ["/tas"]),
+    (SOLVE, {"solve_for": "weight", **TQ62, "cl": 0.5, "tas": 200, "altitude": 0}, ["/weight"]),
+    (SOLVE, {"solve_for": "wing_area", **TQ62, "cl": 0.5, "tas": 200, "altitude": 0}, ["/wing_area"]),
+    (SOLVE, {"solve_for": "load_factor", **TQ62, "cl": 0.5, "tas": 200, "altitude": 0, "bank_angle": 30},
      ["/bank_angle"]),
-    (SOLVE, {"solve_for": "altitude", **NR200, "cl": 0.5, "tas": 200, "altitude": 0}, ["/altitude"]),
-    (SOLVE, {"solve_for": "altitude", **NR200, "cl": 0.5, "tas": 200, "qnh": 1000}, ["/qnh"]),
+    (SOLVE, {"solve_for": "altitude", **TQ62, "cl": 0.5, "tas": 200, "altitude": 0}, ["/altitude"]),
+    (SOLVE, {"solve_for": "altitude", **TQ62, "cl": 0.5, "tas": 200, "qnh": 1000}, ["/qnh"]),
     # impossible combinations
-    (SOLVE, {"solve_for": "altitude", **NR200, "cl": 0.5, "eas": 200}, ["/eas"]),
-    (SOLVE, {"solve_for": "cl", **NR200, "mach": 0.5, "cas": 200, "altitude": 0}, ["/mach", "/cas"]),
-    (SOLVE, {"solve_for": "cl", **NR200, "mach": 0.5, "altitude": 0, "load_factor": 2, "bank_angle": 60},
+    (SOLVE, {"solve_for": "altitude", **TQ62, "cl": 0.5, "eas": 200}, ["/eas"]),
+    (SOLVE, {"solve_for": "cl", **TQ62, "mach": 0.5, "cas": 200, "altitude": 0}, ["/mach", "/cas"]),
+    (SOLVE, {"solve_for": "cl", **TQ62, "mach": 0.5, "altitude": 0, "load_factor": 2, "bank_angle": 60},
      ["/load_factor", "/bank_angle"]),
-    (SOLVE, {"solve_for": "cl", **NR200, "ias": 200, "altitude": 0}, ["/calibration", "/ias"]),
-    (SOLVE, {"solve_for": "cl", **NR200, "cas": 200, "calibration": CALIBRATION, "altitude": 0}, ["/calibration"]),
-    (SOLVE, {"solve_for": "cl", **NR200, "mach": 0.5, "altitude": 0, "isa_deviation": 5, "temperature": 10},
+    (SOLVE, {"solve_for": "cl", **TQ62, "ias": 200, "altitude": 0}, ["/calibration", "/ias"]),
+    (SOLVE, {"solve_for": "cl", **TQ62, "cas": 200, "calibration": CALIBRATION, "altitude": 0}, ["/calibration"]),
+    (SOLVE, {"solve_for": "cl", **TQ62, "mach": 0.5, "altitude": 0, "isa_deviation": 5, "temperature": 10},
      ["/isa_deviation", "/temperature"]),
     (STALL, {"weight": 22000, "wing_area": 61, "cl_max": 1.6, "reference": {"stall_speed": 108, "weight": 22000},
              "altitude": 0}, ["/wing_area", "/cl_max"]),
@@ -445,14 +445,14 @@ def test_curve_warns_above_mach_0_7(client):
     (CURVE, {"aspect_ratio": 9, "sweep_half_chord": 0, "mach": 0.5, "airfoil_efficiency": 0.95,
              "airfoil_lift_slope": 6}, ["/airfoil_efficiency", "/airfoil_lift_slope"]),
     # out of range
-    (SOLVE, {"solve_for": "cl", **NR200, "mach": 0.5, "altitude": 0, "bank_angle": 90}, ["/bank_angle"]),
-    (SOLVE, {"solve_for": "cl", **NR200, "mach": 0.5, "altitude": 0, "bank_angle": -10}, ["/bank_angle"]),
+    (SOLVE, {"solve_for": "cl", **TQ62, "mach": 0.5, "altitude": 0, "bank_angle": 90}, ["/bank_angle"]),
+    (SOLVE, {"solve_for": "cl", **TQ62, "mach": 0.5, "altitude": 0, "bank_angle": -10}, ["/bank_angle"]),
     (SOLVE, {"solve_for": "cl", "weight": -21000, "wing_area": 61, "mach": 0.5, "altitude": 0}, ["/weight"]),
     (SOLVE, {"solve_for": "cl", "weight": 21000, "wing_area": {"value": 0, "unit": "ft2"}, "mach": 0.5,
              "altitude": 0}, ["/wing_area/value"]),
     (SOLVE, {"solve_for": "weight", "wing_area": 61, "cl": [0.5, -0.1], "mach": 0.5, "altitude": 0}, ["/cl/1"]),
-    (SOLVE, {"solve_for": "cl", **NR200, "mach": 0.5, "altitude": 0, "load_factor": 0}, ["/load_factor"]),
-    (SOLVE, {"solve_for": "lift", **NR200, "mach": 0.5, "altitude": 0}, ["/solve_for"]),
+    (SOLVE, {"solve_for": "cl", **TQ62, "mach": 0.5, "altitude": 0, "load_factor": 0}, ["/load_factor"]),
+    (SOLVE, {"solve_for": "lift", **TQ62, "mach": 0.5, "altitude": 0}, ["/solve_for"]),
     (SOLVE, {"solve_for": "cl", "weight": {"value": 21, "unit": "m2"}, "wing_area": 61, "mach": 0.5,
              "altitude": 0}, ["/weight/unit"]),
     (STALL, {"weight": 22000, "wing_area": 61, "cl_max": 1.6, "altitude": 0, "speed_factors": [1.3, 0]},
@@ -469,7 +469,7 @@ def test_curve_warns_above_mach_0_7(client):
     (CURVE, {"aspect_ratio": 9, "sweep_half_chord": 90, "mach": 0.5}, ["/sweep_half_chord"]),
     (CURVE, {"aspect_ratio": 9, "sweep_half_chord": 0, "mach": 0.5, "wing_span": 30}, ["/wing_span"]),
     # outputs that the inputs do not give
-    (SOLVE, {"solve_for": "cl", **NR200, "mach": 0.5, "altitude": 0, "outputs": ["cl", "angle_of_attack"]},
+    (SOLVE, {"solve_for": "cl", **TQ62, "mach": 0.5, "altitude": 0, "outputs": ["cl", "angle_of_attack"]},
      ["/outputs/1"]),
     (STALL, {"weight": 22000, "wing_area": 61, "cl_max": 1.6, "altitude": 0, "outputs": ["margin"]},
      ["/outputs/0"]),
@@ -482,17 +482,17 @@ def test_bad_inputs_name_the_fields(client, path, body, pointers):
 
 
 def test_eas_altitude_solve_explains(client):
-    doc = assert_problem(post(client, SOLVE, {"solve_for": "altitude", **NR200, "cl": 0.5, "eas": 200}), 422)
+    doc = assert_problem(post(client, SOLVE, {"solve_for": "altitude", **TQ62, "cl": 0.5, "eas": 200}), 422)
     assert "does not fix the altitude" in doc["detail"] and "Mach number, TAS or CAS" in doc["detail"]
 
 
 @pytest.mark.parametrize(("body", "field"), [
     # no pressure altitude in range: Mach 0.1 would need a static pressure far above sea level's
-    ({"solve_for": "altitude", **NR200, "cl": 0.5, "mach": [0.5, 0.1]}, "pressure_altitude"),
+    ({"solve_for": "altitude", **TQ62, "cl": 0.5, "mach": [0.5, 0.1]}, "pressure_altitude"),
     # TAS too low for any density in the model
-    ({"solve_for": "altitude", **NR200, "cl": 0.5, "tas": 60}, "pressure_altitude"),
+    ({"solve_for": "altitude", **TQ62, "cl": 0.5, "tas": 60}, "pressure_altitude"),
     # at 200 kt CAS q is at most about 1/2 rho0 CAS^2 = 6484 Pa, and the lift needs 6752 Pa
-    ({"solve_for": "altitude", **NR200, "cl": 0.5, "cas": 200}, "pressure_altitude"),
+    ({"solve_for": "altitude", **TQ62, "cl": 0.5, "cas": 200}, "pressure_altitude"),
     # the linear lift curve never reaches CL 30
     ({"aspect_ratio": 9, "sweep_half_chord": 0, "mach": 0.5, "cl": [1, 30]}, "angle_of_attack"),
 ])
@@ -512,7 +512,7 @@ def test_arrays_broadcast_and_scalars_stay_scalars(client):
     doc = ok(client, SOLVE, {"solve_for": "cl", "weight": [19000, 21000, 23000], "wing_area": 61, "mach": [0.45],
                              "altitude": {"value": [200, 220, 250], "unit": "FL"}, "isa_deviation": 5})
     assert len(doc["cl"]) == 3 and doc["mach"] == [0.45] * 3
-    assert isinstance(ok(client, SOLVE, {"solve_for": "cl", **NR200, "mach": 0.45, "altitude": 0})["cl"], float)
+    assert isinstance(ok(client, SOLVE, {"solve_for": "cl", **TQ62, "mach": 0.45, "altitude": 0})["cl"], float)
     stall = ok(client, STALL, {"weight": [19000, 23000], "wing_area": 61, "cl_max": 1.6, "altitude": 0,
                                "speed_factors": [1.3]})
     assert len(stall["multiples"][0]["eas"]["value"]) == 2 and stall["multiples"][0]["factor"] == [1.3, 1.3]
@@ -521,7 +521,7 @@ def test_arrays_broadcast_and_scalars_stay_scalars(client):
 
 
 def test_block_arrays_broadcast_against_points(client):
-    base = {"solve_for": "cl", **NR200, "eas": [150, 150, 150], "altitude": 0}
+    base = {"solve_for": "cl", **TQ62, "eas": [150, 150, 150], "altitude": 0}
     doc = ok(client, SOLVE, base | {"wing": {"aspect_ratio": [7, 9, 11], "sweep_half_chord": [0]}})
     assert np.all(np.diff(value(doc, "angle_of_attack")) < 0)  # larger aspect ratio, steeper lift curve
     assert_problem(post(client, SOLVE, base | {"wing": {"aspect_ratio": [7, 9], "sweep_half_chord": 0}}), 422,
@@ -574,7 +574,7 @@ def test_csv_flattens_multiples_with_dotted_names(client):
                                   "speed_factors": [1.13, 1.3], "eas": 150})
     column = header.index("multiples.1.tas [kt]")
     assert [float(row[column]) for row in rows[1:]] == pytest.approx(json_doc["multiples"][1]["tas"]["value"])
-    solve = post(client, SOLVE, {"solve_for": "cl", **NR200, "mach": 0.45, "altitude": [20000, 25000],
+    solve = post(client, SOLVE, {"solve_for": "cl", **TQ62, "mach": 0.45, "altitude": [20000, 25000],
                                  "outputs": ["cl", "tas"]}, headers={"Accept": "text/csv"})
     lines = solve.get_data(as_text=True).strip().split("\r\n")
     assert lines[0] == "input.weight [N],input.wing_area [m2],input.mach,input.altitude [ft],cl,tas [kt]"
@@ -582,13 +582,13 @@ def test_csv_flattens_multiples_with_dotted_names(client):
 
 
 def test_output_selection(client):
-    doc = ok(client, SOLVE, {"solve_for": "cl", **NR200, "mach": 0.45, "altitude": 20000,
+    doc = ok(client, SOLVE, {"solve_for": "cl", **TQ62, "mach": 0.45, "altitude": 20000,
                              "outputs": ["tas", "cl"]})
     assert list(doc) == ["solved_for", "tas", "cl", "warnings"]
     stall = ok(client, STALL, {"weight": 22000, "wing_area": 61, "cl_max": 1.6, "altitude": 0, "eas": 150,
                                "speed_factors": [1.3], "outputs": ["margin"]})
     assert set(stall) == {"margin", "warnings"}
-    assert_problem(post(client, SOLVE, {"solve_for": "cl", **NR200, "mach": 0.45, "altitude": 0,
+    assert_problem(post(client, SOLVE, {"solve_for": "cl", **TQ62, "mach": 0.45, "altitude": 0,
                                         "outputs": ["colour"]}), 422, "/outputs/0")
 
 
@@ -611,10 +611,10 @@ def test_unrequested_physics_does_not_run(client, monkeypatch):
         return {name for counter in calls.values() for name in counter}
 
     wing_block = {"aspect_ratio": 11, "sweep_half_chord": 0}
-    solve = {"solve_for": "cl", **NR200, "mach": 0.45, "altitude": 20000, "wing": wing_block}
+    solve = {"solve_for": "cl", **TQ62, "mach": 0.45, "altitude": 20000, "wing": wing_block}
     assert ran(SOLVE, solve | {"outputs": ["cl", "pressure_altitude"]}) == {"standard_state"}
     # with an EAS even the standard atmosphere is not evaluated
-    assert ran(SOLVE, {"solve_for": "speed", **NR200, "cl": 0.8, "altitude": 20000,
+    assert ran(SOLVE, {"solve_for": "speed", **TQ62, "cl": 0.8, "altitude": 20000,
                        "outputs": ["eas", "dynamic_pressure"]}) == set()
     assert ran(CURVE, {"aspect_ratio": 9, "sweep_half_chord": 0, "mach": 0.5, "cl": 0.5,
                        "outputs": ["lift_slope"]}) == set()
@@ -627,7 +627,7 @@ def test_unrequested_physics_does_not_run(client, monkeypatch):
 
 
 def test_no_nan_anywhere(client):
-    r = post(client, SOLVE, {"solve_for": "load_factor", **NR200, "cl": np.linspace(0.1, 2, 20).tolist(),
+    r = post(client, SOLVE, {"solve_for": "load_factor", **TQ62, "cl": np.linspace(0.1, 2, 20).tolist(),
                              "mach": [0.3] * 19 + [1.5], "altitude": 80000,
                              "wing": {"aspect_ratio": 11, "sweep_half_chord": 0, "cl_max": 1.6}})
     text = r.get_data(as_text=True)

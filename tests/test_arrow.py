@@ -126,14 +126,14 @@ from tests.test_bulk import BULK  # noqa: E402
 ARROW = arrow.ARROW_STREAM
 #: Python calls that padding may add or save (see test_python_calls_do_not_grow_with_points).
 PADDING_CALLS = 20
-NR200_TABLE = {"ias": [120, 160, 200, 240, 280, 320], "cas": [123, 162, 201, 240, 278.5, 317]}
+TQ62_TABLE = {"ias": [120, 160, 200, 240, 280, 320], "cas": [123, 162, 201, 240, 278.5, 317]}
 
 #: Requests per endpoint: the spec's examples, a bulk request, its grid, and answers with nulls and warnings.
 REQUESTS = {
     "/v1/atmosphere": [*(e["value"] for e in examples.ATMOSPHERE.values()),
                        {"altitude": [-16000, 0], "isa_deviation": -60}],  # density altitude null at point 0
     "/v1/airspeed": [*(e["value"] for e in examples.AIRSPEED.values()),
-                     {"cas": [100, 200, 400, 317], "altitude": 5000, "calibration": NR200_TABLE}],  # ias null
+                     {"cas": [100, 200, 400, 317], "altitude": 5000, "calibration": TQ62_TABLE}],  # ias null
     "/v1/airspeed/crossover": [e["value"] for e in examples.CROSSOVER.values()],
     "/v1/airspeed/schedule": [e["value"] for e in examples.SCHEDULE.values()],
     "/v1/lift/solve": [*(e["value"] for e in examples.LIFT_SOLVE.values()),

@@ -379,7 +379,7 @@ def test_nan_marks_only_the_bad_points():
 
 
 # --------------------------------------------------------------------------------------------
-# Calibration tables (invented demo aircraft "Northwind NR-100", kt)
+# Calibration tables (invented demo aircraft "Tavrenne TQ-41", kt)
 # --------------------------------------------------------------------------------------------
 
 TABLE_IAS = np.array([60.0, 80.0, 100.0, 120.0, 140.0, 160.0]) * KT

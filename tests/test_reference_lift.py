@@ -129,7 +129,7 @@ def _solve_body(case):
 
 
 WING = {"aspect": 11.0, "sweep": 5.0, "kappa": 0.95, "cl_max": 1.6, "alpha0": -2.0}
-#: Our invented demo type NR-200 (61 m2), in every solve, speed kind and turn.
+#: Our invented demo type TQ-62 (61 m2), in every solve, speed kind and turn.
 SOLVES = [
     {"solve_for": "cl", "mass": 21000.0, "S": 61.0, "kind": "mach", "speed": 0.45, "H": 7620.0, "dT": 5.0},
     {"solve_for": "cl", "mass": 22000.0, "S": 61.0, "kind": "cas", "speed": 140.0, "H": 900.0, "bank": 45.0,

@@ -27,9 +27,9 @@ OPENAPI = OpenAPI.from_dict(SPEC, config=Config(
         "application/problem+json": json_loads,  # RFC 9457 problem documents are JSON
         "text/csv": plain_loads,
     }))
-KEY = "nr-ops-key-0123456789abcdef"
+KEY = "tav-ops-key-0123456789abcdef"
 JSON = {"Content-Type": "application/json"}
-NR200_CALIBRATION = {"ias": [120, 160, 200, 240, 280, 320], "cas": [123, 162, 201, 240, 278.5, 317], "unit": "kt"}
+TQ62_CALIBRATION = {"ias": [120, 160, 200, 240, 280, 320], "cas": [123, 162, 201, 240, 278.5, 317], "unit": "kt"}
 
 #: The apps the requests go to: settings by name.
 APPS = {
@@ -86,7 +86,7 @@ CASES = [case for path in COMPUTE for case in compute_cases(path)] + [
     Case("null-density-altitude", "POST", "/v1/atmosphere", 200,
          {"altitude": {"value": [0, 84000], "unit": "m"}, "isa_deviation": 30}, {"X-API-Key": KEY}, "keyed"),
     Case("null-ias-outside-table", "POST", "/v1/airspeed", 200,
-         {"cas": [100, 200], "altitude": 0, "calibration": NR200_CALIBRATION}, {"X-API-Key": KEY}, "keyed"),
+         {"cas": [100, 200], "altitude": 0, "calibration": TQ62_CALIBRATION}, {"X-API-Key": KEY}, "keyed"),
     Case("null-bank-angle-below-1g", "POST", "/v1/lift/solve", 200,
          {"solve_for": "load_factor", "weight": 21000, "wing_area": 61, "cl": 0.5, "cas": [150, 250], "altitude": 0},
          {"X-API-Key": KEY}, "keyed"),

@@ -17,6 +17,7 @@ from jsonschema import Draft202012Validator
 
 from service import create_app
 from service.api.base import COMPUTE_PROBLEMS
+from service.api.fields import named_schemas
 from service.api.problems import PROBLEM_MEDIA_TYPE
 from service.cli import spec_text
 from service.version import __version__
@@ -24,6 +25,9 @@ from tests.helpers import post
 
 SPEC = json.loads(spec_text())
 SCHEMAS = SPEC["components"]["schemas"]
+#: The schemas of requests and answers (their fields); the others are the named types the fields refer to
+#: (a dimension's input, value object, unit enum and output: api.fields.named_schemas).
+FIELD_SCHEMAS = {name: schema for name, schema in SCHEMAS.items() if name not in named_schemas()}
 TAGS = ("atmosphere", "airspeed", "lift", "drag", "service")
 HTTP_METHODS = ("get", "put", "post", "delete", "options", "head", "patch", "trace")
 #: The keywords under which a schema holds further schemas that describe data (alternatives, items, members).
@@ -69,13 +73,13 @@ def test_every_property_has_a_description():
     missing += [f"{where}.{name}" for place, schema in inline_schemas() for where, name, prop in walk(schema, place)
                 if not prop.get("description")]
     assert not missing, missing
-    assert sum(1 for schema in SCHEMAS.values() for _ in walk(schema, "")) > 500  # the walk reaches the fields
+    assert sum(1 for schema in SCHEMAS.values() for _ in walk(schema, "")) > 300  # the walk reaches the fields
 
 
-@pytest.mark.parametrize("name", list(SCHEMAS))
+@pytest.mark.parametrize("name", list(FIELD_SCHEMAS))
 def test_every_field_has_an_example_that_fits_it(name):
     """Each field of each schema (request, response, nested) has an example, valid by the field's own schema."""
-    for field, prop in SCHEMAS[name]["properties"].items():
+    for field, prop in FIELD_SCHEMAS[name]["properties"].items():
         assert "example" in prop, f"{name}.{field} has no example"
         errors = list(validator({k: v for k, v in prop.items() if k != "example"}).iter_errors(prop["example"]))
         assert not errors, f"{name}.{field}: {errors[0].message}"
@@ -88,6 +92,8 @@ def _types(schema: dict) -> set:
 
 def _dimensionless(prop: dict) -> bool:
     """qbar's bare number or array of numbers, with no {value, unit} form (Number, NumberOut)."""
+    if prop.get("$ref") in ("#/components/schemas/Numbers", "#/components/schemas/NumbersOut"):
+        return True
     branches = prop.get("oneOf", ())
     return bool(branches) and all(
         _types(b) <= {"number", "null"} or (_types(b) == {"array"} and _types(b["items"]) <= {"number", "null"})
@@ -99,7 +105,7 @@ def test_every_physical_field_names_its_default_unit():
     computed example shows it. Dimensionless numbers: [-]."""
     wrong = []
     checked = 0
-    for sname, schema in SCHEMAS.items():
+    for sname, schema in FIELD_SCHEMAS.items():
         for field, prop in schema["properties"].items():
             text = prop.get("description", "")
             example = prop.get("example")

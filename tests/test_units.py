@@ -92,3 +92,111 @@ def test_catalogue_lists_every_dimension():
     names = [d["dimension"] for d in units.catalogue()["dimensions"]]
     assert names == list(units.DIMENSIONS)
     assert set(units.OUTPUT_DIMENSIONS) == set(names) - {"weight"}
+
+
+# --- Symbols people type: aliases are the standards' other symbols; anything else gets a suggestion ---
+
+# The other symbols in use, with where they are written that way: ISO 80000-3 and the SI Brochure (9th ed.,
+# table 8) write the knot "kn"; NIST SP 811 writes the mile per hour "mi/h"; the SI Brochure writes "°C", and "°"
+# for the degree of angle; "°F" is the usual symbol of the degree Fahrenheit (NIST SP 811).
+ALIASES = [
+    ("speed", "kn", "kt"),
+    ("speed", "mi/h", "mph"),
+    ("temperature", "°C", "degC"),
+    ("temperature", "°F", "degF"),
+    ("temperature_difference", "°C", "degC"),
+    ("temperature_difference", "°F", "degF"),
+    ("angle", "°", "deg"),
+]
+
+
+@pytest.mark.parametrize(("dimension", "alias", "name"), ALIASES)
+def test_an_alias_is_the_same_unit(dimension, alias, name):
+    assert units.canonical(dimension, alias) == name
+    assert units.to_si(12.5, dimension, alias) == units.to_si(12.5, dimension, name)
+
+
+def test_aliases_are_only_the_deliberate_ones():
+    found = sorted((d.name, alias, u.name) for d in units.DIMENSIONS.values() if d.name != "weight"
+                   for u in d.units.values() for alias in u.aliases)
+    assert found == sorted(ALIASES)
+    for dim in units.DIMENSIONS.values():  # no symbol means two units of one dimension
+        assert len(dim.symbols) == sum(1 + len(u.aliases) for u in dim.units.values())
+
+
+def test_catalogue_lists_the_aliases():
+    speed = next(d for d in units.catalogue()["dimensions"] if d["dimension"] == "speed")
+    assert {u["unit"]: u["aliases"] for u in speed["units"]}["kt"] == ["kn"]
+
+
+# What people type instead of a symbol, and the symbol they mean (common practice, no source).
+TYPED = [
+    ("speed", "kts", "kt"), ("speed", "knots", "kt"), ("speed", "KT", "kt"), ("speed", "kph", "km/h"),
+    ("speed", "m/sec", "m/s"), ("speed", "fps", "ft/s"), ("speed", "Knots", "kt"),
+    ("pressure", "hpa", "hPa"), ("pressure", "HPA", "hPa"), ("pressure", "mb", "mbar"), ("pressure", "in hg", "inHg"),
+    ("pressure", "pascal", "Pa"),
+    ("altitude", "feet", "ft"), ("altitude", "foot", "ft"), ("altitude", "meters", "m"), ("altitude", "metres", "m"),
+    ("altitude", "fl", "FL"), ("altitude", "Ft", "ft"),
+    ("temperature", "C", "degC"), ("temperature", "F", "degF"), ("temperature", "celsius", "degC"),
+    ("temperature", "k", "K"), ("temperature_difference", "C", "degC"),
+    ("mass", "lbs", "lb"), ("mass", "kgs", "kg"), ("mass", "tonnes", "t"), ("weight", "lbs", "lb"),
+    ("area", "m²", "m2"), ("area", "sq ft", "ft2"), ("angle", "degrees", "deg"), ("angle", "radians", "rad"),
+]
+
+
+@pytest.mark.parametrize(("dimension", "typed", "meant"), TYPED)
+def test_a_misspelt_unit_gets_a_suggestion(dimension, typed, meant):
+    with pytest.raises(units.UnitError) as caught:
+        units.canonical(dimension, typed)
+    assert caught.value.suggestion == meant
+    assert f"(did you mean {meant!r}?)" in str(caught.value)
+    assert str(caught.value).endswith(f"allowed: {units.allowed(dimension)}.")
+
+
+@pytest.mark.parametrize(("dimension", "typed"), [
+    ("altitude", "kg"), ("speed", "hPa"), ("temperature", "banana"), ("speed", ""), ("speed", None), ("speed", {}),
+    ("speed", "k" * 10_000),
+])
+def test_no_suggestion_for_what_is_not_close(dimension, typed):
+    with pytest.raises(units.UnitError) as caught:
+        units.canonical(dimension, typed)
+    assert caught.value.suggestion is None
+    assert "did you mean" not in str(caught.value)
+    assert len(str(caught.value)) < 200  # a long string is not echoed whole
+
+
+@given(dimension=st.sampled_from(list(units.DIMENSIONS)), text=st.text(max_size=60))
+def test_a_suggestion_is_always_a_unit_of_the_dimension(dimension, text):
+    suggestion = units.suggest(dimension, text)
+    assert suggestion is None or suggestion in units.DIMENSIONS[dimension].units
+
+
+# --- Range ends in every unit: the end in the unit admits exactly the values whose SI value is in range ---
+
+@given(dimension=st.sampled_from([d for d in units.DIMENSIONS if d != "weight"]), data=st.data(),
+       si=st.floats(-1e6, 1e6, allow_nan=False), upper=st.booleans(), exclusive=st.booleans())
+def test_a_range_end_in_any_unit_is_exact(dimension, data, si, upper, exclusive):
+    unit = data.draw(st.sampled_from(list(units.DIMENSIONS[dimension].units)))
+    end = units.bound_in(dimension, unit, si, upper=upper, exclusive=exclusive)
+    inside, outside = (math.nextafter(end, -math.inf), math.nextafter(end, math.inf)) if upper else \
+        (math.nextafter(end, math.inf), math.nextafter(end, -math.inf))
+
+    def admitted_in_si(x):
+        y = float(units.to_si(np.float64(x), dimension, unit))
+        if exclusive:
+            return y < si if upper else y > si
+        return y <= si if upper else y >= si
+
+    # inclusive: the end is admitted and the next float past it is not; exclusive: the end is the first refused
+    assert admitted_in_si(inside)
+    if exclusive:
+        assert not admitted_in_si(end)
+    else:
+        assert admitted_in_si(end)
+        assert not admitted_in_si(outside)
+
+
+def test_the_top_of_the_atmosphere_in_feet_and_flight_levels():
+    # 84 852 m / 0.3048 m/ft = 278 385.826 771 653 5... ft (exact definition of the foot, NIST SP 811)
+    assert units.bound_in("altitude", "ft", 84852.0, upper=True) == pytest.approx(278385.8267716535, rel=1e-15)
+    assert units.bound_in("altitude", "FL", 84852.0, upper=True) == pytest.approx(2783.858267716535, rel=1e-15)

@@ -27,7 +27,9 @@ class StatusSchema(ma.Schema):
 
 
 class UnitSchema(ma.Schema):
-    unit = ma.fields.String(required=True, metadata={"description": "The unit's name as requests give it."})
+    unit = ma.fields.String(required=True, metadata={"description": "The unit's symbol, as answers give it."})
+    aliases = ma.fields.List(ma.fields.String(), required=True, metadata={
+        "description": "The unit's other standard symbols, also accepted in requests (the knot: kn)."})
     description = ma.fields.String(required=True, metadata={"description": "What the unit is."})
     factor = ma.fields.Float(required=True, metadata={"description": "SI value = value x factor + offset."})
     offset = ma.fields.Float(required=True, metadata={"description": "SI value = value x factor + offset."})
@@ -64,6 +66,7 @@ class VersionSchema(ma.Schema):
 
 
 @blp.route("/v1/health", methods=["GET"])
+@blp.doc(operationId="getHealth")
 @blp.response(200, StatusSchema)
 def health():
     """Liveness
@@ -74,6 +77,7 @@ def health():
 
 
 @blp.route("/v1/ready", methods=["GET"])
+@blp.doc(operationId="getReadiness")
 @blp.response(200, StatusSchema)
 @blp.problems(503)
 def ready():
@@ -87,6 +91,7 @@ def ready():
 
 
 @blp.route("/v1/units", methods=["GET"])
+@blp.doc(operationId="listUnits")
 @blp.response(200, UnitsSchema)
 def unit_table():
     """The unit table
@@ -97,6 +102,7 @@ def unit_table():
 
 
 @blp.route("/v1/version", methods=["GET"])
+@blp.doc(operationId="getVersion")
 @blp.response(200, VersionSchema)
 def version():
     """Service version
@@ -128,6 +134,7 @@ class ProblemTypeSchema(ma.Schema):
     "in": "path", "name": "slug", "required": True, "example": "validation",
     "description": "The end of a problem document's `type` URI, e.g. `validation` for /problems/validation.",
     "schema": {"type": "string", "minLength": 1}}])
+@blp.doc(operationId="getProblemType")
 @blp.response(200, ProblemTypeSchema)
 @blp.problems(404)
 def problem_type(slug):

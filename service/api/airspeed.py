@@ -88,7 +88,7 @@ class AirspeedRequest(ComputeSchema):
 
 
 AirspeedAtmosphere = type("AirspeedAtmosphere", (ma.Schema,), {
-    name: quantity_out(desc) for name, (_, desc, _) in ATMOSPHERE.items()})
+    name: quantity_out(desc, dim) for name, (dim, desc, _) in ATMOSPHERE.items()})
 
 AirspeedResponse = response_schema("AirspeedResponse", OUTPUTS, AirspeedRequest, fields={
     "atmosphere": ma.fields.Nested(AirspeedAtmosphere, metadata={"description": OUTPUTS["atmosphere"][1]})})
@@ -96,6 +96,7 @@ AirspeedResponse = response_schema("AirspeedResponse", OUTPUTS, AirspeedRequest,
 
 
 @blp.route("/airspeed", methods=["POST"])
+@blp.doc(operationId="convertAirspeed")
 @blp.arguments(AirspeedRequest, examples=examples.AIRSPEED)
 @blp.response(200, AirspeedResponse)
 @blp.problems(*COMPUTE_PROBLEMS)
@@ -106,7 +107,7 @@ def airspeed(inputs):
     altitude on a standard or off-standard day: CAS, EAS, TAS, Mach, IAS (when a calibration is given), impact and
     dynamic pressure, and the air at the point. Compressible throughout: the isentropic pitot relation below Mach 1,
     the Rayleigh pitot relation above. Arrays broadcast; `grid: true` takes their outer product. The example is our
-    demo type NR-200 at 250 kt IAS at FL330 on an ISA+15 day.
+    demo type TQ-62 at 250 kt IAS at FL330 on an ISA+15 day.
     """
     kind = given_speed(inputs)
     result = Result(inputs)
@@ -178,6 +179,7 @@ def _beyond_model(cas, mach, missing, indices: bool = True) -> str:
 
 
 @blp.route("/airspeed/crossover", methods=["POST"])
+@blp.doc(operationId="findCrossoverAltitude")
 @blp.arguments(CrossoverRequest, examples=examples.CROSSOVER)
 @blp.response(200, CrossoverResponse)
 @blp.problems(*COMPUTE_PROBLEMS)
@@ -187,7 +189,7 @@ def crossover(inputs):
     The pressure altitude at which a calibrated airspeed and a Mach number are the same speed, where a climb at
     constant CAS reaches its Mach limit (and a descent at constant Mach reaches its CAS), and the static pressure
     there. It does not depend on the temperature. A pair that does not cross inside the model's range is a 422.
-    The example is the NR-200's climb CAS options against its cruise Mach.
+    The example is the TQ-62's climb CAS options against its cruise Mach.
     """
     result = Result(inputs)
     cas, mach = inputs.si("cas"), inputs.si("mach")
@@ -239,6 +241,7 @@ ScheduleResponse = response_schema("ScheduleResponse", SCHEDULE_OUTPUTS, Schedul
 
 
 @blp.route("/airspeed/schedule", methods=["POST"])
+@blp.doc(operationId="computeSpeedSchedule")
 @blp.arguments(ScheduleRequest, examples=examples.SCHEDULE)
 @blp.response(200, ScheduleResponse)
 @blp.problems(*COMPUTE_PROBLEMS)
@@ -248,7 +251,7 @@ def schedule(inputs):
     The speeds of a schedule "fly `cas` until it reaches `mach`, then hold `mach`" (a climb; a descent flies it the
     other way round) at each altitude: which of the two governs, the CAS, Mach, TAS and EAS flown, and the crossover
     altitude. With `speed_limit` the CAS flown below its altitude is at most its CAS (the common 250 kt below
-    10,000 ft), and `governing` reads "limit" there. The example is the NR-200's 290 kt / M0.76 climb on an ISA+10
+    10,000 ft), and `governing` reads "limit" there. The example is the TQ-62's 290 kt / M0.76 climb on an ISA+10
     day.
     """
     result = Result(inputs)

@@ -54,6 +54,7 @@ AtmosphereResponse = response_schema("AtmosphereResponse", OUTPUTS, inputs=Atmos
 
 
 @blp.route("/atmosphere", methods=["POST"])
+@blp.doc(operationId="computeAtmosphere")
 @blp.arguments(AtmosphereRequest, examples=examples.ATMOSPHERE)
 @blp.response(200, AtmosphereResponse)
 @blp.problems(*COMPUTE_PROBLEMS)

@@ -85,6 +85,9 @@ class ProblemSchema(ma.Schema):
         "description": f"How many further errors were found beyond the {problems.MAX_ERRORS} listed.", "example": 3})
     request_id = ma.fields.String(metadata={"description": "The request id (X-Request-ID) for support."})
     limit = ma.fields.Integer(metadata={"description": "For 413: the limit that was exceeded."})
+    acceptable = ma.fields.List(ma.fields.String(), metadata={
+        "description": "For 406: the media types the endpoint answers in (Accept may name them with q-values, "
+                       "wildcards and charset=utf-8)."})
     field = ma.fields.String(metadata={"description": "For no-solution: the output that does not exist."})
     count = ma.fields.Integer(metadata={"description": "For no-solution: how many points have no solution."})
     indices = ma.fields.List(ma.fields.Integer(), metadata={
@@ -96,6 +99,11 @@ class Converter(OpenAPIConverter):
 
     def schema2jsonschema(self, schema):
         jsonschema = super().schema2jsonschema(schema)
+        # A request field's default is in its description, not a `default` keyword: generators read the
+        # keyword as "always present" (openapi-typescript makes such a property required), so clients would
+        # have to send what the service defaults.
+        for prop in jsonschema.get("properties", {}).values():
+            prop.pop("default", None)
         rules = schema_rules(resolve_schema_instance(schema))
         if rules:
             jsonschema["allOf"] = [rule.spec() for rule in rules]
@@ -124,6 +132,8 @@ class Api(flask_smorest.Api):
         self._spec_dict = None
         super().init_app(app, spec_kwargs={"marshmallow_plugin": MarshmallowPlugin(), **(spec_kwargs or {})})
         self.ma_plugin.converter.add_attribute_function(fields.field_to_properties)
+        for name, component in fields.named_schemas().items():  # the dimensions' types the fields refer to
+            self.spec.components.schema(name, component=component)
         self.spec.components.schema("Warning", schema=WarningSchema)
         problems.register(app)
         app.add_url_rule("/openapi.json", "openapi_json", self.openapi_json)

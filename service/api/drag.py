@@ -233,27 +233,29 @@ _SPEED_DESCRIPTIONS = {"eas": ("Equivalent airspeed [kt].", "speed"), "cas": ("C
 
 
 def _condition_schema(name: str, extra: dict) -> type[ma.Schema]:
-    fields = {key: quantity_out(desc) if dim else ratio_out(desc) for key, (desc, dim) in _SPEED_DESCRIPTIONS.items()}
+    fields = {key: quantity_out(desc, dim) if dim else ratio_out(desc)
+              for key, (desc, dim) in _SPEED_DESCRIPTIONS.items()}
     fields.update(extra)
     return type(name, (ma.Schema,), fields)
 
 
 MinimumDragOut = _condition_schema("MinimumDragOut", {
     "cl": ratio_out("Lift coefficient of minimum drag, sqrt(CD0 / k) [-]."),
-    "drag": quantity_out("The minimum drag (thrust required), 2 W sqrt(CD0 k) [N]."),
+    "drag": quantity_out("The minimum drag (thrust required), 2 W sqrt(CD0 k) [N].", "force"),
     "lift_to_drag": ratio_out("The maximum lift-to-drag ratio, 1 / (2 sqrt(CD0 k)) [-]."),
 })
 MinimumPowerOut = _condition_schema("MinimumPowerOut", {
     "cl": ratio_out("Lift coefficient of minimum power, sqrt(3 CD0 / k) [-]."),
-    "power": quantity_out("The minimum power required, drag times TAS [kW]."),
-    "drag": quantity_out("The drag there [N]."),
+    "power": quantity_out("The minimum power required, drag times TAS [kW].", "power"),
+    "drag": quantity_out("The drag there [N].", "force"),
 })
 BestGlideOut = _condition_schema("BestGlideOut", {
     "cl": ratio_out("Lift coefficient of the best glide, that of minimum drag [-]."),
     "glide_ratio": ratio_out("Glide ratio, distance per height lost in still air: the maximum L/D [-]."),
-    "glide_angle": quantity_out("Glide path angle below the horizon, atan(1 / glide ratio) [deg]."),
-    "sink_rate": quantity_out("Rate of descent, TAS x sin(glide angle) [ft/min]."),
-    "glide_distance": quantity_out("With `height`: still-air distance over the ground, height x glide ratio [NM]."),
+    "glide_angle": quantity_out("Glide path angle below the horizon, atan(1 / glide ratio) [deg].", "angle"),
+    "sink_rate": quantity_out("Rate of descent, TAS x sin(glide angle) [ft/min].", "vertical_speed"),
+    "glide_distance": quantity_out("With `height`: still-air distance over the ground, height x glide ratio [NM].",
+                                   "distance"),
 })
 
 DragSpeedsResponse = response_schema("DragSpeedsResponse", {}, DragSpeedsRequest, fields={

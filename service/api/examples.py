@@ -1,6 +1,6 @@
 """The spec's request examples, set around our invented operator and aircraft.
 
-Northwind Regional (an invented operator) flies the NR-200 (an invented type): wing area 61 m2, aspect ratio
+Tavrenne Regional (an invented operator) flies the TQ-62 (an invented type): wing area 61 m2, aspect ratio
 11, unswept, MTOW 23 000 kg, clean CLmax 1.6, a 290 kt / M0.76 climb. Its high airfield Quillon Ridge (also
 invented) lies at 7,200 ft. Each endpoint's examples, taken together, give every numeric input at least once,
 so that every field of the answers, the grid's `inputs` among them, has a computed example
@@ -9,10 +9,10 @@ so that every field of the answers, the grid's `inputs` among them, has a comput
 
 from __future__ import annotations
 
-#: The NR-200's airspeed calibration, IAS -> CAS [kt].
-NR200_CALIBRATION = {"ias": [120, 160, 200, 240, 280, 320], "cas": [123, 162, 201, 240, 278.5, 317], "unit": "kt"}
-#: The NR-200's wing for the lift curve: a cambered section of 0.105 per degree.
-NR200_WING = {"aspect_ratio": 11, "sweep_half_chord": 0, "airfoil_lift_slope": {"value": 0.105, "unit": "1/deg"},
+#: The TQ-62's airspeed calibration, IAS -> CAS [kt].
+TQ62_CALIBRATION = {"ias": [120, 160, 200, 240, 280, 320], "cas": [123, 162, 201, 240, 278.5, 317], "unit": "kt"}
+#: The TQ-62's wing for the lift curve: a cambered section of 0.105 per degree.
+TQ62_WING = {"aspect_ratio": 11, "sweep_half_chord": 0, "airfoil_lift_slope": {"value": 0.105, "unit": "1/deg"},
               "zero_lift_angle": -2.5, "cl_max": 1.6}
 
 
@@ -24,9 +24,10 @@ def _examples(*items: tuple[str, str, dict]) -> dict:
 ATMOSPHERE = _examples(
     ("fl350-isa10", "FL350 on an ISA+10 day",
      {"altitude": {"value": 350, "unit": "FL"}, "isa_deviation": 10}),
-    ("quillon-ridge-hot-day", "Density altitude at Quillon Ridge (7,200 ft) on a 32 degC day, QNH 1008 hPa",
+    ("quillon-ridge-hot-day", "Density altitude at Quillon Ridge (7,200 ft) on a 32 degC day, QNH 1008 hPa, "
+                              "to six significant digits",
      {"altitude": 7200, "qnh": 1008, "temperature": 32,
-      "outputs": ["pressure_altitude", "density_altitude", "isa_deviation", "density"]}),
+      "outputs": ["pressure_altitude", "density_altitude", "isa_deviation", "density"], "significant_digits": 6}),
     ("si-table", "A grid of geometric heights and ISA deviations, in SI units",
      {"altitude": {"value": [0, 3000, 6000], "unit": "m"}, "altitude_kind": "geometric", "isa_deviation": [-10, 15],
       "grid": True, "outputs": ["temperature", "pressure", "density"],
@@ -34,8 +35,8 @@ ATMOSPHERE = _examples(
 )
 
 AIRSPEED = _examples(
-    ("nr200-ias", "The NR-200 at 250 kt IAS (through its calibration) at FL330, ISA+15",
-     {"ias": 250, "altitude": {"value": 330, "unit": "FL"}, "isa_deviation": 15, "calibration": NR200_CALIBRATION}),
+    ("tq62-ias", "The TQ-62 at 250 kt IAS (through its calibration) at FL330, ISA+15",
+     {"ias": 250, "altitude": {"value": 330, "unit": "FL"}, "isa_deviation": 15, "calibration": TQ62_CALIBRATION}),
     ("cas-fl240", "250 kt CAS at FL240 on an ISA+12 day",
      {"cas": 250, "altitude": {"value": 240, "unit": "FL"}, "isa_deviation": 12}),
     ("cruise-mach-kmh", "Two cruise Mach numbers at two levels with the outside air temperature, speeds in km/h",
@@ -48,27 +49,27 @@ AIRSPEED = _examples(
 )
 
 CROSSOVER = _examples(
-    ("nr200-climb-options", "Three climb CAS options of the NR-200 against its M0.78 limit",
+    ("tq62-climb-options", "Three climb CAS options of the TQ-62 against its M0.78 limit",
      {"cas": [280, 300, 320], "mach": 0.78}),
     ("grid-in-metres", "A grid of CAS and Mach numbers, altitudes in metres",
      {"cas": [280, 300], "mach": [0.74, 0.78], "grid": True, "output_units": {"altitude": "m", "pressure": "inHg"}}),
 )
 
 SCHEDULE = _examples(
-    ("nr200-climb", "The NR-200's 290 kt / M0.76 climb on an ISA+10 day",
+    ("tq62-climb", "The TQ-62's 290 kt / M0.76 climb on an ISA+10 day",
      {"cas": 290, "mach": 0.76, "altitude": {"value": [100, 200, 250, 300, 350], "unit": "FL"}, "isa_deviation": 10}),
     ("descent-with-oat", "A M0.74 / 280 kt descent with the outside air temperature at each level",
      {"cas": 280, "mach": 0.74, "altitude": {"value": [350, 300, 250, 200], "unit": "FL"},
       "temperature": [-50, -41, -31, -20], "outputs": ["governing", "cas", "mach", "tas"]}),
-    ("climb-under-250-below-10000", "The NR-200's 290 kt / M0.76 climb with the common 250 kt below 10,000 ft",
+    ("climb-under-250-below-10000", "The TQ-62's 290 kt / M0.76 climb with the common 250 kt below 10,000 ft",
      {"cas": 290, "mach": 0.76, "altitude": [3000, 8000, 10000, 15000, 25000, 35000], "isa_deviation": 10,
       "speed_limit": {"cas": 250, "altitude": 10000}, "outputs": ["governing", "cas", "mach", "tas"]}),
 )
 
 LIFT_SOLVE = _examples(
-    ("cl-at-cruise", "The NR-200's CL at cruise: 21 000 kg, Mach 0.45, FL250, ISA+5, with its wing's angle of attack",
+    ("cl-at-cruise", "The TQ-62's CL at cruise: 21 000 kg, Mach 0.45, FL250, ISA+5, with its wing's angle of attack",
      {"solve_for": "cl", "weight": 21000, "wing_area": 61, "mach": 0.45, "altitude": {"value": 250, "unit": "FL"},
-      "isa_deviation": 5, "wing": NR200_WING}),
+      "isa_deviation": 5, "wing": TQ62_WING}),
     ("speed-for-cl", "Every speed kind for CL 1.2 at 22 000 kg, 3000 ft, ISA+10",
      {"solve_for": "speed", "weight": 22000, "wing_area": 61, "cl": 1.2, "altitude": 3000, "isa_deviation": 10,
       "outputs": ["cas", "eas", "tas", "mach", "dynamic_pressure"]}),
@@ -77,7 +78,7 @@ LIFT_SOLVE = _examples(
       "outputs": ["pressure_altitude", "density_altitude", "tas", "cas"]}),
     ("load-factor-over-quillon-ridge", "The load factor at 160 kt IAS and CL 1.3 over Quillon Ridge, QNH 1008 hPa",
      {"solve_for": "load_factor", "weight": 20000, "wing_area": 61, "cl": 1.3, "ias": 160,
-      "calibration": NR200_CALIBRATION, "altitude": 8200, "qnh": 1008, "temperature": 27,
+      "calibration": TQ62_CALIBRATION, "altitude": 8200, "qnh": 1008, "temperature": 27,
       "outputs": ["load_factor", "bank_angle", "cas", "tas"]}),
     ("weight-in-a-turn", "The weight a 30 deg level turn at 180 kt TAS and CL 1.0 supports, in kN",
      {"solve_for": "weight", "wing_area": 61, "cl": 1.0, "tas": 180, "altitude": 5000, "temperature": 20,
@@ -91,7 +92,7 @@ LIFT_SOLVE = _examples(
 )
 
 LIFT_STALL = _examples(
-    ("turns-and-margins", "NR-200 stall speeds in level turns, 1.13/1.23/1.3 of them, and the margins at 160 kt CAS",
+    ("turns-and-margins", "TQ-62 stall speeds in level turns, 1.13/1.23/1.3 of them, and the margins at 160 kt CAS",
      {"weight": 22000, "wing_area": 61, "cl_max": 1.6, "altitude": 3000, "isa_deviation": 10,
       "bank_angle": [0, 30, 45, 60], "speed_factors": [1.13, 1.23, 1.3], "cas": 160}),
     ("flight-manual-reference", "A flight-manual stall speed (108 kt CAS at 22 000 kg) scaled to 19 000 kg",
@@ -99,7 +100,7 @@ LIFT_STALL = _examples(
       "isa_deviation": 10}),
     ("quillon-ridge-circuit", "In the circuit at Quillon Ridge: 8,200 ft on QNH 1008 hPa, 25 degC, 150 kt IAS",
      {"weight": 22000, "wing_area": 61, "cl_max": 1.6, "altitude": 8200, "qnh": 1008, "temperature": 25,
-      "load_factor": [1.0, 1.2], "ias": 150, "calibration": NR200_CALIBRATION}),
+      "load_factor": [1.0, 1.2], "ias": 150, "calibration": TQ62_CALIBRATION}),
     ("margins-eas-grid", "Stall margins at 140 kt EAS over a grid of weights and bank angles",
      {"weight": [18000, 22000], "wing_area": 61, "cl_max": 1.6, "altitude": 3000, "bank_angle": [0, 30],
       "eas": 140, "grid": True, "outputs": ["stall", "margin"]}),
@@ -112,7 +113,7 @@ LIFT_STALL = _examples(
 )
 
 LIFT_CURVE = _examples(
-    ("angle-for-cl", "The NR-200 wing's angle of attack for CL 0.9 at Mach 0.3",
+    ("angle-for-cl", "The TQ-62 wing's angle of attack for CL 0.9 at Mach 0.3",
      {"aspect_ratio": 11, "sweep_half_chord": 0, "mach": 0.3, "airfoil_lift_slope": {"value": 0.105, "unit": "1/deg"},
       "zero_lift_angle": -2.5, "cl": 0.9, "cl_max": 1.6}),
     ("cl-at-angles", "CL at three angles of attack for two aspect ratios, slope per degree",
@@ -120,58 +121,58 @@ LIFT_CURVE = _examples(
       "airfoil_efficiency": 0.95, "angle_of_attack": [0, 4, 8], "grid": True, "output_units": {"lift_slope": "1/deg"}}),
 )
 
-# --- Drag, performance speeds, turns and buffet (invented NR-200 data: for demos only, never a reference) ---
+# --- Drag, performance speeds, turns and buffet (invented TQ-62 data: for demos only, never a reference) ---
 
-#: The NR-200's clean drag polar (invented): CD = 0.024 + k CL^2 with A = 11, e = 0.78.
-NR200_POLAR = {"cd0": 0.024, "aspect_ratio": 11, "oswald_efficiency": 0.78}
-#: The NR-200's 1 g buffet-onset boundary, CL against Mach (invented).
-NR200_BUFFET = {"mach": [0.30, 0.40, 0.50, 0.60, 0.66, 0.70, 0.74, 0.78, 0.82],
+#: The TQ-62's clean drag polar (invented): CD = 0.024 + k CL^2 with A = 11, e = 0.78.
+TQ62_POLAR = {"cd0": 0.024, "aspect_ratio": 11, "oswald_efficiency": 0.78}
+#: The TQ-62's 1 g buffet-onset boundary, CL against Mach (invented).
+TQ62_BUFFET = {"mach": [0.30, 0.40, 0.50, 0.60, 0.66, 0.70, 0.74, 0.78, 0.82],
                 "cl": [1.30, 1.20, 1.08, 0.94, 0.84, 0.76, 0.66, 0.55, 0.42]}
 
 DRAG = _examples(
-    ("nr200-cruise", "The NR-200's drag at 21 000 kg, Mach 0.45, FL250, ISA+5",
-     {"weight": 21000, "wing_area": 61, **NR200_POLAR, "mach": 0.45, "altitude": {"value": 250, "unit": "FL"},
+    ("tq62-cruise", "The TQ-62's drag at 21 000 kg, Mach 0.45, FL250, ISA+5",
+     {"weight": 21000, "wing_area": 61, **TQ62_POLAR, "mach": 0.45, "altitude": {"value": 250, "unit": "FL"},
       "isa_deviation": 5}),
     ("holding-turn", "In a 25 deg holding turn at 210 kt IAS, 10 000 ft, with k given directly, forces in kN",
      {"weight": 22000, "wing_area": 61, "cd0": 0.024, "induced_drag_factor": 0.0371, "ias": 210,
-      "calibration": NR200_CALIBRATION, "altitude": 10000, "temperature": -5, "bank_angle": 25,
+      "calibration": TQ62_CALIBRATION, "altitude": 10000, "temperature": -5, "bank_angle": 25,
       "outputs": ["cl", "cd", "drag", "lift_to_drag", "power_required", "cas", "tas"],
       "output_units": {"force": "kN", "power": "hp"}}),
     ("polar-sweep", "The polar swept over CL at 3000 ft on a QNH day (the speeds follow from the CL)",
-     {"weight": 20000, "wing_area": 61, **NR200_POLAR, "cl": [0.3, 0.5, 0.8, 1.1], "altitude": 3000, "qnh": 1008,
+     {"weight": 20000, "wing_area": 61, **TQ62_POLAR, "cl": [0.3, 0.5, 0.8, 1.1], "altitude": 3000, "qnh": 1008,
       "load_factor": 1.0, "mach_limit": 0.7, "outputs": ["cd", "lift_to_drag", "drag", "eas", "mach"]}),
     ("tas-eas-grid", "A grid of TAS and weights at 5000 m geometric height",
-     {"weight": {"value": [18, 23], "unit": "t"}, "wing_area": 61, **NR200_POLAR, "tas": [220, 260, 300],
+     {"weight": {"value": [18, 23], "unit": "t"}, "wing_area": 61, **TQ62_POLAR, "tas": [220, 260, 300],
       "altitude": {"value": 5000, "unit": "m"}, "altitude_kind": "geometric", "grid": True,
       "outputs": ["drag", "thrust_required", "power_required"]}),
     ("eas-at-fl180", "At 200 kt EAS, FL180",
-     {"weight": 21000, "wing_area": 61, **NR200_POLAR, "eas": 200, "altitude": {"value": 180, "unit": "FL"},
+     {"weight": 21000, "wing_area": 61, **TQ62_POLAR, "eas": 200, "altitude": {"value": 180, "unit": "FL"},
       "outputs": ["drag", "dynamic_pressure", "density"]}),
     ("cas-in-the-climb", "In the 290 kt climb at FL150 and FL250 on a -5 degC and a -25 degC day",
-     {"weight": 22500, "wing_area": 61, **NR200_POLAR, "cas": 290, "altitude": {"value": [150, 250], "unit": "FL"},
+     {"weight": 22500, "wing_area": 61, **TQ62_POLAR, "cas": 290, "altitude": {"value": [150, 250], "unit": "FL"},
       "temperature": [-5, -25], "outputs": ["cl", "drag", "power_required", "mach"]}),
     ("beyond-the-polar", "At Mach 0.74, FL370: beyond the polar's default Mach limit, with the warning",
-     {"weight": 21000, "wing_area": 61, **NR200_POLAR, "mach": [0.55, 0.74], "altitude": {"value": 370, "unit": "FL"},
+     {"weight": 21000, "wing_area": 61, **TQ62_POLAR, "mach": [0.55, 0.74], "altitude": {"value": 370, "unit": "FL"},
       "outputs": ["cl", "cd", "drag", "lift_to_drag"]}),
 )
 
 DRAG_SPEEDS = _examples(
-    ("nr200-fl250", "The NR-200's characteristic speeds at 21 000 kg, FL250, ISA+5, gliding from 25 000 ft",
-     {"weight": 21000, "wing_area": 61, **NR200_POLAR, "altitude": {"value": 250, "unit": "FL"},
+    ("tq62-fl250", "The TQ-62's characteristic speeds at 21 000 kg, FL250, ISA+5, gliding from 25 000 ft",
+     {"weight": 21000, "wing_area": 61, **TQ62_POLAR, "altitude": {"value": 250, "unit": "FL"},
       "isa_deviation": 5, "height": 25000}),
     ("engine-out-glide", "Best glide from 8000 ft above Quillon Ridge (QNH 1008 hPa, 27 degC) at two weights",
      {"weight": [19000, 23000], "wing_area": 61, "cd0": 0.024, "induced_drag_factor": 0.0371, "altitude": 15200,
       "qnh": 1008, "temperature": 11, "height": {"value": 8000, "unit": "ft"}, "mach_limit": 0.65,
       "outputs": ["best_glide"], "output_units": {"distance": "km", "vertical_speed": "m/s"}}),
     ("altitude-grid", "Minimum drag and minimum power over a grid of weights and geometric heights, power in hp",
-     {"weight": [18000, 23000], "wing_area": 61, **NR200_POLAR, "altitude": {"value": [0, 6000], "unit": "m"},
+     {"weight": [18000, 23000], "wing_area": 61, **TQ62_POLAR, "altitude": {"value": [0, 6000], "unit": "m"},
       "altitude_kind": "geometric", "grid": True, "outputs": ["minimum_drag", "minimum_power"],
       "output_units": {"power": "hp"}}),
 )
 
 TURN = _examples(
     ("standard-rate", "A standard-rate turn (3 deg/s) at 210 kt IAS, 5000 ft, ISA+10",
-     {"ias": 210, "calibration": NR200_CALIBRATION, "altitude": 5000, "isa_deviation": 10, "turn_rate": 3}),
+     {"ias": 210, "calibration": TQ62_CALIBRATION, "altitude": 5000, "isa_deviation": 10, "turn_rate": 3}),
     ("holding-bank", "25 deg of bank at three TAS, radius in NM and time in minutes",
      {"tas": [180, 230, 280], "altitude": 14000, "temperature": -10, "bank_angle": 25,
       "output_units": {"time": "min"}}),
@@ -185,17 +186,17 @@ TURN = _examples(
 )
 
 BUFFET = _examples(
-    ("nr200-cruise-margin", "The NR-200 at 21 000 kg, Mach 0.74, FL370: margins and the 1.3 g limits",
+    ("tq62-cruise-margin", "The TQ-62 at 21 000 kg, Mach 0.74, FL370: margins and the 1.3 g limits",
      {"weight": 21000, "wing_area": 61, "mach": 0.74, "altitude": {"value": 370, "unit": "FL"},
-      "buffet": NR200_BUFFET, "margin": 1.3}),
+      "buffet": TQ62_BUFFET, "margin": 1.3}),
     ("levels-and-weights", "Three levels at two weights (grid), W/delta in lb",
      {"weight": {"value": [18, 23], "unit": "t"}, "wing_area": 61, "mach": 0.72,
-      "altitude": {"value": [330, 370, 410], "unit": "FL"}, "buffet": NR200_BUFFET, "grid": True,
+      "altitude": {"value": [330, 370, 410], "unit": "FL"}, "buffet": TQ62_BUFFET, "grid": True,
       "outputs": ["load_factor_to_buffet", "bank_to_buffet", "weight_over_delta"], "output_units": {"mass": "lb"}}),
     ("mach-sweep", "A Mach sweep at FL390 with a 1.5 g margin, altitudes in m",
      {"weight": 22000, "wing_area": 61, "mach": [0.6, 0.7, 0.78], "altitude": 39000, "isa_deviation": 10,
-      "buffet": NR200_BUFFET, "margin": 1.5, "output_units": {"altitude": "m"}}),
+      "buffet": TQ62_BUFFET, "margin": 1.5, "output_units": {"altitude": "m"}}),
     ("quillon-ridge-departure", "Climbing out of Quillon Ridge: Mach 0.5 at 16 000 ft on QNH 1008 hPa, -2 degC",
      {"weight": 23000, "wing_area": 61, "mach": 0.5, "altitude": 16000, "qnh": 1008, "temperature": -2,
-      "buffet": NR200_BUFFET, "outputs": ["cl", "load_factor_to_buffet", "bank_to_buffet", "cas", "tas"]}),
+      "buffet": TQ62_BUFFET, "outputs": ["cl", "load_factor_to_buffet", "bank_to_buffet", "cas", "tas"]}),
 )

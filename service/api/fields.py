@@ -14,7 +14,6 @@ float range (1e400) are refused the same way.
 from __future__ import annotations
 
 import math
-from decimal import ROUND_CEILING, ROUND_FLOOR, Decimal
 from typing import NamedTuple
 
 import marshmallow as ma
@@ -35,6 +34,8 @@ class Value(NamedTuple):
     unit: str | None
     dimension: str | None
     is_array: bool
+    #: The numbers as given, in ``unit`` (for the echo of inputs); None for a dimensionless input (``si``).
+    given: np.ndarray | None = None
 
     @property
     def size(self) -> int:
@@ -115,6 +116,34 @@ def _one_number(raw) -> float:
     return float(parse_numbers(raw, allow_array=False)[0])
 
 
+#: Words that keep their capital when a description's first words become part of a sentence.
+_PROPER = ("Mach",)
+
+
+def trade_name(field: ma.fields.Field, name: str) -> str:
+    """What a field is, in the words of its description: "Pressure altitude [ft] (FL allowed): ..."
+    -> "the pressure altitude (altitude)"; "Mach number [-], ..." -> "the Mach number (mach)"."""
+    words = field.metadata.get("description", "") or name
+    for stop in (" [", " (", " = ", ", ", ". ", ": "):
+        words = words.split(stop, 1)[0]
+    words = words.rstrip(".")
+    first = words.split(" ", 1)[0]
+    if first not in _PROPER and first[1:].islower():
+        words = words[0].lower() + words[1:]
+    if not words.startswith("the "):
+        words = "the " + words
+    return words if words.replace(" ", "_").removeprefix("the_") == name else f"{words} ({name})"
+
+
+def what_to_give(field: ma.fields.Field, name: str) -> str:
+    """The message for a missing input: what it is and how to give it."""
+    message = f"Missing: {trade_name(field, name)}"
+    if isinstance(field, Quantity):
+        symbols = ", ".join(field.dim.units)
+        return f"{message}, in {field.default_unit}, or as {{\"value\": ..., \"unit\": ...}} in one of {symbols}."
+    return message + "."
+
+
 class Number(ma.fields.Field):
     """A dimensionless input: a bare number or a flat array of numbers.
 
@@ -137,6 +166,12 @@ class Number(ma.fields.Field):
         return self.rules
 
     dimension: str | None = None
+
+    def make_error(self, key: str, **kwargs) -> ma.ValidationError:
+        """marshmallow's hook for a field's error messages: a missing input says what to give."""
+        if key == "required":
+            return ma.ValidationError(what_to_give(self, self.name))
+        return super().make_error(key, **kwargs)
 
     def _check_range(self, array, lo, hi, message_for):
         """Refuse values outside [lo, hi] (bounds as published); ``message_for()`` says why."""
@@ -200,21 +235,34 @@ class Number(ma.fields.Field):
                                       for index, messages in err.messages.items()}) from None
 
 
-def inward(value: float | None, *, up: bool) -> float | None:
-    """A bound converted to another unit, as published and checked: 12 significant digits.
+#: A range end converted to another unit is published as the short decimal it stands for (100 degC is
+#: 212 degF) when the exact float end (units.bound_in) lies within this many units in the last place of it.
+_SNAP_ULPS = 4
 
-    A conversion that is exact but for floating-point noise (100 degC = 212 degF) gives the
-    exact number; any other is rounded toward the inside of the range (``up`` for a lower
-    bound), so that a value which passes it lies inside the range in every unit.
-    """
-    if value is None or value == 0.0:
-        return value
-    nearest = float(f"{value:.12g}")
-    if abs(nearest - value) <= 1e-12 * abs(value):
-        return nearest
-    exponent = math.floor(math.log10(abs(value))) - 11
-    rounded = Decimal(value).quantize(Decimal(1).scaleb(exponent), rounding=ROUND_CEILING if up else ROUND_FLOOR)
-    return float(rounded)
+
+class Range(tuple):
+    """``(lo, hi)`` of a field in one unit, as published and checked; ``si``: the same range in SI, to which
+    the converted values are clipped (a published end that is a short decimal may convert a few units in
+    the last place beyond the SI end)."""
+
+    si: tuple = (None, None)
+
+    def __new__(cls, lo, hi, si):
+        bounds = super().__new__(cls, (lo, hi))
+        bounds.si = si
+        return bounds
+
+
+def _published(exact: float | None) -> float | None:
+    """The end as published: the short decimal it stands for, or the exact float end."""
+    if exact is None or exact == 0.0:
+        return exact
+    snapped = float(f"{exact:.12g}")
+    return snapped if abs(snapped - exact) <= _SNAP_ULPS * math.ulp(exact) else exact
+
+
+_MISSING_IN_OBJECT = {"value": "Missing: the number or array of numbers (value), in `unit`.",
+                      "unit": "Missing: the unit of `value` (unit), one of {units}."}
 
 
 class Quantity(Number):
@@ -234,23 +282,28 @@ class Quantity(Number):
         # the bare-number form is in the default unit: publish its bounds there
         self.minimum, self.maximum = self.bounds[self.default_unit]
 
-    def unit_bounds(self, lo, hi, given_in: str) -> dict[str, tuple[float | None, float | None]]:
-        """{unit: (lo, hi)}: the bounds ``lo``/``hi`` (in unit ``given_in``) in every unit of the field."""
-        out = {}
-        source = self.dim.units[given_in]
-        for name, unit in self.dim.units.items():
-            if (unit.factor, unit.offset) == (source.factor, source.offset):
-                out[name] = (inward(lo, up=True), inward(hi, up=False))
-                continue
-            converted = [None if b is None else float(units.from_si(units.to_si(b, self.dimension, given_in),
-                                                                    self.dimension, name)) for b in (lo, hi)]
-            out[name] = (inward(converted[0], up=True), inward(converted[1], up=False))
-        return out
+    def unit_bounds(self, lo, hi, given_in: str) -> dict[str, Range]:
+        """{unit: (lo, hi)}: the range ``lo``..``hi`` (in unit ``given_in``) in every unit of the field, exact.
+
+        Each end is the float end of :func:`service.units.bound_in` (84 852 m is 278385.82677165355 ft),
+        or the short decimal it stands for when that is a few units in the last place away (100 degC
+        is 212 degF); the check uses the same numbers, and the SI values are clipped to the SI range.
+        """
+        si = tuple(None if b is None else float(units.to_si(np.float64(b), self.dimension, given_in))
+                   for b in (lo, hi))
+        return {name: Range(
+            None if si[0] is None else _published(units.bound_in(
+                self.dimension, name, si[0], upper=False, exclusive=self.exclusive_minimum)),
+            None if si[1] is None else _published(units.bound_in(
+                self.dimension, name, si[1], upper=True, exclusive=self.exclusive_maximum)),
+            si) for name in self.dim.units}
 
     def _unit(self, unit) -> str:
-        if type(unit) is not str or unit not in self.dim.units:  # {} or [] would not even hash
-            raise ma.ValidationError({"unit": [str(units.UnitError(self.dimension, unit))]})
-        return unit
+        """The unit's name (aliases accepted: units.canonical); a 422 with suggestions otherwise."""
+        try:
+            return units.canonical(self.dimension, unit)
+        except units.UnitError as err:
+            raise ma.ValidationError({"unit": [str(err)]}) from None
 
     def bounds_in(self, unit: str, data) -> tuple[float | None, float | None]:
         """The bounds of a value given in ``unit`` (``data``: the raw request, for subclasses)."""
@@ -269,7 +322,7 @@ class Quantity(Number):
         if type(value) is dict:
             missing = {"value", "unit"} - value.keys()
             extra = value.keys() - {"value", "unit"}
-            errors = {k: ["Missing data for required field."] for k in sorted(missing)}
+            errors = {k: [_MISSING_IN_OBJECT[k].format(units=", ".join(self.dim.units))] for k in sorted(missing)}
             errors.update({k: ["Unknown field."] for k in sorted(extra)})
             if errors:
                 raise ma.ValidationError(errors)
@@ -280,16 +333,24 @@ class Quantity(Number):
                 raise ma.ValidationError({"value": err.messages}) from None
         else:
             array, is_array = parse_numbers(value, allow_array=self.allow_array)
+        si_lo = si_hi = None
         if self.bounded:
-            lo, hi = self.bounds_in(unit, data)
+            bounds = self.bounds_in(unit, data)
+            lo, hi = bounds
             try:
                 self._check_range(array, lo, hi, lambda: self.describe_range(lo, hi, unit))
             except ma.ValidationError as err:
                 if type(value) is dict:
                     raise ma.ValidationError({"value": err.messages}) from None
                 raise
+            si_lo, si_hi = getattr(bounds, "si", (None, None))
         si = units.to_si(array, self.dimension, unit)
-        return Value(np.asarray(si, dtype=np.float64) if is_array else np.float64(si), unit, self.dimension, is_array)
+        if si_hi is not None and not self.exclusive_maximum:
+            si = np.minimum(si, si_hi)
+        if si_lo is not None and not self.exclusive_minimum:
+            si = np.maximum(si, si_lo)
+        return Value(np.asarray(si, dtype=np.float64) if is_array else np.float64(si), unit, self.dimension, is_array,
+                     array)
 
 
 class OutputUnits(ma.fields.Field):
@@ -303,10 +364,11 @@ class OutputUnits(ma.fields.Field):
         for key, unit in value.items():
             if key not in units.OUTPUT_DIMENSIONS:
                 errors[key] = [f"Unknown dimension; allowed: {', '.join(units.OUTPUT_DIMENSIONS)}."]
-            elif not isinstance(unit, str) or unit not in units.DIMENSIONS[key].units:
-                errors[key] = [str(units.UnitError(key, unit))]
             else:
-                chosen[key] = unit
+                try:
+                    chosen[key] = units.canonical(key, unit)
+                except units.UnitError as err:
+                    errors[key] = [str(err)]
         if errors:
             raise ma.ValidationError(errors)
         return chosen
@@ -323,55 +385,137 @@ def _bounded_number(lo, hi, field: Number) -> dict:
     return schema
 
 
+# --- Named schemas: one per dimension, each field refers to its dimension's -------------------------
+
+def schema_name(dimension: str, suffix: str = "") -> str:
+    """The component name of a dimension's schema: "temperature_difference" -> "TemperatureDifference"."""
+    return "".join(part.capitalize() for part in dimension.split("_")) + suffix
+
+
+def ref(name: str) -> dict:
+    return {"$ref": f"#/components/schemas/{name}"}
+
+
+def named_schemas() -> dict[str, dict]:
+    """The named schemas the fields refer to (registered once as components by api.base.Api).
+
+    Per dimension: ``<Dim>Unit`` (the unit enum: every accepted symbol), ``<Dim>Value`` (``{value,
+    unit}``), ``<Dim>`` (an input: a number or array in the field's default unit, or a ``<Dim>Value``) and,
+    for output dimensions, ``<Dim>Out`` (an output: ``{value, unit}``, null where a value does not exist).
+    ``<Dim>Range`` is the range form ``{start, stop, step[, unit]}`` (``NumberRange`` without a unit), which
+    array fields accept beside ``<Dim>``. The bounds are the field's: beside the reference (see
+    :func:`quantity_schema`), not in these.
+    """
+    nullable = {"type": ["number", "null"]}
+    schemas = {
+        "NumberRange": ranges.schema({"type": "number"}),
+        "Numbers": {"oneOf": [{"type": "number"}, {"type": "array", "items": {"type": "number"}, "minItems": 1}],
+                    "description": "A number, or a non-empty array of numbers (one per point)."},
+        "NumbersOut": {"oneOf": [nullable, {"type": "array", "items": nullable}],
+                       "description": "A number (scalar inputs) or one number per point; null where the value does "
+                                      "not exist (see warnings)."},
+    }
+    for name, dim in units.DIMENSIONS.items():
+        base = schema_name(name)
+        schemas[base + "Unit"] = {"type": "string", "enum": list(dim.symbols),
+                                  "description": f"A unit of {name.replace('_', ' ')}: {units.allowed(name)} "
+                                                 "(GET /v1/units lists them)."}
+        schemas[base + "Value"] = {
+            "type": "object",
+            "properties": {"value": ref("Numbers") | {"description": "The number or numbers, in `unit`."},
+                           "unit": ref(base + "Unit") | {"description": "The unit of `value`."}},
+            "required": ["value", "unit"],
+            "additionalProperties": False,
+            "description": f"{dim.description} in a unit of your choice.",
+        }
+        schemas[base + "Range"] = ranges.schema({"type": "number"}, ref(base + "Unit"))
+        schemas[base] = {"oneOf": [ref("Numbers"), ref(base + "Value")],
+                         "description": f"{dim.description}: a number or array in the field's default unit, "
+                                        "or {value, unit}."}
+        if dim.output or name == "weight":  # a weight is written as a force or as a mass (api.outputs.unit_for)
+            schemas[base + "Out"] = {
+                "type": "object",
+                "properties": {"value": ref("NumbersOut") | {"description": "The number or numbers, in `unit`; "
+                                                                           "null where there is none (see warnings)."},
+                               "unit": ref(base + "Unit") | {"description": "The unit of `value`."}},
+                "required": ["value", "unit"],
+                "additionalProperties": False,
+                "description": f"{dim.description}, in the unit output_units chose (default "
+                               f"{units.DIMENSIONS['force' if name == 'weight' else name].default}).",
+            }
+    schemas["OutputUnits"] = {
+        "type": "object",
+        "properties": {name: ref(schema_name(name, "Unit")) | {
+            "description": f"{units.DIMENSIONS[name].description}; default {units.DIMENSIONS[name].default}."}
+            for name in units.OUTPUT_DIMENSIONS},
+        "additionalProperties": False,
+        "description": "Units of the outputs, by dimension; defaults: "
+                       + ", ".join(f"{name} {units.DIMENSIONS[name].default}" for name in units.OUTPUT_DIMENSIONS)
+                       + ". A weight output is a force (N, or the `force` unit), or a mass (weight / g0) when `mass` "
+                         "is named. A key that applies to no output of the answer is refused (422).",
+    }
+    return schemas
+
+
+def _bounds(field: Number, lo, hi) -> dict:
+    """Range keywords for a number or an array of numbers (JSON Schema applies each to its own type)."""
+    number = {k: v for k, v in _bounded_number(lo, hi, field).items() if k != "type"}
+    return number | {"items": dict(number)} if number and field.allow_array else number
+
+
+def _range_bounds(field: Number, lo, hi) -> dict:
+    """The bounds of a range's start and stop (properties keywords: they apply to objects only)."""
+    number = {k: v for k, v in _bounded_number(lo, hi, field).items() if k != "type"}
+    if not number:
+        return {}
+    return {"start": number | {"description": "A range's first number, within the field's range."},
+            "stop": number | {"description": "A range's last number, within the field's range."}}
+
+
 def number_schema(field: Number, lo=None, hi=None, *, bounded: bool = True, ranged: bool = True) -> dict:
-    """OpenAPI 3.1 schema of a bare number, a flat array of numbers or a range, within the field's bounds
-    (or ``lo``/``hi``; none with ``bounded=False``)."""
+    """OpenAPI 3.1 schema of a bare number, a flat array of numbers (``Numbers``) or a range
+    (``NumberRange``), within the field's bounds (or ``lo``/``hi``; none with ``bounded=False``)."""
     if bounded and lo is None and hi is None:
         lo, hi = field.minimum, field.maximum
-    number = _bounded_number(lo, hi, field) if bounded else {"type": "number"}
     if not field.allow_array:
-        return number
-    forms = [number, {"type": "array", "items": number, "minItems": 1}]
-    if ranged:
-        forms.append(ranges.schema(number))
-    return {"oneOf": forms}
+        return _bounded_number(lo, hi, field) if bounded else {"type": "number"}
+    if not ranged:
+        return ref("Numbers") | (_bounds(field, lo, hi) if bounded else {})
+    schema = {"oneOf": [ref("Numbers"), ref("NumberRange")]}
+    if bounded:
+        schema |= _bounds(field, lo, hi)
+        if starts := _range_bounds(field, lo, hi):
+            schema["properties"] = starts
+    return schema
 
 
 def quantity_schema(field: Quantity, bounds: dict | None = None) -> dict:
-    """OpenAPI schema of a Quantity: number, array or range in the default unit, or {value, unit}, or a
-    range with a unit.
+    """OpenAPI schema of a Quantity: its dimension's named schema (and, for array fields, its named range
+    form ``<Dim>Range``), with the field's range beside it.
 
-    With bounds (``field.bounds`` unless given: {unit: (lo, hi)}), the object forms are one branch per
-    unit, each with the bounds in that unit.
+    The range of the bare number or array (in the default unit) is ``minimum``/``maximum`` and
+    ``items``; the range in each unit of the ``{value, unit}`` form (and of a range's start and stop)
+    is a conditional on the unit (``if unit is ft then value within ...``), one per unit, so that the
+    type stays the one named schema. ``bounds``: {unit: (lo, hi)}, ``field.bounds`` unless given.
     """
-    bounds = field.bounds if bounds is None else bounds
-    lo, hi = bounds[field.default_unit]
-    plain = number_schema(field, lo, hi)
+    schema = ref(schema_name(field.dimension))
+    if field.allow_array:
+        schema = {"oneOf": [schema, ref(schema_name(field.dimension, "Range"))]}
     if not field.bounded:
-        objects = [{
-            "type": "object",
-            "properties": {
-                "value": number_schema(field, bounded=False, ranged=False)
-                | {"description": "The number or numbers, in `unit`."},
-                "unit": {"type": "string", "enum": list(field.dim.units), "description": "The unit of `value`."},
-            },
-            "required": ["value", "unit"],
-            "additionalProperties": False,
-        }]
-        if field.allow_array:
-            objects.append(ranges.schema({"type": "number"}, list(field.dim.units)))
-    else:
-        objects = [{
-            "type": "object",
-            "properties": {"value": number_schema(field, *bounds[unit], ranged=False)
-                           | {"description": f"The number(s) in {unit}."},
-                           "unit": {"const": unit, "description": "The unit of `value`."}},
-            "required": ["value", "unit"],
-            "additionalProperties": False,
-        } for unit in field.dim.units]
-        if field.allow_array:
-            objects += [ranges.schema(_bounded_number(*bounds[unit], field), unit) for unit in field.dim.units]
-    return {"oneOf": [*plain.get("oneOf", [plain]), *objects]}
+        return schema
+    bounds = field.bounds if bounds is None else bounds
+    schema |= _bounds(field, *bounds[field.default_unit])
+    schema["allOf"] = [{
+        "if": {"type": "object", "required": ["unit"],
+               "properties": {"unit": {"enum": [name, *unit.aliases]} if unit.aliases else {"const": name}}},
+        "then": {"properties": {"value": _bounds(field, *bounds[name])}
+                 | (_range_bounds(field, *bounds[name]) if field.allow_array else {})},
+    } for name, unit in field.dim.units.items()]
+    if field.allow_array and (starts := _range_bounds(field, *bounds[field.default_unit])):
+        # a range without a unit is in the default unit
+        schema["allOf"].append({"if": {"type": "object", "not": {"required": ["unit"]}},
+                                "then": {"properties": starts}})
+    return schema
 
 
 def field_to_properties(self, field, ret):
@@ -385,13 +529,5 @@ def field_to_properties(self, field, ret):
     if isinstance(field, Number):
         return number_schema(field)
     if isinstance(field, OutputUnits):
-        return {
-            "type": "object",
-            "properties": {
-                name: {"type": "string", "enum": list(dim.units),
-                       "description": f"{dim.description}; default {dim.default}."}
-                for name, dim in ((n, units.DIMENSIONS[n]) for n in units.OUTPUT_DIMENSIONS)
-            },
-            "additionalProperties": False,
-        }
+        return ref("OutputUnits")
     return {}

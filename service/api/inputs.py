@@ -177,6 +177,18 @@ class StrictBoolean(ma.fields.Boolean):
         return value
 
 
+class WholeNumber(ma.fields.Integer):
+    """An integer as JSON Schema has it: 3 or 3.0, never true or "3"."""
+
+    def __init__(self, **kwargs):
+        super().__init__(strict=True, **kwargs)
+
+    def _deserialize(self, value, attr, data, **kwargs):
+        if type(value) is float and value.is_integer():
+            value = int(value)
+        return super()._deserialize(value, attr, data, **kwargs)
+
+
 class ComputeSchema(RuleSchema):
     """Base of every compute request: output units, output selection, grid.
 
@@ -236,6 +248,13 @@ class ComputeSchema(RuleSchema):
         "example": True,
     })
 
+    significant_digits = WholeNumber(validate=ma.validate.Range(1, 17), metadata={
+        "description": "Round every number of the answer to this many significant digits (1 to 17), for people "
+                       "to read: with 6, 15 degC reads 59 degF and not 58.999999999999986. Default: full "
+                       "precision (the nearest double), for machines.",
+        "example": 6,
+    })
+
     @ma.post_load
     def _to_request(self, data, **kwargs):
         return Inputs(data, self.AXES, self.OUTPUTS)
@@ -258,6 +277,7 @@ class Inputs:
     def __init__(self, data: dict, axes: tuple[str, ...], outputs: dict | tuple[str, ...]):
         self.output_units: dict = data.pop("output_units", None) or {}
         self.grid: bool = data.pop("grid", False)
+        self.significant_digits: int | None = data.pop("significant_digits", None)
         wanted = data.pop("outputs", None)
         self.outputs: tuple[str, ...] = tuple(wanted) if wanted is not None else tuple(outputs)
         #: Output name -> its dimension (None: a bare number), from the schema's OUTPUTS table.
@@ -288,8 +308,10 @@ class Inputs:
             return self.shape
         if self.grid:
             grids = np.meshgrid(*(v.si for _, v in arrays), indexing="ij", copy=False)
-            for (name, v), g in zip(arrays, grids, strict=False):
-                self.data[name] = v._replace(si=g.ravel())
+            # the numbers as given, crossed alike, for the echo (api.outputs writes them as they are)
+            given = np.meshgrid(*(v.si if v.given is None else v.given for _, v in arrays), indexing="ij", copy=False)
+            for (name, v), g, raw in zip(arrays, grids, given, strict=False):
+                self.data[name] = v._replace(si=g.ravel(), given=None if v.given is None else raw.ravel())
             self.shape = (grids[0].size,)
             return self.shape
         sizes = {name: v.size for name, v in arrays}

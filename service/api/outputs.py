@@ -15,13 +15,14 @@ from typing import NamedTuple
 import numpy as np
 import orjson
 from flask import Response, g, request
+from werkzeug.datastructures import MIMEAccept
 
 from service import units
 from service.api import arrow
 from service.api.arrow import Column
 from service.api.inputs import Inputs
 from service.api.masks import any_true, first_indices
-from service.api.problems import Problem, echo, pointer
+from service.api.problems import Problem, echo, invalid, pointer
 
 _JSON_OPTIONS = orjson.OPT_SERIALIZE_NUMPY
 CSV_MEDIA_TYPE = "text/csv"
@@ -32,17 +33,29 @@ class Leaf(NamedTuple):
 
     si: object
     dimension: str | None = None
+    #: An input echoed: the numbers as the caller gave them, in ``given_unit`` (written as they are, to the
+    #: last bit, when that is the output unit of their dimension).
+    given: object = None
+    given_unit: str | None = None
 
 
-def _written_as(dimension: str) -> str:
-    """The dimension an output is written in: a weight (a mass or a force as input) as a force."""
-    return "force" if dimension == "weight" else dimension
+def chosen_by(dimension: str, chosen: dict) -> str | None:
+    """The ``output_units`` key that sets the unit of an output of ``dimension``; None for its default.
+
+    A weight is written as a mass when ``output_units`` names a mass unit (weight / g0: kg, t, lb),
+    else as a force (``output_units.force``, default N); the ``weight`` dimension holds both kinds of unit.
+    """
+    if dimension == "weight":
+        return "mass" if "mass" in chosen else "force" if "force" in chosen else None
+    return dimension if dimension in chosen else None
 
 
 def unit_for(dimension: str, chosen: dict) -> str:
-    """The output unit of ``dimension``: the caller's choice or the default."""
-    dimension = _written_as(dimension)
-    return chosen.get(dimension) or units.DIMENSIONS[dimension].default
+    """The output unit of ``dimension``: the caller's choice or the default (a weight: N)."""
+    key = chosen_by(dimension, chosen)
+    if key is not None:
+        return chosen[key]
+    return units.DIMENSIONS["force" if dimension == "weight" else dimension].default
 
 
 def no_solution(field: str, mask, reason: str) -> Problem:
@@ -64,6 +77,36 @@ def require(field: str, values, reason: str):
     return values
 
 
+#: 10**k is exact in float64 up to k = 22: the scale of a rounding within that range is exact.
+_EXACT_POWERS_OF_TEN = 22
+
+
+def round_significant(value, digits: int):
+    """``value`` (a float, None, or an array of them; other kinds as they are) to ``digits`` significant digits.
+
+    One point: Python's own decimal rounding. Arrays: vectorised, x scaled by an exact power of ten,
+    rounded to an integer (half to even) and scaled back, so the result is the double nearest to the
+    rounded decimal (it prints with at most ``digits`` digits); where the scaled value is itself
+    rounded (15 digits and more), the last digit can differ by one from a decimal rounding.
+
+    >>> round_significant(58.999999999999986, 6), round_significant(None, 3)
+    (59.0, None)
+    >>> round_significant(np.array([278385.8267716535, 1.48764e-05, 0.0, -44.342, np.nan]), 3).tolist()
+    [278000.0, 1.49e-05, 0.0, -44.3, nan]
+    """
+    if type(value) is float:
+        return float(f"{value:.{digits}g}") if value - value == 0.0 else value
+    if type(value) is not np.ndarray or value.dtype.kind != "f":
+        return value
+    with np.errstate(divide="ignore", invalid="ignore", over="ignore"):
+        k = (digits - 1) - np.floor(np.log10(np.abs(value)))
+        exact = np.isfinite(k) & (np.abs(k) <= _EXACT_POWERS_OF_TEN)
+        k = np.where(exact, k, 0.0)
+        scale = np.power(10.0, np.abs(k))
+        rounded = np.where(k >= 0, np.round(value * scale) / scale, np.round(value / scale) * scale)
+    return np.where(exact, rounded, value)
+
+
 class Result:
     """The outputs of one request, in order, with warnings and (for grids) the inputs."""
 
@@ -74,6 +117,7 @@ class Result:
         self.tree: dict = {}
         self.warnings: list[dict] = []
         self._null_masks: dict[str, object] = {}  # output -> where null_where made it null
+        self._units_used: set = set()  # the output_units keys that set the unit of something written
 
     def wants(self, name: str) -> bool:
         return self.inputs.wants(name)
@@ -126,25 +170,32 @@ class Result:
 
     def _leaf(self, path: str, leaf: Leaf, check: bool = True, json: bool = True):
         """One output in the caller's unit: a Python scalar for one point (plain arithmetic, no NumPy call),
-        else a C-contiguous array of the points; ``{"value", "unit"}`` for JSON, else ``(values, unit)``."""
-        if leaf.dimension is None:
-            unit = None
-        else:
-            dimension = _written_as(leaf.dimension)
-            unit = self.inputs.output_units.get(dimension) or units.DIMENSIONS[dimension].default
+        else a C-contiguous array of the points; ``{"value", "unit"}`` for JSON, else ``(values, unit)``.
+
+        An input echoed in its output unit is written as given; ``significant_digits`` rounds."""
+        unit = None if leaf.dimension is None else unit_for(leaf.dimension, self.inputs.output_units)
+        if unit is not None:
+            self._units_used.add(chosen_by(leaf.dimension, self.inputs.output_units))
+        source, convert = leaf.si, unit is not None
+        if leaf.given is not None and leaf.given_unit == unit:  # an input in its output unit: as given
+            source, convert = leaf.given, False
         if self.shape == ():
-            value = leaf.si.item() if hasattr(leaf.si, "item") else leaf.si
-            if unit is not None:
-                u = units.DIMENSIONS[dimension].units[unit]
+            value = source.item() if hasattr(source, "item") else source
+            if convert:
+                u = units.DIMENSIONS[leaf.dimension].units[unit]
                 if value is not None and (u.factor != 1.0 or u.offset):
                     value = (value - u.offset) / u.factor
         else:
-            value = np.asarray(leaf.si if unit is None else units.from_si(leaf.si, dimension, unit))
+            si = units.from_si(source, leaf.dimension, unit) if convert else source
+            value = np.asarray(si)
             if value.shape != self.shape:
                 value = np.broadcast_to(value, self.shape)
             value = value.tolist() if value.dtype.kind in "US" else np.ascontiguousarray(value)
         if check:
             self._check_finite(path, value)
+        digits = self.inputs.significant_digits
+        if digits is not None:
+            value = round_significant(value, digits)
         if json:
             return value if unit is None else {"value": value, "unit": unit}
         return value, unit
@@ -179,8 +230,8 @@ class Result:
     def _input_leaves(self) -> dict:
         """Every numeric input at every point, as outputs (the grid's ``inputs``; the CSV's first columns)."""
         data = self.inputs.data
-        return {name: Leaf(data[name].si, data[name].dimension) for name in self.inputs.axes
-                if hasattr(data.get(name), "si")}
+        return {name: Leaf(data[name].si, data[name].dimension, data[name].given, data[name].unit)
+                for name in self.inputs.axes if hasattr(data.get(name), "si")}
 
     def document(self) -> dict:
         doc = self._walk(self.tree, "", self._leaf)
@@ -244,13 +295,28 @@ class Result:
         return response
 
     def response(self) -> Response:
-        """The answer in the format the client accepts (JSON unless another is preferred)."""
+        """The answer in the format the client accepts (JSON unless another is preferred); a 422 when an
+        ``output_units`` key applies to nothing written (nothing is silently ignored)."""
         media_type = answer_media_type()
         if media_type == CSV_MEDIA_TYPE:
-            return self.csv_response()
-        if media_type in arrow.WRITERS:
-            return self.columnar_response(media_type)
-        return self.json_response()
+            response = self.csv_response()
+        elif media_type in arrow.WRITERS:
+            response = self.columnar_response(media_type)
+        else:
+            response = self.json_response()
+        unused = [key for key in self.inputs.output_units if key not in self._units_used]
+        if unused:
+            raise invalid([{"pointer": pointer("output_units", key),
+                            "message": f"No output of this answer is "
+                                       f"{_A_DIMENSION.get(key, 'a ' + key.replace('_', ' '))}: "
+                                       "leave it out, or ask for an output it applies to (`outputs`)."}
+                           for key in unused])
+        return response
+
+
+#: How the 422 for an unused output_units key names the dimension.
+_A_DIMENSION = {"mass": "a mass or a weight", "force": "a force or a weight",
+                "altitude": "an altitude", "angle": "an angle", "area": "an area"}
 
 
 def _csv_text(name: str) -> str:
@@ -264,16 +330,31 @@ _JSON_ACCEPTS = frozenset({"", "*/*", "application/json", "application/json, */*
 ANSWER_MEDIA_TYPES = ("application/json", CSV_MEDIA_TYPE, arrow.ARROW_STREAM, arrow.PARQUET)
 
 
+
+def _without_utf8(value: str) -> str:
+    """An Accept entry without a ``charset=utf-8`` parameter: every answer is UTF-8, so it is met."""
+    main, *params = (part.strip() for part in value.split(";"))
+    kept = [p for p in params if p.replace(" ", "").lower() != "charset=utf-8"]
+    return "; ".join([main, *kept])
+
+
 def answer_media_type() -> str:
-    """The answer's media type: the client's preferred one of ANSWER_MEDIA_TYPES; 406 if it accepts none."""
+    """The answer's media type: the client's preferred one of ANSWER_MEDIA_TYPES; 406 if it accepts none.
+
+    The header is parsed by werkzeug (parameters, q-values, wildcards, lists); ``charset=utf-8`` is
+    dropped from each entry first (werkzeug matches parameters exactly, and the text answers are UTF-8).
+    """
     header = request.environ.get("HTTP_ACCEPT")
     if header is None or header in _JSON_ACCEPTS:  # the common cases, without parsing the header
         return ANSWER_MEDIA_TYPES[0]
     accept = request.accept_mimetypes
     if not accept:
         return ANSWER_MEDIA_TYPES[0]
+    accept = MIMEAccept([(_without_utf8(value), quality) for value, quality in accept])
     best = accept.best_match(ANSWER_MEDIA_TYPES)
     if best is None:
-        raise Problem("not-acceptable", f"This endpoint answers {', '.join(ANSWER_MEDIA_TYPES)}; "
-                                        f"Accept was {echo(request.headers.get('Accept'))}.")
+        offered = ", ".join(ANSWER_MEDIA_TYPES)
+        raise Problem("not-acceptable", f"This endpoint answers {offered} (text in UTF-8); Accept was "
+                                        f"{echo(request.headers.get('Accept'))}.",
+                      extra={"acceptable": list(ANSWER_MEDIA_TYPES)})
     return best

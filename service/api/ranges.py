@@ -200,13 +200,18 @@ def schema(bounded: dict, unit: str | list[str] | None = None) -> dict:
     properties = {"start": bounded | {"description": "The first number."},
                   "stop": bounded | {"description": "The last number, when it falls on a step."},
                   "step": {"type": "number", "not": {"const": 0}, "description": "The step: not zero."}}
-    if isinstance(unit, str):
+    required = ["start", "stop", "step"]
+    if isinstance(unit, dict):  # a named unit schema: the unit is optional (the field's default unit)
+        properties["unit"] = unit | {"description": "The unit of start, stop and step; the field's default "
+                                                    "unit when left out."}
+    elif isinstance(unit, str):
         properties["unit"] = {"const": unit, "description": "The unit of start, stop and step."}
+        required.append("unit")
     elif unit is not None:
         properties["unit"] = {"type": "string", "enum": list(unit), "description": "The unit of start, stop and step."}
+        required.append("unit")
     return {"type": "object", "description": DESCRIPTION, "properties": properties,
-            "required": ["start", "stop", "step"] + (["unit"] if unit is not None else []),
-            "additionalProperties": False}
+            "required": required, "additionalProperties": False}
 
 
 def too_many_points(points: int | float, limit: int) -> Problem:

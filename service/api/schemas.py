@@ -6,33 +6,29 @@ from __future__ import annotations
 import marshmallow as ma
 
 from service.api.base import WarningSchema
-from service.api.fields import Number
+from service.api.fields import Number, ref, schema_name
 from service.api.outputs import unit_for
-
-_NUMBERS = {"oneOf": [{"type": ["number", "null"]}, {"type": "array", "items": {"type": ["number", "null"]}}]}
 
 
 class QuantityOut(ma.fields.Field):
-    """A physical output: {"value": number | [numbers], "unit": "..."}; null where it does not exist."""
+    """A physical output: {"value": number | [numbers], "unit": "..."}; null where it does not exist.
+
+    In the spec, its dimension's named ``<Dim>Out`` schema (api.fields.named_schemas).
+    """
+
+    def __init__(self, dimension: str, **kwargs):
+        super().__init__(**kwargs)
+        self.dimension = dimension
 
     def openapi(self):
-        return {
-            "type": "object",
-            "properties": {
-                "value": dict(_NUMBERS, description="The number (scalar inputs) or one number per point; null where "
-                                                     "the value does not exist (see warnings)."),
-                "unit": {"type": "string", "description": "The unit of value (see output_units)."},
-            },
-            "required": ["value", "unit"],
-            "additionalProperties": False,
-        }
+        return ref(schema_name(self.dimension, "Out"))
 
 
 class NumberOut(ma.fields.Field):
-    """A dimensionless output: a number or an array of numbers."""
+    """A dimensionless output: a number or an array of numbers (``NumbersOut`` in the spec)."""
 
     def openapi(self):
-        return dict(_NUMBERS)
+        return ref("NumbersOut")
 
 
 class LabelOut(ma.fields.Field):
@@ -43,7 +39,8 @@ class LabelOut(ma.fields.Field):
         self.choices = list(choices)
 
     def openapi(self):
-        item = {"type": "string", "enum": self.choices}
+        # titled, so that generators name one enum after the field (not one numbered type per branch)
+        item = {"type": "string", "enum": self.choices, "title": schema_name(self.name)}
         return {"oneOf": [item, {"type": "array", "items": item}]}
 
 
@@ -54,8 +51,8 @@ class FlagOut(ma.fields.Field):
         return {"oneOf": [{"type": "boolean"}, {"type": "array", "items": {"type": "boolean"}}]}
 
 
-def quantity_out(description: str, **kwargs) -> QuantityOut:
-    return QuantityOut(metadata={"description": description}, **kwargs)
+def quantity_out(description: str, dimension: str, **kwargs) -> QuantityOut:
+    return QuantityOut(dimension, metadata={"description": description}, **kwargs)
 
 
 def ratio_out(description: str, **kwargs) -> NumberOut:
@@ -72,13 +69,14 @@ def response_schema(name: str, outputs: dict, inputs: type[ma.Schema] | None = N
     fields = fields or {}
     attrs = {key: field for key, field in fields.items() if key not in outputs}
     for key, (dimension, description) in outputs.items():
-        attrs[key] = fields.get(key) or (quantity_out(description) if dimension else ratio_out(description))
+        attrs[key] = fields.get(key) or (quantity_out(description, dimension) if dimension
+                                       else ratio_out(description))
     attrs["warnings"] = ma.fields.List(ma.fields.Nested(WarningSchema), required=True, metadata={
         "description": "Outputs that are null or doubtful at some points, with why and where."})
     if inputs is not None:
         input_fields = {
             key: (quantity_out(f"`{key}` as given, at every point, in the output unit of its dimension "
-                               f"[{unit_for(f.dimension, {})}].") if getattr(f, "dimension", None)
+                               f"[{unit_for(f.dimension, {})}].", f.dimension) if getattr(f, "dimension", None)
                   else ratio_out(f"`{key}` as given, at every point [-]."))
             for key, f in inputs._declared_fields.items() if isinstance(f, Number)
         }

@@ -32,7 +32,7 @@ log = logging.getLogger("qbar")
 
 JSON_MEDIA_TYPE = "application/json"
 #: The request id of the example requests (problem documents repeat it).
-EXAMPLE_REQUEST_ID = "nr-ops-20260105-0001"
+EXAMPLE_REQUEST_ID = "tav-ops-20260105-0001"
 
 CSV_DESCRIPTION = (
     "The same answer as a table (send `Accept: text/csv`): one header line, then one row per point. The inputs "

@@ -10,7 +10,7 @@ import marshmallow as ma
 import numpy as np
 
 from service.api.air import Air
-from service.api.examples import NR200_CALIBRATION
+from service.api.examples import TQ62_CALIBRATION
 from service.api.fields import Number, Quantity, parse_numbers
 from service.api.inputs import Inputs
 from service.api.lazy import lazy
@@ -19,7 +19,7 @@ from service.api.outputs import require
 from service.api.problems import invalid
 from service.api.rules import ExactlyOne, Needs, NotTogether
 from service.physics import airspeed as spd
-from service.units import DIMENSIONS, UnitError, from_si, to_si
+from service.units import DIMENSIONS, UnitError, canonical, from_si, to_si
 
 #: The speed inputs, in the order a request is checked for them.
 KINDS = ("ias", "cas", "eas", "tas", "mach")
@@ -34,7 +34,7 @@ _NAMES = {
     "eas": "Equivalent airspeed",
     "tas": "True airspeed",
 }
-#: The spec's example of each speed input: our demo type NR-200 climbing through FL240 on an ISA+10 day
+#: The spec's example of each speed input: our demo type TQ-62 climbing through FL240 on an ISA+10 day
 #: (the TAS and EAS belong to that CAS).
 _EXAMPLES = {"ias": 250, "cas": {"value": 250, "unit": "kt"}, "eas": 241, "tas": [350, 380, 410]}
 
@@ -60,8 +60,10 @@ class CalibrationField(ma.fields.Field):
         for key in sorted(unknown):
             errors[key] = ["Unknown field."]
         unit = value.get("unit", "kt")
-        if not isinstance(unit, str) or unit not in DIMENSIONS["speed"].units:
-            errors["unit"] = [str(UnitError("speed", unit))]
+        try:
+            unit = canonical("speed", unit)
+        except UnitError as err:
+            errors["unit"] = [str(err)]
         columns = {}
         for key in ("ias", "cas"):
             if key not in value:
@@ -94,7 +96,7 @@ class CalibrationField(ma.fields.Field):
             "properties": {
                 "ias": column | {"description": "Indicated airspeeds of the table's rows, strictly increasing."},
                 "cas": column | {"description": "Calibrated airspeeds of the same rows, strictly increasing."},
-                "unit": {"type": "string", "enum": list(DIMENSIONS["speed"].units),
+                "unit": {"type": "string", "enum": list(DIMENSIONS["speed"].symbols),
                          "description": "Unit of both columns; default kt."},
             },
             "required": ["ias", "cas"],
@@ -107,7 +109,7 @@ def calibration_field() -> CalibrationField:
         "description": "The airspeed system's calibration from the flight manual: IAS -> CAS by linear "
                        "interpolation between rows [kt by default]. An IAS input outside the table is refused "
                        "(nothing is extrapolated); an IAS output whose CAS lies outside it is null with a warning.",
-        "example": NR200_CALIBRATION})
+        "example": TQ62_CALIBRATION})
 
 
 def _several(given: list[str]) -> str:

@@ -105,7 +105,7 @@ class BuffetRequest(ComputeSchema):
     buffet = BuffetTableField(required=True, metadata={
         "description": "The type's 1 g buffet-onset boundary from its flight manual: CL against Mach, linear "
                        "between rows. A Mach number outside the table is refused (nothing is extrapolated).",
-        "example": examples.NR200_BUFFET})
+        "example": examples.TQ62_BUFFET})
     margin = Number(minimum=1.0, metadata={
         "description": "Required margin to buffet onset as a load factor [-], for example 1.3 (about 40 deg of "
                        "bank); gives the maximum altitude, weight and W/delta.", "example": 1.3})

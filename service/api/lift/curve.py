@@ -80,6 +80,7 @@ CurveResponse = response_schema("LiftCurveResponse", CURVE_OUTPUTS, LiftCurveReq
 
 
 @blp.route("/lift/curve", methods=["POST"])
+@blp.doc(operationId="computeLiftCurve")
 @blp.arguments(LiftCurveRequest, examples=examples.LIFT_CURVE)
 @blp.response(200, CurveResponse)
 @blp.problems(*COMPUTE_PROBLEMS)

@@ -13,7 +13,7 @@ import numpy as np
 
 from service.api import air, examples
 from service.api.base import COMPUTE_PROBLEMS
-from service.api.examples import NR200_WING
+from service.api.examples import TQ62_WING
 from service.api.fields import Number
 from service.api.inputs import ComputeSchema, Inputs, outputs_field
 from service.api.lift.common import (
@@ -69,7 +69,7 @@ _MODEL_RANGE = (f"the model's range ({from_si(H_MIN, 'altitude', 'ft'):.0f} ft t
 
 SOLVE_OUTPUTS = {
     "lift": ("force", "Lift L = n W [N]."),
-    "weight": ("force", "Weight, as a force [N]."),
+    "weight": ("weight", "Weight, as a force [N], or as a mass (weight / g0) when output_units names `mass`."),
     "load_factor": (None, "Load factor n [-]."),
     "bank_angle": ("angle", "Bank angle of the level, coordinated turn with this load factor [deg]; null (with a "
                             "warning) where n < 1."),
@@ -164,7 +164,7 @@ class LiftSolveRequest(ComputeSchema):
         "description": "Optional: the wing's lift-curve inputs (as for POST /v1/lift/curve, with the Mach number "
                        "of the flight condition); the answer then adds `angle_of_attack`, and `beyond_stall` with "
                        "`cl_max`. Arrays here broadcast against the points (length 1 or the number of points).",
-        "example": NR200_WING})
+        "example": TQ62_WING})
     outputs = outputs_field(SOLVE_OUTPUTS)
 
 
@@ -295,6 +295,7 @@ def _solve_outputs(inputs: Inputs) -> list[str]:
 
 
 @blp.route("/lift/solve", methods=["POST"])
+@blp.doc(operationId="solveLift")
 @blp.arguments(LiftSolveRequest, examples=examples.LIFT_SOLVE)
 @blp.response(200, SolveResponse)
 @blp.problems(*COMPUTE_PROBLEMS)

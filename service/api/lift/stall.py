@@ -119,17 +119,17 @@ class LiftStallRequest(ComputeSchema):
 
 
 class LiftStallSpeedsOut(ma.Schema):
-    eas = quantity_out("Stall speed at this load factor, Vs1g x sqrt(n), as an equivalent airspeed [kt].")
-    cas = quantity_out("The same stall speed as a calibrated airspeed [kt].")
-    tas = quantity_out("The same stall speed as a true airspeed [kt].")
+    eas = quantity_out("Stall speed at this load factor, Vs1g x sqrt(n), as an equivalent airspeed [kt].", "speed")
+    cas = quantity_out("The same stall speed as a calibrated airspeed [kt].", "speed")
+    tas = quantity_out("The same stall speed as a true airspeed [kt].", "speed")
     mach = ratio_out("The same stall speed as a Mach number [-].")
 
 
 class LiftMultipleOut(ma.Schema):
     factor = ratio_out("The speed factor k [-].")
-    eas = quantity_out("k times the stall speed (EAS) [kt].")
-    cas = quantity_out("The same speed as a calibrated airspeed [kt].")
-    tas = quantity_out("The same speed as a true airspeed [kt].")
+    eas = quantity_out("k times the stall speed (EAS) [kt].", "speed")
+    cas = quantity_out("The same speed as a calibrated airspeed [kt].", "speed")
+    tas = quantity_out("The same speed as a true airspeed [kt].", "speed")
     mach = ratio_out("The same speed as a Mach number [-].")
     cl_fraction = ratio_out("CL / CLmax at that speed and load factor, 1 / k^2 [-].")
 
@@ -138,7 +138,7 @@ class LiftMarginOut(ma.Schema):
     stall_load_factor = ratio_out("The load factor at which the given speed is the stall speed, (V / Vs1g)^2 "
                                   "(speeds as EAS) [-].")
     max_bank_angle = quantity_out("The steepest level, coordinated turn at the given speed before the stall "
-                                  "[deg]; null (with a warning) where the speed is below the 1 g stall speed.")
+                                  "[deg]; null (with a warning) where the speed is below the 1 g stall speed.", "angle")
     cl_fraction = ratio_out("CL / CLmax at the given speed and the requested load factor [-].")
 
 
@@ -176,6 +176,7 @@ def _speed_values(speeds: Speeds, output: str) -> dict:
 
 
 @blp.route("/lift/stall", methods=["POST"])
+@blp.doc(operationId="computeStallSpeeds")
 @blp.arguments(LiftStallRequest, examples=examples.LIFT_STALL)
 @blp.response(200, StallResponse)
 @blp.problems(*COMPUTE_PROBLEMS)
