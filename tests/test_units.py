@@ -79,7 +79,8 @@ def test_unknown_unit_names_the_allowed_ones():
         units.to_si(1.0, "altitude", "yd")
     with pytest.raises(units.UnitError) as err:
         units.from_si(1.0, "speed", "knots")
-    assert str(err.value) == "Unknown unit 'knots' for speed; allowed: kt, m/s, km/h, mph, ft/s."
+    assert str(err.value) == ("Unknown unit 'knots' for speed (did you mean 'kt'?); allowed: kt (or kn), m/s, "
+                              "km/h, mph (or mi/h), ft/s.")
 
 
 def test_every_default_unit_is_in_its_dimension():

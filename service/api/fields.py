@@ -505,16 +505,15 @@ def quantity_schema(field: Quantity, bounds: dict | None = None) -> dict:
         return schema
     bounds = field.bounds if bounds is None else bounds
     schema |= _bounds(field, *bounds[field.default_unit])
+    # A range may leave out its unit (then the default unit's conditional applies: its `if` does not
+    # require the key); {value, unit} always has one.
     schema["allOf"] = [{
-        "if": {"type": "object", "required": ["unit"],
+        "if": {"type": "object", **({} if field.allow_array and name == field.default_unit else
+                                    {"required": ["unit"]}),
                "properties": {"unit": {"enum": [name, *unit.aliases]} if unit.aliases else {"const": name}}},
         "then": {"properties": {"value": _bounds(field, *bounds[name])}
                  | (_range_bounds(field, *bounds[name]) if field.allow_array else {})},
     } for name, unit in field.dim.units.items()]
-    if field.allow_array and (starts := _range_bounds(field, *bounds[field.default_unit])):
-        # a range without a unit is in the default unit
-        schema["allOf"].append({"if": {"type": "object", "not": {"required": ["unit"]}},
-                                "then": {"properties": starts}})
     return schema
 
 
