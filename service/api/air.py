@@ -130,7 +130,7 @@ def altitude_kind_field() -> ma.fields.String:
         "description": "\"pressure\" (default): `altitude` is a pressure altitude (or, with `qnh`, an indicated "
                        "altitude). \"geometric\": `altitude` is a geometric height above mean sea level, converted "
                        "to geopotential and used as the pressure altitude (a standard-day relation).",
-        "example": "pressure"})
+        "example": "pressure", "title": "AltitudeKind"})  # one enum type in generated clients
 
 
 def air_fields(altitude_description: str, required: bool = True):

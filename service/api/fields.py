@@ -432,17 +432,34 @@ def named_schemas() -> dict[str, dict]:
         schemas[base] = {"oneOf": [ref("Numbers"), ref(base + "Value")],
                          "description": f"{dim.description}: a number or array in the field's default unit, "
                                         "or {value, unit}."}
-        if dim.output or name == "weight":  # a weight is written as a force or as a mass (api.outputs.unit_for)
-            schemas[base + "Out"] = {
-                "type": "object",
-                "properties": {"value": ref("NumbersOut") | {"description": "The number or numbers, in `unit`; "
-                                                                           "null where there is none (see warnings)."},
-                               "unit": ref(base + "Unit") | {"description": "The unit of `value`."}},
-                "required": ["value", "unit"],
-                "additionalProperties": False,
-                "description": f"{dim.description}, in the unit output_units chose (default "
-                               f"{units.DIMENSIONS['force' if name == 'weight' else name].default}).",
-            }
+    column = {"type": "array", "items": {"type": "number", "exclusiveMinimum": 0}, "minItems": 2}
+    # One output type for every dimension (a type per dimension would take the generated Python client past
+    # 120 model classes): the unit is that of output_units, or the dimension's default (GET /v1/units).
+    schemas["QuantityOut"] = {
+        "type": "object",
+        "properties": {"value": ref("NumbersOut") | {"description": "The number or numbers, in `unit`; "
+                                                                   "null where there is none (see warnings)."},
+                       "unit": {"type": "string", "description": "The unit of `value`: the one output_units chose "
+                                                                  "for its dimension, else the dimension's default "
+                                                                  "(GET /v1/units lists them)."}},
+        "required": ["value", "unit"],
+        "additionalProperties": False,
+        "description": "A physical output, in the unit output_units chose for its dimension (a weight: a force, "
+                       "or a mass when output_units names `mass`).",
+    }
+    schemas["AltitudeKind"] = {"type": "string", "enum": ["pressure", "geometric"],
+                               "description": "What `altitude` is: a pressure altitude or a geometric height."}
+    schemas["Calibration"] = {  # api.speeds.CalibrationField
+        "type": "object",
+        "properties": {
+            "ias": column | {"description": "Indicated airspeeds of the table's rows, strictly increasing."},
+            "cas": column | {"description": "Calibrated airspeeds of the same rows, strictly increasing."},
+            "unit": ref("SpeedUnit") | {"description": "Unit of both columns; default kt."},
+        },
+        "required": ["ias", "cas"],
+        "additionalProperties": False,
+        "description": "An airspeed calibration table, IAS -> CAS.",
+    }
     schemas["OutputUnits"] = {
         "type": "object",
         "properties": {name: ref(schema_name(name, "Unit")) | {
@@ -529,4 +546,6 @@ def field_to_properties(self, field, ret):
         return number_schema(field)
     if isinstance(field, OutputUnits):
         return ref("OutputUnits")
+    if field.metadata.get("title") == "AltitudeKind":  # api.air.altitude_kind_field: one named enum
+        return ref("AltitudeKind")
     return {}

@@ -13,7 +13,7 @@ from service.api.outputs import unit_for
 class QuantityOut(ma.fields.Field):
     """A physical output: {"value": number | [numbers], "unit": "..."}; null where it does not exist.
 
-    In the spec, its dimension's named ``<Dim>Out`` schema (api.fields.named_schemas).
+    In the spec, the named ``QuantityOut`` schema (api.fields.named_schemas).
     """
 
     def __init__(self, dimension: str, **kwargs):
@@ -21,7 +21,7 @@ class QuantityOut(ma.fields.Field):
         self.dimension = dimension
 
     def openapi(self):
-        return ref(schema_name(self.dimension, "Out"))
+        return ref("QuantityOut")
 
 
 class NumberOut(ma.fields.Field):

@@ -213,7 +213,38 @@ def complete(app: Flask, generated: dict) -> dict:
         _add_headers(response)
         if name == "UNAUTHORIZED":
             response["headers"]["WWW-Authenticate"] = _ref("WWW-Authenticate")
+    _drop_unused_schemas(spec)
     return spec
+
+
+def _drop_unused_schemas(spec: dict) -> None:
+    """Leave out the component schemas nothing refers to (api.fields.named_schemas registers every
+    dimension's types; a dimension no input uses needs no input types), so that generated clients hold no
+    type nobody uses."""
+    schemas = spec["components"]["schemas"]
+
+    def refs(node, out: set):
+        if isinstance(node, dict):
+            for key, value in node.items():
+                if key == "$ref" and isinstance(value, str) and value.startswith("#/components/schemas/"):
+                    out.add(value.rsplit("/", 1)[1])
+                else:
+                    refs(value, out)
+        elif isinstance(node, list):
+            for value in node:
+                refs(value, out)
+
+    todo: set = set()
+    refs({key: value for key, value in spec.items() if key != "components"}, todo)
+    refs({key: value for key, value in spec["components"].items() if key != "schemas"}, todo)
+    used: set = set()
+    while todo:
+        name = todo.pop()
+        if name not in used:
+            used.add(name)
+            refs(schemas[name], todo)
+    for name in set(schemas) - used:
+        del schemas[name]
 
 
 def _add_headers(response: dict) -> None:

@@ -11,7 +11,7 @@ import numpy as np
 
 from service.api.air import Air
 from service.api.examples import TQ62_CALIBRATION
-from service.api.fields import Number, Quantity, parse_numbers
+from service.api.fields import Number, Quantity, parse_numbers, ref
 from service.api.inputs import Inputs
 from service.api.lazy import lazy
 from service.api.masks import any_true, first_indices
@@ -19,7 +19,7 @@ from service.api.outputs import require
 from service.api.problems import invalid
 from service.api.rules import ExactlyOne, Needs, NotTogether
 from service.physics import airspeed as spd
-from service.units import DIMENSIONS, UnitError, canonical, from_si, to_si
+from service.units import UnitError, canonical, from_si, to_si
 
 #: The speed inputs, in the order a request is checked for them.
 KINDS = ("ias", "cas", "eas", "tas", "mach")
@@ -90,18 +90,7 @@ class CalibrationField(ma.fields.Field):
         return tuple(to_si(columns[k], "speed", unit) for k in ("ias", "cas"))
 
     def openapi(self):
-        column = {"type": "array", "items": {"type": "number", "exclusiveMinimum": 0}, "minItems": 2}
-        return {
-            "type": "object",
-            "properties": {
-                "ias": column | {"description": "Indicated airspeeds of the table's rows, strictly increasing."},
-                "cas": column | {"description": "Calibrated airspeeds of the same rows, strictly increasing."},
-                "unit": {"type": "string", "enum": list(DIMENSIONS["speed"].symbols),
-                         "description": "Unit of both columns; default kt."},
-            },
-            "required": ["ias", "cas"],
-            "additionalProperties": False,
-        }
+        return ref("Calibration")  # one named type (api.fields.named_schemas), whichever request has it
 
 
 def calibration_field() -> CalibrationField:
