@@ -96,12 +96,21 @@ def python_client(tmp_path_factory):
     """The generated Python client package, importable."""
     out = tmp_path_factory.mktemp("python-client")
     config = out / "config.yaml"
-    # no formatter run over the generated code; the table bodies (CSV, Arrow: api.tables) are bytes to the client
-    config.write_text("post_hooks: []\ncontent_type_overrides:\n"
-                      + "".join(f"  {media_type}: application/octet-stream\n" for media_type in TABLE_MEDIA_TYPES),
-                      encoding="utf-8")
+    config.write_text("post_hooks: []\n", encoding="utf-8")  # no formatter run over the generated code
+    # The generator takes the JSON request bodies only: it warns on the table bodies (CSV, Arrow: api.tables),
+    # and with them mapped to bytes (content_type_overrides) 0.29 writes a body union that does not import.
+    # Tables are posted as raw bytes (tests/test_tables.py); the client is for JSON.
+    spec = json.loads(SPEC_FILE.read_text(encoding="utf-8"))
+    for item in spec["paths"].values():
+        for operation in item.values():
+            if isinstance(operation, dict) and "requestBody" in operation:
+                content = operation["requestBody"]["content"]
+                for media_type in TABLE_MEDIA_TYPES:
+                    content.pop(media_type, None)
+    spec_file = out / "openapi.json"
+    spec_file.write_text(json.dumps(spec), encoding="utf-8")
     generator = Path(sys.executable).with_name("openapi-python-client")
-    done = run([str(generator), "generate", "--path", str(SPEC_FILE), "--output-path", str(out / PACKAGE),
+    done = run([str(generator), "generate", "--path", str(spec_file), "--output-path", str(out / PACKAGE),
                 "--meta", "none", "--config", str(config)], cwd=out)
     assert done.returncode == 0, done.stdout + done.stderr
     assert "Warning" not in done.stdout + done.stderr, done.stdout + done.stderr  # nothing left out
