@@ -518,6 +518,9 @@ def quantity_schema(field: Quantity, bounds: dict | None = None) -> dict:
     schema = ref(schema_name(field.dimension))
     if field.allow_array:
         schema = {"oneOf": [schema, ref(schema_name(field.dimension, "Range"))]}
+    else:  # one number: no array, bare or as the value of {value, unit}
+        schema |= {"type": ["number", "object"],
+                   "properties": {"value": {"type": "number", "description": "One number, in `unit`."}}}
     if not field.bounded:
         return schema
     bounds = field.bounds if bounds is None else bounds
