@@ -400,10 +400,11 @@ def named_schemas() -> dict[str, dict]:
     """The named schemas the fields refer to (registered once as components by api.base.Api).
 
     Per dimension: ``<Dim>Unit`` (the unit enum: every accepted symbol), ``<Dim>Value`` (``{value,
-    unit}``), ``<Dim>`` (an input: a number or array in the field's default unit, or a ``<Dim>Value``) and,
-    for output dimensions, ``<Dim>Out`` (an output: ``{value, unit}``, null where a value does not exist).
-    ``<Dim>Range`` is the range form ``{start, stop, step[, unit]}`` (``NumberRange`` without a unit), which
-    array fields accept beside ``<Dim>``. The bounds are the field's: beside the reference (see
+    unit}``) and ``<Dim>`` (an input: a number or array in the field's default unit, or a ``<Dim>Value``).
+    One ``QuantityOut`` for every output (``{value, unit}``, null where a value does not exist), and
+    ``Calibration``, ``AltitudeKind``, ``OutputUnits``. ``<Dim>Range`` is the range form ``{start, stop,
+    step[, unit]}`` (``NumberRange`` without a unit), which array fields accept beside ``<Dim>``. The spec
+    leaves out those no field uses (api.spec). The bounds are the field's: beside the reference (see
     :func:`quantity_schema`), not in these.
     """
     nullable = {"type": ["number", "null"]}
