@@ -789,7 +789,9 @@ def test_image_metadata(image):
     assert config["Cmd"] == ["gunicorn", "-c", "python:service.gunicorn_conf", "service:create_app()"]
     # The app and its dependencies add this much to the base (numpy is most of it): no wheels,
     # caches or build tools left behind.
-    assert image.size_bytes - image.base_size_bytes < 150e6, (image.size_bytes, image.base_size_bytes)
+    # qbar and its dependencies: pyarrow (Arrow and Parquet answers) is about 130 MB of them, gevent and NumPy most
+    # of the rest; measured 286 MB on 2026-12-02.
+    assert image.size_bytes - image.base_size_bytes < 320e6, (image.size_bytes, image.base_size_bytes)
 
 
 # --- the derivation itself ----------------------------------------------------------------------
