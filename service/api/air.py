@@ -133,6 +133,13 @@ def altitude_kind_field() -> ma.fields.String:
         "example": "pressure"})
 
 
+def air_fields(altitude_description: str, required: bool = True):
+    """The five air fields in a request's order: ``altitude, isa_deviation, temperature, qnh, altitude_kind =
+    air_fields(...)`` in a schema's body."""
+    return (altitude_field(altitude_description, required=required), isa_deviation_field(), temperature_field(),
+            qnh_field(), altitude_kind_field())
+
+
 def _show_ft(metres: float) -> str:
     return f"{metres:.0f} m ({from_si(metres, 'altitude', 'ft'):.0f} ft)"
 

@@ -44,13 +44,9 @@ _SOURCE = {
 class AtmosphereRequest(ComputeSchema):
     OUTPUTS = OUTPUTS
 
-    altitude = air.altitude_field(
+    altitude, isa_deviation, temperature, qnh, altitude_kind = air.air_fields(
         "Altitude [ft]: a pressure altitude (FL allowed), or the indicated altitude with `qnh`, or a geometric "
         "height with `altitude_kind: geometric`. Arrays allowed.")
-    isa_deviation = air.isa_deviation_field()
-    temperature = air.temperature_field()
-    qnh = air.qnh_field()
-    altitude_kind = air.altitude_kind_field()
     outputs = outputs_field(OUTPUTS)
 
 

@@ -9,6 +9,7 @@ the arrays and ``null`` in the answer, each with a warning naming the field.
 from __future__ import annotations
 
 import math
+from functools import partial
 from typing import NamedTuple
 
 import numpy as np
@@ -121,24 +122,29 @@ class Result:
             return [self._walk(value, f"{path}.{index}", visit) for index, value in enumerate(node)]
         return node  # a label (solved_for)
 
-    def _values(self, path: str, leaf: Leaf, check: bool = True):
-        """(values in the caller's unit, the unit or None): a Python scalar for one point (plain arithmetic,
-        no NumPy call per output), else a C-contiguous array of the points."""
-        unit = None if leaf.dimension is None else unit_for(leaf.dimension, self.inputs.output_units)
+    def _leaf(self, path: str, leaf: Leaf, check: bool = True, json: bool = True):
+        """One output in the caller's unit: a Python scalar for one point (plain arithmetic, no NumPy call),
+        else a C-contiguous array of the points; ``{"value", "unit"}`` for JSON, else ``(values, unit)``."""
+        if leaf.dimension is None:
+            unit = None
+        else:
+            dimension = _written_as(leaf.dimension)
+            unit = self.inputs.output_units.get(dimension) or units.DIMENSIONS[dimension].default
         if self.shape == ():
             value = leaf.si.item() if hasattr(leaf.si, "item") else leaf.si
             if unit is not None:
-                u = units.DIMENSIONS[_written_as(leaf.dimension)].units[unit]
+                u = units.DIMENSIONS[dimension].units[unit]
                 if value is not None and (u.factor != 1.0 or u.offset):
                     value = (value - u.offset) / u.factor
         else:
-            si = leaf.si if unit is None else units.from_si(leaf.si, _written_as(leaf.dimension), unit)
-            value = np.asarray(si)
+            value = np.asarray(leaf.si if unit is None else units.from_si(leaf.si, dimension, unit))
             if value.shape != self.shape:
                 value = np.broadcast_to(value, self.shape)
             value = value.tolist() if value.dtype.kind in "US" else np.ascontiguousarray(value)
         if check:
             self._check_finite(path, value)
+        if json:
+            return value if unit is None else {"value": value, "unit": unit}
         return value, unit
 
     def _check_finite(self, path: str, value):
@@ -175,14 +181,10 @@ class Result:
                 if hasattr(data.get(name), "si")}
 
     def document(self) -> dict:
-        def json_leaf(path, leaf, check=True):
-            value, unit = self._values(path, leaf, check)
-            return value if unit is None else {"value": value, "unit": unit}
-
-        doc = self._walk(self.tree, "", json_leaf)
+        doc = self._walk(self.tree, "", self._leaf)
         doc["warnings"] = self.warnings
         if self.inputs.grid:
-            doc["inputs"] = self._walk(self._input_leaves(), "", lambda path, leaf: json_leaf(path, leaf, False))
+            doc["inputs"] = self._walk(self._input_leaves(), "", partial(self._leaf, check=False))
         return doc
 
     def json_response(self) -> Response:
@@ -195,7 +197,7 @@ class Result:
 
         def column(prefix, check):
             def visit(path, leaf):
-                value, unit = self._values(prefix + path, leaf, check)
+                value, unit = self._leaf(prefix + path, leaf, check, json=False)
                 columns.append((prefix + path if unit is None else f"{prefix}{path} [{unit}]", np.atleast_1d(value)))
             return visit
 

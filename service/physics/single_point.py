@@ -14,11 +14,13 @@ to 1e-15 (relative) across its domain. They use the array modules' own constants
 from __future__ import annotations
 
 import math
+import sys
 
 import numpy as np
 
-# The array modules import this one, and use it while they load (atmosphere's own constants): each twin
-# imports its module when called (a dictionary lookup once loaded).
+# The array modules import this one and use it while they load (atmosphere's own constants): each twin
+# takes its module from sys.modules when called (dictionary lookups, no Python call).
+_AIRSPEED, _ATMOSPHERE = __name__.replace("single_point", "airspeed"), __name__.replace("single_point", "atmosphere")
 
 
 def is_one(*xs) -> bool:
@@ -28,8 +30,7 @@ def is_one(*xs) -> bool:
 
 def ratio_from_mach(M: float) -> float:
     """airspeed._ratio_from_mach for one float: qc/p from the isentropic or the Rayleigh pitot relation."""
-    from . import airspeed as _asp
-
+    _asp = sys.modules[_AIRSPEED]
     if not M >= 0.0:
         return math.nan
     M2 = M * M
@@ -40,8 +41,7 @@ def ratio_from_mach(M: float) -> float:
 
 def mach_from_ratio(r: float) -> float:
     """airspeed._mach_from_ratio for one float (the same closed form and Newton iteration)."""
-    from . import airspeed as _asp
-
+    _asp = sys.modules[_AIRSPEED]
     if not (r >= 0.0 and r < math.inf):
         return math.nan
     if r > _asp._RATIO_SONIC:
@@ -51,8 +51,7 @@ def mach_from_ratio(r: float) -> float:
 
 def newton_supersonic(r: float) -> float:
     """airspeed._newton_supersonic for one float (same start, step, clamp, tolerance and cap)."""
-    from . import airspeed as _asp
-
+    _asp = sys.modules[_AIRSPEED]
     target = math.log1p(r) - _asp._LN_K
     M = max(math.sqrt((1.0 + r) / _asp._ASYMPTOTE), 1.0)
     for _ in range(_asp.NEWTON_MAX_ITER):
@@ -65,8 +64,7 @@ def newton_supersonic(r: float) -> float:
 
 def standard_state(H: float) -> tuple[np.float64, np.float64]:
     """atmosphere.standard_state for one point: the same layer formula in plain Python."""
-    from . import atmosphere as _atm
-
+    _atm = sys.modules[_ATMOSPHERE]
     if H != H:
         return np.float64(np.nan), np.float64(np.nan)
     k = min(max(int((H - _atm.H_MIN) / _atm._LUT_STEP), 0), int(_atm._LUT_LAST))

@@ -155,13 +155,9 @@ class LiftSolveRequest(ComputeSchema):
     tas = speed_field("tas", _SPEED_NOTE)
     mach = mach_field(_SPEED_NOTE)
     calibration = calibration_field()
-    altitude = air.altitude_field(
+    altitude, isa_deviation, temperature, qnh, altitude_kind = air.air_fields(
         "Altitude [ft]: a pressure altitude (FL allowed), or the indicated altitude with `qnh`, or a geometric height "
         "with `altitude_kind: geometric`. Required unless solving for altitude.", required=False)
-    isa_deviation = air.isa_deviation_field()
-    temperature = air.temperature_field()
-    qnh = air.qnh_field()
-    altitude_kind = air.altitude_kind_field()
     load_factor = LOAD_FACTOR
     bank_angle = BANK_ANGLE
     wing = ma.fields.Nested(LiftWingSchema, metadata={

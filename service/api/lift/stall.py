@@ -101,13 +101,9 @@ class LiftStallRequest(ComputeSchema):
                        "at its altitude, scaled by sqrt(weight / reference weight). Arrays here broadcast against "
                        "the points (length 1 or the number of points).",
         "example": {"stall_speed": 108, "weight": 22000, "altitude": 0}})
-    altitude = air.altitude_field(
+    altitude, isa_deviation, temperature, qnh, altitude_kind = air.air_fields(
         "Altitude [ft]: a pressure altitude (FL allowed), or the indicated altitude with `qnh`, or a geometric height "
         "with `altitude_kind: geometric`.")
-    isa_deviation = air.isa_deviation_field()
-    temperature = air.temperature_field()
-    qnh = air.qnh_field()
-    altitude_kind = air.altitude_kind_field()
     load_factor = LOAD_FACTOR
     bank_angle = BANK_ANGLE
     speed_factors = SpeedFactors(metadata={
