@@ -47,7 +47,7 @@ TARGETS = {
                 ["tests/test_physics_atmosphere.py", "tests/test_physics_airspeed.py", "tests/test_physics_lift.py",
                  "tests/test_physics_wing.py", "tests/test_physics_contracts.py", *REFERENCE_TESTS,
                  "tests/test_edges.py"]),
-    "units": (["service/units.py"], ["tests/test_units.py", *REFERENCE_TESTS]),
+    "units": (["service/units.py"], ["tests/test_units.py", "tests/test_reference_units.py", *REFERENCE_TESTS]),
     "shared": (["service/units.py", "service/api/fields.py", "service/api/inputs.py", "service/api/outputs.py"],
                ["tests/test_units.py", "tests/test_fields.py", *REFERENCE_TESTS, "tests/test_api_atmosphere.py",
                 "tests/test_api_airspeed.py", "tests/test_api_lift.py", "tests/test_bad_inputs.py",
@@ -58,7 +58,18 @@ TARGETS = {
 #: into the work copy's source (``mutmut apply``) and running these tests in a fresh interpreter.
 IMPORT_TIME = {
     "service.physics.atmosphere": (["x__derive_layer_bases", "x__frozen", "x__build_layer_lookup"],
-                                   ["tests/test_physics_atmosphere.py", "tests/test_reference_atmosphere.py"]),
+                                   ["tests/test_physics_atmosphere.py"]),
+    "service.units": (["x__dim"], ["tests/test_reference_units.py", "tests/test_units.py"]),
+}
+#: The tests that recheck a survivor of each module against the current tests (--recheck), without a new mutmut
+#: run (whose stats step reruns every test whenever a test file changed).
+RECHECK_TESTS = {
+    "service.physics.airspeed": ["tests/test_physics_airspeed.py", "tests/test_physics_contracts.py"],
+    "service.physics.atmosphere": ["tests/test_physics_atmosphere.py", "tests/test_physics_contracts.py"],
+    "service.physics.lift": ["tests/test_physics_lift.py", "tests/test_physics_contracts.py",
+                             "tests/test_reference_lift.py"],
+    "service.physics.wing": ["tests/test_physics_wing.py", "tests/test_physics_contracts.py"],
+    "service.units": ["tests/test_units.py", "tests/test_reference_units.py"],
 }
 #: Copied into the work directory (everything the tests read).
 COPY = ["service", "tests", "bench", "openapi", "pyproject.toml", "README.md", "DEVELOPERS.md", "constraints.txt"]
@@ -140,32 +151,46 @@ def show(work: Path, name: str) -> str:
 
     def body(fn):
         match = re.search(rf"^def {re.escape(fn)}\(.*?(?=^\S)", text, flags=re.S | re.M)
-        return match.group(0).splitlines()[1:] if match else []
+        return match.group(0).replace(fn, base, 1).splitlines() if match else []
 
     diff = difflib.unified_diff(body(f"{base}__mutmut_orig"), body(function), lineterm="", n=0)
     return "\n".join(line for line in diff if line[:1] in "+-" and not line.startswith(("+++", "---")))
 
 
-def recheck_import_time(work: Path, statuses: dict[str, str]) -> dict[str, str]:
-    """Survivors in import-time functions, each applied to the work copy and tested in a new interpreter."""
+def recheck_import_time(work: Path, statuses: dict[str, str], everything: bool = False,
+                        done: dict | None = None) -> dict[str, str]:
+    """Survivors in import-time functions (and, with ``everything``, every survivor not listed as equivalent),
+    each applied to the work copy's source and tested in a new interpreter against the current tests."""
     verdicts = {}
     mutmut = str(Path(sys.executable).with_name("mutmut"))
-    for module, (functions, tests) in IMPORT_TIME.items():
+    sample_file = work / "sample.json"
+    sampled = set(json.loads(sample_file.read_text())) if sample_file.exists() else set(statuses)
+    equivalent = load_equivalent()
+    for name, status in sorted(statuses.items()):
+        module, function = name.rsplit(".", 1)
+        function = function.split("__mutmut_")[0]
+        import_time = function in IMPORT_TIME.get(module, ([], []))[0]
+        if status != "survived" or name not in sampled or name in equivalent or not (import_time or everything):
+            continue
+        if (done or {}).get(name) == "killed":
+            continue
+        tests = IMPORT_TIME[module][1] if import_time else RECHECK_TESTS.get(module)
+        if not tests:
+            continue
         source = work / (module.replace(".", "/") + ".py")
         pristine = (ROOT / (module.replace(".", "/") + ".py")).read_text()
-        names = [n for n, s in statuses.items() if s == "survived" and n.startswith(module + ".")
-                 and n.split(".")[-1].split("__mutmut_")[0] in functions]
-        for name in names:
-            try:
-                subprocess.run([mutmut, "apply", name], cwd=work, capture_output=True, check=True)
-                result = subprocess.run(
-                    ["nice", "-n", "19", sys.executable, "-m", "pytest", "-x", "-q", "-p", "no:cacheprovider", "-o",
-                     "addopts=", *tests], cwd=work, capture_output=True, timeout=600, check=False)
-                verdicts[name] = "survived" if result.returncode == 0 else "killed"
-            except subprocess.TimeoutExpired:
-                verdicts[name] = "timeout"
-            finally:
-                source.write_text(pristine)
+        for test in tests:  # the current tests
+            shutil.copy2(ROOT / test, work / test)
+        try:
+            subprocess.run([mutmut, "apply", name], cwd=work, capture_output=True, check=True)
+            result = subprocess.run(
+                ["nice", "-n", "19", sys.executable, "-m", "pytest", "-x", "-q", "-p", "no:cacheprovider", "-o",
+                 "addopts=", *tests], cwd=work, capture_output=True, timeout=600, check=False)
+            verdicts[name] = "survived" if result.returncode == 0 else "killed"
+        except subprocess.TimeoutExpired:
+            verdicts[name] = "timeout"
+        finally:
+            source.write_text(pristine)
     return verdicts
 
 
@@ -237,7 +262,8 @@ def main(argv=None) -> int:
                         help="test a seeded random sample of this many mutants (0: all); the score is the sample's")
     parser.add_argument("--seed", type=int, default=20261202, help="seed of the sample")
     parser.add_argument("--recheck", action="store_true",
-                        help="only recheck the last run's survivors in import-time functions, then report")
+                        help="recheck the last run's survivors against the current tests (each applied to the work "
+                             "copy), then report")
     parser.add_argument("--survivors", action="store_true",
                         help="retest only the last run's survivors, against the current tests")
     args = parser.parse_args(argv)
@@ -262,8 +288,10 @@ def main(argv=None) -> int:
             (work / "sample.json").unlink(missing_ok=True)
             seconds = run(work, args.children)
     if not args.report_only:
-        verdicts = recheck_import_time(work, results(work))
-        (work / "import_time_verdicts.json").write_text(json.dumps(verdicts, indent=1))
+        verdicts_file = work / "import_time_verdicts.json"
+        verdicts = json.loads(verdicts_file.read_text()) if verdicts_file.exists() and args.recheck else {}
+        verdicts.update(recheck_import_time(work, results(work), everything=args.recheck, done=verdicts))
+        verdicts_file.write_text(json.dumps(verdicts, indent=1))
     return report(work, args.target, seconds)
 
 

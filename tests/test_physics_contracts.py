@@ -93,3 +93,27 @@ def test_no_value_is_a_quiet_nan(fn, args):
         single = fn(*args)
         array = fn(*(np.array([a, a]) for a in args))
     assert np.isnan(single) and np.all(np.isnan(array)), (single, array)
+
+
+def test_documented_defaults():
+    # Defaults the docstrings state: zero-lift angle 0, load factor 1, airfoil efficiency kappa 1.
+    assert wing.cl_from_angle(0.1, 5.0) == pytest.approx(0.5, rel=1e-15)
+    assert wing.angle_from_cl(0.5, 5.0) == pytest.approx(0.1, rel=1e-15)
+    assert wing.lift_slope(6.0, 0.0, 0.0) == pytest.approx(ref.datcom_slope(6.0, 0.0, 0.0), rel=1e-14)
+    assert lift.stall_eas(200000.0, 60.0, 2.0) == pytest.approx(ref.stall_eas(200000.0, 60.0, 2.0), rel=1e-14)
+    assert lift.scale_stall_eas(50.0, 180000.0, 200000.0) == pytest.approx(50.0 * math.sqrt(0.9), rel=1e-15)
+
+
+@pytest.mark.parametrize(("ias", "cas", "message"), [
+    ([50.0, math.nan, 70.0], [52.0, 60.0, 71.0], "calibration table_ias must be finite (row 1: nan)"),
+    ([50.0, 60.0], [52.0, math.inf], "calibration table_cas must be finite (row 1: inf)"),
+    ([50.0, 0.0], [52.0, 60.0], "calibration table_ias must be positive (row 1: 0)"),
+    ([50.0, 60.0, 70.0], [52.0, 60.0], "calibration table_ias and table_cas must have the same length, got 3 and 2"),
+    ([50.0], [52.0], "calibration table_ias needs at least 2 rows, got 1"),
+    ([50.0, 60.0], [52.0, 51.0], "calibration table_cas must be strictly increasing (row 1: 51 after 52)"),
+])
+def test_calibration_table_messages(ias, cas, message):
+    # The messages name the column and the row (the API turns them into its own wording, so they are a contract).
+    with pytest.raises(ValueError) as err:
+        asp.check_calibration(ias, cas)
+    assert str(err.value) == message

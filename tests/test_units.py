@@ -69,6 +69,9 @@ def test_round_trip(dimension, data, x):
 def test_unknown_unit_names_the_allowed_ones():
     with pytest.raises(units.UnitError, match="allowed: m, ft, km, FL"):
         units.to_si(1.0, "altitude", "yd")
+    with pytest.raises(units.UnitError) as err:
+        units.from_si(1.0, "speed", "knots")
+    assert str(err.value) == "Unknown unit 'knots' for speed; allowed: kt, m/s, km/h, mph, ft/s."
 
 
 def test_every_default_unit_is_in_its_dimension():
