@@ -15,48 +15,20 @@ from __future__ import annotations
 import argparse
 import contextlib
 import json
-import os
-import socket
 import statistics
-import subprocess
 import sys
-import tempfile
-import time
 from pathlib import Path
 
 import numpy as np
 
-from bench.run import ROOT, SIX, _wrk, free_port, post_timed
+from bench.run import ROOT, SIX, _wrk, gunicorn, post_timed
 
 
 @contextlib.contextmanager
 def served(checkout: Path, app: str = "service:create_app()"):
     """gunicorn with the checkout's own Python and configuration on a free port (one worker); yield the port."""
-    python = checkout / ".venv" / "bin" / "python"
-    port = free_port()
-    env = dict(os.environ, QBAR_BIND=f"127.0.0.1:{port}", QBAR_WORKERS="1", QBAR_LOG_LEVEL="warning")
-    env.pop("PROMETHEUS_MULTIPROC_DIR", None)
-    log = tempfile.TemporaryFile()
-    proc = subprocess.Popen([str(python), "-m", "gunicorn", "-c", "python:service.gunicorn_conf", app],
-                            cwd=checkout, env=env, stdout=log, stderr=subprocess.STDOUT)
-    try:
-        deadline = time.monotonic() + 30
-        while time.monotonic() < deadline:
-            with contextlib.suppress(OSError):
-                socket.create_connection(("127.0.0.1", port), timeout=0.2).close()
-                break
-            if proc.poll() is not None:
-                log.seek(0)
-                raise RuntimeError(f"gunicorn exited: {log.read().decode()[-2000:]}")
-            time.sleep(0.1)
-        time.sleep(0.5)
+    with gunicorn(app, checkout=checkout) as (port, _):
         yield port
-    finally:
-        proc.terminate()
-        with contextlib.suppress(subprocess.TimeoutExpired):
-            proc.wait(timeout=10)
-        if proc.poll() is None:
-            proc.kill()
 
 
 def single_point(before: Path, seconds: int, rounds: int) -> dict:

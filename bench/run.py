@@ -70,17 +70,21 @@ def free_port() -> int:
 
 
 @contextlib.contextmanager
-def gunicorn(app: str, workers: int = 1, extra_env: dict | None = None):
-    """Start gunicorn with qbar's configuration on a free loopback port; yield (port, master pid)."""
+def gunicorn(app: str, workers: int = 1, extra_env: dict | None = None, checkout: Path | None = None):
+    """Start gunicorn with qbar's configuration on a free loopback port; yield (port, master pid).
+
+    ``checkout``: another checkout of qbar, served with its own virtual environment (bench.compare).
+    """
     port = free_port()
     env = dict(os.environ, QBAR_BIND=f"127.0.0.1:{port}", QBAR_WORKERS=str(workers), QBAR_LOG_LEVEL="warning")
     env.update(extra_env or {})
     env.pop("PROMETHEUS_MULTIPROC_DIR", None)
     log = tempfile.TemporaryFile()
-    proc = subprocess.Popen([sys.executable, "-m", "gunicorn", "-c", "python:service.gunicorn_conf", app],
-                            cwd=ROOT, env=env, stdout=log, stderr=subprocess.STDOUT)
+    python = sys.executable if checkout is None else str(checkout / ".venv" / "bin" / "python")
+    proc = subprocess.Popen([python, "-m", "gunicorn", "-c", "python:service.gunicorn_conf", app],
+                            cwd=checkout or ROOT, env=env, stdout=log, stderr=subprocess.STDOUT)
     try:
-        deadline = time.monotonic() + 20
+        deadline = time.monotonic() + 30
         while time.monotonic() < deadline:
             with contextlib.suppress(OSError):
                 socket.create_connection(("127.0.0.1", port), timeout=0.2).close()
