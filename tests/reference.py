@@ -63,7 +63,24 @@ UNITS = {
     "lift_slope": {"1/rad": (1.0, 0.0), "1/deg": (180 / math.pi, 0.0)},
     "wing_loading": {"N/m2": (1.0, 0.0), "kg/m2": (9.80665, 0.0),  # a mass per area times g0
                      "lb/ft2": (47.880258980335846, 0.0)},  # 0.45359237 * 9.80665 / 0.3048^2 (SP 811: 4.788 026 E+01)
+    "distance": {"NM": (1852.0, 0.0),  # international nautical mile, exact (SP 811 B.8)
+                 "km": (1000.0, 0.0), "m": (1.0, 0.0), "ft": (0.3048, 0.0),
+                 "mi": (1609.344, 0.0)},  # statute mile = 5280 ft, exact
+    "vertical_speed": {"ft/min": (0.00508, 0.0),  # 0.3048 / 60, exact
+                       "m/s": (1.0, 0.0)},
+    "power": {"kW": (1000.0, 0.0), "W": (1.0, 0.0),
+              "hp": (745.6998715822702, 0.0)},  # 550 ft lbf/s = 550 * 0.3048 * 4.4482216152605 (SP 811: 7.456 999 E+02)
+    "time": {"s": (1.0, 0.0), "min": (60.0, 0.0)},
+    "angular_rate": {"deg/s": (math.pi / 180, 0.0), "rad/s": (1.0, 0.0),
+                     "standard_rate": (3 * math.pi / 180, 0.0)},  # the trade's rate-one turn, 3 deg/s (ICAO Doc 8168)
 }
+
+#: Other spellings each unit accepts on input (the catalogue's ``aliases``): the ASCII and the degree-sign forms in
+#: common use. Every unit not named here has none.
+ALIASES = {("speed", "kt"): ["kn"], ("speed", "mph"): ["mi/h"],
+           ("temperature", "degC"): ["°C"], ("temperature", "degF"): ["°F"],
+           ("temperature_difference", "degC"): ["°C"], ("temperature_difference", "degF"): ["°F"],
+           ("angle", "deg"): ["°"]}
 
 
 def to_unit(si, dimension: str, unit: str):
@@ -250,7 +267,8 @@ def datcom_slope(aspect: float, sweep_half: float, mach: float, kappa: float = 1
 DEFAULT_UNITS = {"altitude": "ft", "speed": "kt", "temperature": "degC", "temperature_difference": "K",
                  "pressure": "hPa", "density": "kg/m3", "mass": "kg", "force": "N", "area": "m2", "angle": "deg",
                  "dynamic_viscosity": "Pa*s", "kinematic_viscosity": "m2/s", "lift_slope": "1/rad",
-                 "wing_loading": "N/m2"}
+                 "wing_loading": "N/m2", "distance": "NM", "vertical_speed": "ft/min", "power": "kW", "time": "s",
+                 "angular_rate": "deg/s"}
 #: Relative tolerance of the endpoint reference checks: the service and this module agree to about 1e-12 where
 #: both use closed forms; 1e-9 leaves room for root finders and quadrature and still catches any real slip.
 REL = 1e-9

@@ -22,7 +22,27 @@ def test_catalogue_shape(catalogue):
         assert set(entry) == {"dimension", "description", "si_unit", "default_unit", "output", "units"}
         assert entry["description"]
         for unit in entry["units"]:
-            assert set(unit) == {"unit", "description", "factor", "offset"} and unit["description"]
+            assert set(unit) == {"unit", "description", "factor", "offset", "aliases"} and unit["description"]
+
+
+def test_aliases(catalogue):
+    published = {(e["dimension"], u["unit"]): u["aliases"] for e in catalogue["dimensions"] for u in e["units"]}
+    assert {key: aliases for key, aliases in published.items() if aliases} == ref.ALIASES
+
+
+@pytest.mark.parametrize(("dimension", "unit"), sorted(ref.ALIASES))
+def test_an_alias_reads_as_its_unit(dimension, unit):
+    """An input in an alias gives the same answer as the same input in the unit's own name."""
+    field, path, extra = {"speed": ("cas", "/v1/airspeed", {"altitude": 5000}),
+                          "temperature": ("temperature", "/v1/atmosphere", {"altitude": 5000}),
+                          "temperature_difference": ("isa_deviation", "/v1/atmosphere", {"altitude": 5000}),
+                          "angle": ("bank_angle", "/v1/lift/solve",
+                                    {"weight": 21000, "wing_area": 61, "altitude": 5000, "cas": 180,
+                                     "solve_for": "cl"})}[dimension]
+    client = ref.app_client()
+    answers = [ref.post_ok(client, path, extra | {field: {"value": 12, "unit": name}})
+               for name in (unit, *ref.ALIASES[dimension, unit])]
+    assert all(answer == answers[0] for answer in answers[1:])
 
 
 def test_every_unit_factor_and_offset(catalogue):
@@ -44,7 +64,8 @@ def test_defaults_si_units_and_output_dimensions(catalogue):
     assert by_name["weight"]["default_unit"] == "kg" and by_name["weight"]["output"] is False
     si = {"altitude": "m", "speed": "m/s", "temperature": "K", "temperature_difference": "K", "pressure": "Pa",
           "density": "kg/m3", "mass": "kg", "force": "N", "weight": "N", "area": "m2", "angle": "rad",
-          "dynamic_viscosity": "Pa*s", "kinematic_viscosity": "m2/s", "lift_slope": "1/rad", "wing_loading": "N/m2"}
+          "dynamic_viscosity": "Pa*s", "kinematic_viscosity": "m2/s", "lift_slope": "1/rad", "wing_loading": "N/m2",
+          "distance": "m", "vertical_speed": "m/s", "power": "W", "time": "s", "angular_rate": "rad/s"}
     assert {name: e["si_unit"] for name, e in by_name.items()} == si
 
 
@@ -52,4 +73,4 @@ def test_unknown_unit_names_itself_and_the_allowed_ones():
     response = ref.app_client().post("/v1/atmosphere", json={"altitude": {"value": 7200, "unit": "feet"}})
     assert response.status_code == 422
     assert response.get_json()["errors"] == [
-        {"pointer": "/altitude/unit", "message": "Unknown unit 'feet' for altitude; allowed: m, ft, km, FL."}]
+        {"pointer": "/altitude/unit", "message": "Unknown unit 'feet' for altitude (did you mean 'ft'?); allowed: m, ft, km, FL."}]
