@@ -984,7 +984,8 @@ def pressure_altitude_at_height(h, dT=None, T=None, datum=None):
     hi = np.full_like(h, H_MAX)
     f_lo, _ = residual(lo)
     f_hi, _ = residual(hi)
-    outside = ~((f_lo <= 0.0) & (f_hi >= 0.0))  # also NaN inputs
+    slack = HEIGHT_RTOL * 100.0 * np.maximum(1.0, np.abs(Z_target))  # rounding at the range's ends
+    outside = ~((f_lo <= slack) & (f_hi >= -slack))  # also NaN inputs
     # Start from the standard-day relation, inside the bracket.
     H = np.clip(Z_target + np.where(np.isfinite(H_d), H_d, 0.0), H_MIN, H_MAX)
     H[outside] = 0.0
@@ -994,11 +995,12 @@ def pressure_altitude_at_height(h, dT=None, T=None, datum=None):
         lo = np.where(f < 0.0, H, lo)
         hi = np.where(f > 0.0, H, hi)
         H_next = H - f / slope
-        bisect = ~((H_next > lo) & (H_next < hi))
+        bisect = ~((H_next >= lo) & (H_next <= hi))
         H_next = np.where(bisect, 0.5 * (lo + hi), H_next)
+        H_next = np.where(f == 0.0, H, H_next)
         step = np.abs(H_next - H)
         H = np.where(done, H, H_next)
-        done |= (step <= HEIGHT_RTOL * np.maximum(1.0, np.abs(H))) | (f == 0.0)
+        done |= step <= HEIGHT_RTOL * np.maximum(1.0, np.abs(H))
         if done.all():
             break
     H[outside | ~done] = np.nan
