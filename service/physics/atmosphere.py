@@ -897,8 +897,10 @@ def pressure_level_height(H, dT, p=None, datum=None):
 #: Iteration cap of :func:`pressure_altitude_at_height` (safeguarded Newton; it converges in 3 to 6
 #: steps, bisection steps only where a Newton step leaves the bracket).
 HEIGHT_MAX_ITER = 100
-#: Convergence tolerance of that solve, relative to ``max(1 m, |H|)`` [-].
-HEIGHT_RTOL = 1e-13
+#: Convergence tolerance of that solve: a Newton step below ``HEIGHT_RTOL |H|`` or ``HEIGHT_ATOL``.
+HEIGHT_RTOL = 1e-12
+#: Absolute floor of the tolerance [m] (the residual's rounding is about 1e-10 m).
+HEIGHT_ATOL = 1e-9
 
 
 def pressure_altitude_at_height(h, dT=None, T=None, datum=None):
@@ -984,7 +986,7 @@ def pressure_altitude_at_height(h, dT=None, T=None, datum=None):
     hi = np.full_like(h, H_MAX)
     f_lo, _ = residual(lo)
     f_hi, _ = residual(hi)
-    slack = HEIGHT_RTOL * 100.0 * np.maximum(1.0, np.abs(Z_target))  # rounding at the range's ends
+    slack = np.maximum(HEIGHT_RTOL * np.abs(Z_target), HEIGHT_ATOL)  # rounding at the range's ends
     outside = ~((f_lo <= slack) & (f_hi >= -slack))  # also NaN inputs
     # Start from the standard-day relation, inside the bracket.
     H = np.clip(Z_target + np.where(np.isfinite(H_d), H_d, 0.0), H_MIN, H_MAX)
@@ -1000,7 +1002,7 @@ def pressure_altitude_at_height(h, dT=None, T=None, datum=None):
         H_next = np.where(f == 0.0, H, H_next)
         step = np.abs(H_next - H)
         H = np.where(done, H, H_next)
-        done |= step <= HEIGHT_RTOL * np.maximum(1.0, np.abs(H))
+        done |= step <= np.maximum(HEIGHT_RTOL * np.abs(H), HEIGHT_ATOL)
         if done.all():
             break
     H[outside | ~done] = np.nan
