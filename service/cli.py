@@ -1,4 +1,8 @@
-"""The `qbar` command: `qbar serve` runs the service under gunicorn, `qbar spec` writes the spec."""
+"""The `qbar` command: `qbar serve` runs the service under gunicorn, `qbar spec` writes the spec.
+
+`qbar serve` listens where QBAR_BIND says (default 127.0.0.1:8080); --host and --port replace its
+parts. Every other setting comes from the environment, as in the image (service/gunicorn_conf.py).
+"""
 
 from __future__ import annotations
 
@@ -7,6 +11,8 @@ import json
 import os
 import sys
 from pathlib import Path
+
+from service import config
 
 SPEC_PATH = Path("openapi") / "openapi.json"
 
@@ -27,10 +33,32 @@ def cmd_spec(args) -> int:
     return 0
 
 
+def bind_address(environ, host: str | None = None, port: int | None = None) -> str:
+    """Where `qbar serve` listens: QBAR_BIND (default 127.0.0.1:8080), its host or port replaced by a flag.
+
+    >>> bind_address({"QBAR_BIND": "0.0.0.0:9000"})
+    '0.0.0.0:9000'
+    >>> bind_address({"QBAR_BIND": "0.0.0.0:9000"}, port=8081)
+    '0.0.0.0:8081'
+    >>> bind_address({}, host="::1")
+    '[::1]:8080'
+    """
+    raw = environ.get("QBAR_BIND", "").strip()
+    bind = config.SETTINGS["QBAR_BIND"][1]("QBAR_BIND", raw) if raw else config.DEFAULT_BIND
+    bound_host, _, bound_port = bind.rpartition(":")
+    if host is not None:
+        bound_host = f"[{host}]" if ":" in host and not host.startswith("[") else host
+    if port is not None:
+        bound_port = str(port)
+    return config.SETTINGS["QBAR_BIND"][1]("--host/--port", f"{bound_host}:{bound_port}")
+
+
 def cmd_serve(args) -> int:
     env = dict(os.environ)
-    host = f"[{args.host}]" if ":" in args.host and not args.host.startswith("[") else args.host
-    env["QBAR_BIND"] = f"{host}:{args.port}"
+    try:
+        env["QBAR_BIND"] = bind_address(env, args.host, args.port)
+    except config.ConfigError as error:
+        config.exit_with(error)
     if args.workers is not None:
         env["QBAR_WORKERS"] = str(args.workers)
     argv = [sys.executable, "-m", "gunicorn", "-c", "python:service.gunicorn_conf", "service:create_app()"]
@@ -41,10 +69,12 @@ def cmd_serve(args) -> int:
 def main(argv=None) -> int:
     parser = argparse.ArgumentParser(prog="qbar", description="qbar: atmosphere, airspeed and lift as a service.")
     sub = parser.add_subparsers(dest="command", required=True)
-    serve = sub.add_parser("serve", help="run the service under gunicorn")
-    serve.add_argument("--host", default="127.0.0.1", help="address to listen on (default 127.0.0.1)")
-    serve.add_argument("--port", type=int, default=8080, help="port (default 8080)")
-    serve.add_argument("--workers", type=int, default=None, help="worker processes (default: from the CPUs granted)")
+    serve = sub.add_parser("serve", help="run the service under gunicorn (gevent workers)")
+    serve.add_argument("--host", default=None,
+                       help="address to listen on, over QBAR_BIND's host (default 127.0.0.1)")
+    serve.add_argument("--port", type=int, default=None, help="port, over QBAR_BIND's port (default 8080)")
+    serve.add_argument("--workers", type=int, default=None,
+                       help="worker processes, over QBAR_WORKERS (default: the CPUs available)")
     serve.set_defaults(func=cmd_serve)
     spec = sub.add_parser("spec", help="write the OpenAPI spec generated from the code")
     spec.add_argument("--output", default=str(SPEC_PATH), help=f"file to write (default {SPEC_PATH})")

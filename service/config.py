@@ -1,4 +1,4 @@
-"""Settings from QBAR_* environment variables, validated at start-up.
+"""Settings from QBAR_* environment variables, validated at start-up: the app's and the server's.
 
 Order: the defaults below, then the environment, then the ``config`` mapping given to
 ``create_app`` (tests). An invalid value raises :class:`ConfigError` whose message is one
@@ -12,6 +12,7 @@ from __future__ import annotations
 
 import difflib
 import importlib
+import ipaddress
 import os
 import re
 import sys
@@ -23,22 +24,34 @@ from typing import NoReturn
 #: exits with it makes the master stop instead of starting the worker again and again.
 EXIT_CONFIG = 4
 
-#: QBAR_* variables read by the server configuration (service/gunicorn_conf.py), not the app.
-SERVER_SETTINGS = ("QBAR_WORKERS", "QBAR_THREADS", "QBAR_BIND")
+#: The settings only the server reads (service/gunicorn_conf.py through :func:`load`), not the app.
+SERVER_SETTINGS = ("QBAR_WORKERS", "QBAR_CONNECTIONS", "QBAR_BIND", "QBAR_HEADER_TIMEOUT", "QBAR_BODY_TIMEOUT")
+MAX_WORKERS = 128
+#: Where `qbar serve` listens unless told otherwise (the image sets QBAR_BIND=0.0.0.0:8080).
+DEFAULT_BIND = "127.0.0.1:8080"
 
 _ORIGIN = re.compile(r"https?://(\[[0-9A-Fa-f:.]+\]|[A-Za-z0-9.-]+)(:[0-9]{1,5})?")
 _COMMIT = re.compile(r"[0-9A-Za-z._+-]{1,64}")
+_BIND = re.compile(r"(?P<host>\[[^\]]*\]|[^:\[\]]+):(?P<port>[0-9]{1,5})")
+_HOSTNAME = re.compile(r"(?=.{1,253}\Z)[A-Za-z0-9](?:[A-Za-z0-9-]{0,61}[A-Za-z0-9])?"
+                       r"(?:\.[A-Za-z0-9](?:[A-Za-z0-9-]{0,61}[A-Za-z0-9])?)*")
 
 
 class ConfigError(ValueError):
     """An invalid setting; the message names the variable."""
 
 
+def _shown(raw) -> str:
+    """A bounded, quoted rendering of a bad value for an error line."""
+    raw = str(raw)
+    return repr(raw if len(raw) <= 60 else raw[:60] + "...")
+
+
 def _int(name: str, raw: str, minimum: int, maximum: int) -> int:
-    try:
-        value = int(str(raw).strip())
-    except ValueError:
-        raise ConfigError(f"{name}: {raw!r} is not a whole number") from None
+    text = str(raw).strip()
+    if not (text.isascii() and text.lstrip("-").isdigit() and len(text) <= 12):
+        raise ConfigError(f"{name}: {_shown(raw)} is not a whole number")
+    value = int(text)
     if not minimum <= value <= maximum:
         raise ConfigError(f"{name}: {value} is outside {minimum}..{maximum}")
     return value
@@ -94,6 +107,43 @@ def _build_commit() -> str | None:
     return _commit("service/_build.py COMMIT", commit) if commit else None
 
 
+def _bind(name: str, raw: str) -> str:
+    """HOST:PORT: an IPv4 address, a bracketed IPv6 address ([::]) or a host name; a port 1..65535."""
+    bind = str(raw).strip()
+    problem = ConfigError(f"{name}: expected HOST:PORT such as 127.0.0.1:8080 or [::]:8080, got {_shown(raw)}")
+    match = _BIND.fullmatch(bind)
+    if match is None or not 1 <= int(match["port"]) <= 65535:
+        raise problem
+    host = match["host"]
+    try:
+        if host.startswith("["):
+            ipaddress.IPv6Address(host[1:-1])
+        elif re.fullmatch(r"[0-9.]+", host):
+            ipaddress.IPv4Address(host)
+        elif not _HOSTNAME.fullmatch(host):
+            raise ValueError(host)
+    except ValueError:
+        raise problem from None
+    return bind
+
+
+def available_cpus() -> int:
+    """CPUs this process may run on, from the standard library (at least 1).
+
+    ``os.process_cpu_count()`` on Python 3.13 and later, else the size of the affinity mask
+    (``os.sched_getaffinity``), else ``os.cpu_count()``. A container's CPU *limit* (a CFS quota)
+    is not an affinity mask: on Kubernetes the Deployment passes its limit as QBAR_WORKERS
+    through the downward API (deploy/deployment.yaml), which overrides this default.
+    """
+    count = getattr(os, "process_cpu_count", None)
+    if count is not None:
+        return max(1, count() or 1)
+    try:
+        return max(1, len(os.sched_getaffinity(0)))
+    except (AttributeError, OSError):  # not Linux
+        return max(1, os.cpu_count() or 1)
+
+
 def _log_level(name: str, raw: str) -> str:
     level = str(raw).strip().upper()
     if level not in ("DEBUG", "INFO", "WARNING", "ERROR"):
@@ -110,12 +160,20 @@ SETTINGS: dict[str, tuple[object, Callable]] = {
     "QBAR_CORS_ORIGINS": ((), _origins),
     "QBAR_LOG_LEVEL": ("INFO", _log_level),
     "QBAR_COMMIT": (None, _commit),  # default: service/_build.py, see load()
+    # The server's (service/gunicorn_conf.py): worker processes (default: the CPUs available, see
+    # load()), open connections per worker, the address to listen on, and the seconds a request's
+    # head (also the idle time of a kept-alive connection) and its body may take to arrive.
+    "QBAR_WORKERS": (None, lambda n, r: _int(n, r, 1, MAX_WORKERS)),
+    "QBAR_CONNECTIONS": (1000, lambda n, r: _int(n, r, 10, 100_000)),
+    "QBAR_BIND": (DEFAULT_BIND, _bind),
+    "QBAR_HEADER_TIMEOUT": (15, lambda n, r: _int(n, r, 1, 300)),
+    "QBAR_BODY_TIMEOUT": (30, lambda n, r: _int(n, r, 1, 600)),
 }
 
 
 def _unknown_variables(environ: Mapping[str, str]) -> None:
     """ConfigError for a QBAR_* variable that nothing reads (a misspelt name, most likely)."""
-    known = (*SETTINGS, *SERVER_SETTINGS)
+    known = tuple(SETTINGS)
     for name in sorted(environ):
         if name.startswith("QBAR_") and name not in known:
             close = difflib.get_close_matches(name, known, n=1)
@@ -135,6 +193,8 @@ def load(environ: Mapping[str, str] | None = None, overrides: Mapping | None = N
         if name in SETTINGS and isinstance(value, str):
             value = SETTINGS[name][1](name, value)
         settings[name] = value
+    if settings["QBAR_WORKERS"] is None:
+        settings["QBAR_WORKERS"] = min(available_cpus(), MAX_WORKERS)
     if settings["QBAR_COMMIT"] is None:
         settings["QBAR_COMMIT"] = _build_commit()
     keys = tuple(settings["QBAR_API_KEYS"]) + tuple(settings["QBAR_API_KEYS_FILE"])

@@ -18,6 +18,7 @@ import json
 import pytest
 
 from service import create_app
+from service.api.problems import bounded_pointer
 from tests.helpers import PROBLEM, assert_problem
 
 #: Every compute endpoint: a valid body, a field that takes a unit (Quantity), a dimensionless one
@@ -252,7 +253,7 @@ def test_a_unit_of_another_dimension_is_422(client, path):
 def test_unknown_field_is_422_at_it(client, path, extra):
     doc = check(send(client, path, with_field(path, extra, 1)), 422)
     escaped = "/" + extra.replace("~", "~0").replace("/", "~1")
-    assert escaped in [e["pointer"] for e in doc["errors"]]
+    assert bounded_pointer(escaped) in [e["pointer"] for e in doc["errors"]]  # a long name is cut (MAX_ECHO)
 
 
 @pytest.mark.parametrize("path", PATHS)

@@ -26,10 +26,12 @@ import gunicorn.config
 import kubernetes_validate
 import pytest
 import yaml
+from prometheus_client.mmap_dict import MmapedDict
 from werkzeug.exceptions import MethodNotAllowed, NotFound
 
 from service import config as app_config
-from service import create_app, gunicorn_conf
+from service import create_app, gunicorn_conf, server
+from service.logs import JsonFormatter
 from tests.live_server import REPO, running_gunicorn
 
 DEPLOY = REPO / "deploy"
@@ -285,11 +287,11 @@ def test_container_port_matches_the_image_and_the_gunicorn_bind():
     (port,) = container()["ports"]
     assert port["name"] == "http" and port["protocol"] == "TCP"
     exposed = instruction(runtime_stage(), "EXPOSE")
-    bind = gunicorn_conf.env_bind(environ=image_env())  # the container's bind, as the config reads it
+    bind = app_config.load(environ={"QBAR_BIND": image_env()["QBAR_BIND"]})["QBAR_BIND"]  # as the config reads it
     assert port["containerPort"] == int(exposed) == bind_port(bind) == 8080
     assert bind.startswith("0.0.0.0:"), "the container must listen beyond its loopback"
-    assert bind_port(gunicorn_conf.DEFAULT_BIND) == 8080
-    assert gunicorn_conf.DEFAULT_BIND.startswith("127.0.0.1:"), "`qbar serve` listens on loopback by default"
+    assert bind_port(app_config.DEFAULT_BIND) == 8080
+    assert app_config.DEFAULT_BIND.startswith("127.0.0.1:"), "`qbar serve` listens on loopback by default"
 
 
 def test_service_sends_port_80_to_the_container_port():
@@ -331,8 +333,10 @@ def test_resources_have_requests_and_limits():
     resources = container()["resources"]
     for kind in ("requests", "limits"):
         assert set(resources[kind]) == {"cpu", "memory"}
-    # the CPU limit is the cgroup quota granted_cpus() reads: whole CPUs give whole workers
+    # the CPU limit is the worker count (QBAR_WORKERS through the downward API): whole CPUs, whole workers
     assert float(resources["limits"]["cpu"]).is_integer()
+    (workers,) = [e for e in container()["env"] if e["name"] == "QBAR_WORKERS"]
+    assert workers["valueFrom"]["resourceFieldRef"] == {"resource": "limits.cpu", "divisor": "1"}
 
 
 def test_writable_paths_are_empty_dirs():
@@ -353,21 +357,22 @@ def test_settings_come_from_the_config_map():
 
 def test_config_map_settings_are_known_and_valid(tmp_path):
     data = applied_resources()["ConfigMap"]["data"]
-    known = set(app_config.SETTINGS) | set(app_config.SERVER_SETTINGS) | {"PROMETHEUS_MULTIPROC_DIR"}
+    known = set(app_config.SETTINGS) | {"PROMETHEUS_MULTIPROC_DIR"}
     assert set(data) <= known, set(data) - known
     assert all(isinstance(value, str) for value in data.values())
     settings = app_config.load(environ=data)  # raises ConfigError naming a bad variable
     assert settings["QBAR_MAX_POINTS"] == 200_000
     assert settings["QBAR_MAX_BODY_BYTES"] == 8 * 1024 * 1024
     assert settings["QBAR_CORS_ORIGINS"] == ()
-    assert gunicorn_conf.env_choice("QBAR_LOG_LEVEL", "info", gunicorn_conf.LOG_LEVELS, environ=data)
+    assert settings["QBAR_LOG_LEVEL"] == "INFO"
 
 
 def test_server_variables_are_known_to_the_app_config():
-    """service/config.py refuses QBAR_* names it does not know; it must know the server's."""
+    """service/config.py reads every QBAR_* setting, the server's too; the gunicorn config only uses them."""
     read_here = set(re.findall(r'"(QBAR_[A-Z_]+)"', CONF_PATH.read_text(encoding="utf-8")))
-    assert {"QBAR_WORKERS", "QBAR_THREADS", "QBAR_BIND"} <= read_here
-    assert read_here <= set(app_config.SETTINGS) | set(app_config.SERVER_SETTINGS)
+    assert {"QBAR_WORKERS", "QBAR_CONNECTIONS", "QBAR_BIND"} <= read_here
+    assert read_here <= set(app_config.SETTINGS)
+    assert "os.environ.get(\"QBAR" not in CONF_PATH.read_text(encoding="utf-8")
 
 
 def test_metrics_scrape_annotations_point_at_the_metrics_view(qbar_app):
@@ -377,7 +382,7 @@ def test_metrics_scrape_annotations_point_at_the_metrics_view(qbar_app):
 
 
 def test_api_keys_come_from_a_secret_file(tmp_path):
-    env = {e["name"]: e["value"] for e in container()["env"]}
+    env = {e["name"]: e.get("value") for e in container()["env"]}
     keys_file = Path(env["QBAR_API_KEYS_FILE"])
     volumes = {v["name"]: v for v in pod_spec()["volumes"]}
     (mount,) = [m for m in container()["volumeMounts"] if Path(m["mountPath"]) == keys_file.parent]
@@ -442,14 +447,32 @@ def test_dockerfile_is_multi_stage_on_slim_python():
 def test_builder_makes_wheels_with_the_constraints():
     builder = dockerfile_stages()[0]
     runs = [arguments for keyword, arguments in builder if keyword == "RUN"]
-    assert any(run.startswith("pip wheel") and "-c constraints.txt" in run for run in runs)
+    wheel_runs = [run for run in runs if "pip wheel" in run]
+    assert wheel_runs and all("-c constraints.txt" in run for run in wheel_runs)
+    # One step downloads (the dependencies); the app's wheel is built from them without an index.
+    (download,) = [run for run in wheel_runs if "--no-index" not in run]
+    assert wheel_runs[-1].count("--no-index") == 1 and "cp constraints.txt /wheels/" in wheel_runs[-1]
+
+
+def test_ca_bundle_is_a_secret_of_the_downloading_step_only():
+    """Behind a TLS-intercepting proxy pip needs the proxy's CA: a build secret, never a layer."""
+    builder = dockerfile_stages()[0]
+    runs = [arguments for keyword, arguments in builder if keyword == "RUN"]
+    with_secret = [run for run in runs if "type=secret" in run]
+    assert len(with_secret) == 1 and "pip wheel" in with_secret[0] and "--no-index" not in with_secret[0]
+    assert "id=ca-bundle" in with_secret[0] and "export PIP_CERT=/run/secrets/ca-bundle" in with_secret[0]
+    stages = dockerfile_stages()
+    assert not any("ca-bundle" in arguments or "PIP_CERT" in arguments
+                   for stage in stages[1:] for _, arguments in stage), "the runtime stage never sees the CA bundle"
+    assert not any(keyword == "COPY" and "cert" in arguments.lower()
+                   for stage in stages for keyword, arguments in stage)
 
 
 def test_runtime_installs_only_the_wheel_with_the_constraints():
     runs = [arguments for keyword, arguments in runtime_stage() if keyword == "RUN"]
     (install,) = [run for run in runs if "pip install" in run]
-    assert "--no-index" in install and "-c /tmp/constraints.txt" in install
-    assert "target=/tmp/constraints.txt" in install and "source=constraints.txt" in install
+    assert "--no-index" in install and "-c /wheels/constraints.txt" in install
+    assert "from=builder,source=/wheels,target=/wheels" in install
     name = tomllib.loads((REPO / "pyproject.toml").read_text(encoding="utf-8"))["project"]["name"]
     assert f"/wheels/{name}-*.whl" in install
     assert not any(keyword == "COPY" for keyword, _ in runtime_stage()), "the runtime gets no source"
@@ -514,70 +537,6 @@ def test_constraints_pin_every_runtime_dependency():
 # --- the gunicorn configuration --------------------------------------------------------------
 
 
-@pytest.fixture
-def affinity(monkeypatch):
-    """Pretend this process may run on a given number of CPUs."""
-
-    def set_cpus(count):
-        monkeypatch.setattr(gunicorn_conf.os, "sched_getaffinity", lambda pid: set(range(count)))
-
-    return set_cpus
-
-
-def write_files(root, files):
-    for name, text in files.items():
-        path = root / name
-        path.parent.mkdir(parents=True, exist_ok=True)
-        path.write_text(text, encoding="ascii")
-
-
-# cgroup v2 cpu.max is "$MAX $PERIOD", "max" meaning no limit; v1 has cpu.cfs_quota_us (-1: no
-# limit) over cpu.cfs_period_us, under cpu/ or cpu,cpuacct/ (Linux kernel documentation,
-# admin-guide/cgroup-v2.rst "cpu.max" and scheduler/sched-bwc.rst).
-@pytest.mark.parametrize(
-    ("files", "affinity_cpus", "expected"),
-    [
-        ({"cpu.max": "max 100000\n"}, 8, 8),
-        ({"cpu.max": "200000 100000\n"}, 8, 2),
-        ({"cpu.max": "150000 100000\n"}, 8, 2),  # 1.5 CPUs: rounded up
-        ({"cpu.max": "50000 100000\n"}, 8, 1),  # half a CPU: still one
-        ({"cpu.max": "1600000 100000\n"}, 4, 4),  # the affinity mask is smaller than the quota
-        ({"cpu.max": "400000 50000\n"}, 16, 8),  # another period
-        ({"cpu.max": "garbage\n"}, 8, 8),  # unreadable: no quota
-        ({"cpu/cpu.cfs_quota_us": "300000\n", "cpu/cpu.cfs_period_us": "100000\n"}, 8, 3),
-        ({"cpu,cpuacct/cpu.cfs_quota_us": "100000\n", "cpu,cpuacct/cpu.cfs_period_us": "100000\n"}, 8, 1),
-        ({"cpu/cpu.cfs_quota_us": "-1\n", "cpu/cpu.cfs_period_us": "100000\n"}, 8, 8),
-        ({"cpu.max": "max 100000\n"}, 1, 1),
-        ({}, 6, 6),  # no cgroup files at all
-    ],
-)
-def test_granted_cpus_from_cgroup_files(tmp_path, affinity, files, affinity_cpus, expected):
-    write_files(tmp_path, files)
-    affinity(affinity_cpus)
-    assert gunicorn_conf.granted_cpus(tmp_path) == expected
-
-
-def test_granted_cpus_prefers_cgroup_v2(tmp_path, affinity):
-    write_files(tmp_path, {"cpu.max": "200000 100000\n", "cpu/cpu.cfs_quota_us": "500000\n",
-                           "cpu/cpu.cfs_period_us": "100000\n"})
-    affinity(8)
-    assert gunicorn_conf.granted_cpus(tmp_path) == 2
-
-
-def test_granted_cpus_ignores_the_host_cpu_count(tmp_path, affinity, monkeypatch):
-    write_files(tmp_path, {"cpu.max": "100000 100000\n"})
-    affinity(64)
-    monkeypatch.setattr(gunicorn_conf.os, "cpu_count", lambda: 64)
-    assert gunicorn_conf.granted_cpus(tmp_path) == 1
-
-
-@pytest.mark.parametrize(("quota", "workers"), [("100000", 2), ("200000", 3), ("400000", 5), ("max", 9)])
-def test_default_workers_are_granted_cpus_plus_one(tmp_path, affinity, quota, workers):
-    write_files(tmp_path, {"cpu.max": f"{quota} 100000\n"})
-    affinity(8)
-    assert gunicorn_conf.default_workers(tmp_path) == workers
-
-
 def load_conf(monkeypatch, tmp_path, **env):
     """Execute service/gunicorn_conf.py as gunicorn does with a file path, under ``env``; its settings."""
     for name in [n for n in os.environ if n.startswith("QBAR_")]:
@@ -590,10 +549,11 @@ def load_conf(monkeypatch, tmp_path, **env):
 
 def test_settings_defaults(monkeypatch, tmp_path):
     conf = load_conf(monkeypatch, tmp_path)
-    assert conf["workers"] == gunicorn_conf.default_workers() == gunicorn_conf.granted_cpus() + 1
-    assert conf["threads"] == 2
+    assert conf["workers"] == app_config.available_cpus()
+    assert conf["worker_connections"] == 1000
     assert conf["bind"] == ["127.0.0.1:8080"]
-    assert conf["worker_class"] == "gthread"
+    assert conf["worker_class"] == "gevent"
+    assert 0 < conf["keepalive"] < conf["timeout"]
     assert conf["loglevel"] == "info"
     assert conf["preload_app"] is True
     assert conf["max_requests"] > 0 and 0 < conf["max_requests_jitter"] < conf["max_requests"]
@@ -606,15 +566,16 @@ def test_settings_defaults(monkeypatch, tmp_path):
 
 
 def test_settings_from_the_environment(monkeypatch, tmp_path):
-    conf = load_conf(monkeypatch, tmp_path, QBAR_WORKERS="5", QBAR_THREADS="1", QBAR_BIND="[::]:9000",
+    conf = load_conf(monkeypatch, tmp_path, QBAR_WORKERS="5", QBAR_CONNECTIONS="100", QBAR_BIND="[::]:9000",
                      QBAR_LOG_LEVEL="WARNING")
-    assert (conf["workers"], conf["threads"], conf["bind"], conf["loglevel"]) == (5, 1, ["[::]:9000"], "warning")
+    assert (conf["workers"], conf["worker_connections"], conf["bind"], conf["loglevel"]) == (
+        5, 100, ["[::]:9000"], "warning")
 
 
 def test_empty_variables_count_as_unset(monkeypatch, tmp_path):
-    conf = load_conf(monkeypatch, tmp_path, QBAR_WORKERS="", QBAR_THREADS=" ", QBAR_BIND="")
-    assert (conf["threads"], conf["bind"]) == (2, ["127.0.0.1:8080"])
-    assert conf["workers"] == gunicorn_conf.default_workers()
+    conf = load_conf(monkeypatch, tmp_path, QBAR_WORKERS="", QBAR_CONNECTIONS=" ", QBAR_BIND="")
+    assert (conf["worker_connections"], conf["bind"]) == (1000, ["127.0.0.1:8080"])
+    assert conf["workers"] == app_config.available_cpus()
 
 
 def test_gunicorn_accepts_every_setting():
@@ -630,8 +591,8 @@ def test_gunicorn_accepts_every_setting():
     assert unknown == set()
     for name, value in settings.items():
         cfg.set(name, value)  # gunicorn's own validators
-    assert cfg.worker_class_str == "gthread"
-    assert cfg.logger_class is gunicorn_conf.JsonLogger
+    assert cfg.worker_class_str == "gevent"
+    assert cfg.logger_class is server.JsonLogger
     assert cfg.control_socket_disable is True
     for hook in ("on_starting", "when_ready", "post_worker_init", "child_exit"):
         assert getattr(cfg, hook) is getattr(gunicorn_conf, hook)
@@ -646,9 +607,10 @@ def test_gunicorn_accepts_every_setting():
         ("QBAR_WORKERS", "1.5"),
         ("QBAR_WORKERS", "1_000"),
         ("QBAR_WORKERS", "129"),
-        ("QBAR_THREADS", "0"),
-        ("QBAR_THREADS", "many"),
-        ("QBAR_THREADS", "33"),
+        ("QBAR_CONNECTIONS", "0"),
+        ("QBAR_CONNECTIONS", "many"),
+        ("QBAR_CONNECTIONS", "100001"),
+        ("QBAR_THREADS", "2"),  # gthread's, gone with the gevent workers
         ("QBAR_BIND", "8080"),
         ("QBAR_BIND", "localhost"),
         ("QBAR_BIND", "0.0.0.0:0"),
@@ -675,13 +637,13 @@ def test_invalid_setting_stops_with_one_line_naming_it(monkeypatch, tmp_path, na
     "bind", ["127.0.0.1:8080", "0.0.0.0:80", "[::]:8080", "[::1]:65535", "localhost:8080", "qbar.example.com:8080"]
 )
 def test_valid_binds(bind):
-    assert gunicorn_conf.env_bind(environ={"QBAR_BIND": bind}) == bind
+    assert app_config.load(environ={"QBAR_BIND": bind})["QBAR_BIND"] == bind
 
 
 def test_long_bad_value_is_shortened_in_the_message():
-    with pytest.raises(SystemExit) as stopped:
-        gunicorn_conf.env_int("QBAR_WORKERS", 3, 1, 128, environ={"QBAR_WORKERS": "x" * 500})
-    assert len(str(stopped.value.code)) < 150
+    with pytest.raises(app_config.ConfigError) as stopped:
+        app_config.load(environ={"QBAR_WORKERS": "x" * 500})
+    assert len(str(stopped.value)) < 150
 
 
 def run_quietly(argv, env_overrides, timeout=60):
@@ -695,7 +657,7 @@ def run_quietly(argv, env_overrides, timeout=60):
     [
         ([sys.executable, "-c", f"import {CONF_MODULE}"], "QBAR_WORKERS", "abc"),
         ([sys.executable, "-m", "gunicorn", "-c", f"python:{CONF_MODULE}", APP_SPEC], "QBAR_BIND", "nowhere"),
-        ([sys.executable, "-m", "gunicorn", "-c", str(CONF_PATH), APP_SPEC], "QBAR_THREADS", "0"),
+        ([sys.executable, "-m", "gunicorn", "-c", str(CONF_PATH), APP_SPEC], "QBAR_CONNECTIONS", "0"),
         ([sys.executable, "-m", "gunicorn", "-c", f"python:{CONF_MODULE}", APP_SPEC], "QBAR_MAX_POINTS", "lots"),
     ],
     ids=["import", "gunicorn-module", "gunicorn-file", "app-setting"],
@@ -740,7 +702,7 @@ def access_logger(tmp_path):
     cfg.set("accesslog", str(tmp_path / "access.log"))
     cfg.set("errorlog", str(tmp_path / "error.log"))
     cfg.set("access_log_format", gunicorn_conf.access_log_format)
-    logger = gunicorn_conf.JsonLogger(cfg)
+    logger = gunicorn_conf.logger_class(cfg)
     yield logger, tmp_path
     for log in (logger.access_log, logger.error_log):
         for handler in [h for h in log.handlers if getattr(h, "_gunicorn", False)]:
@@ -820,7 +782,7 @@ def test_json_formatter_keeps_tracebacks_on_one_line():
         raise ValueError("boom")
     except ValueError:
         record = logging.LogRecord("x", logging.ERROR, __file__, 1, "failed", None, sys.exc_info())
-    text = gunicorn_conf.JsonFormatter().format(record)
+    text = JsonFormatter().format(record)
     assert "\n" not in text and "ValueError: boom" in json.loads(text)["exception"]
 
 
@@ -844,13 +806,16 @@ def test_on_starting_creates_and_empties_the_metrics_directory(monkeypatch, tmp_
     assert (tmp_path / "new" / "metrics").is_dir()
 
 
-def test_child_exit_marks_the_worker_dead(monkeypatch, tmp_path):
+def test_child_exit_archives_the_dead_worker(monkeypatch, tmp_path):
     monkeypatch.setenv("PROMETHEUS_MULTIPROC_DIR", str(tmp_path))
-    for name in ("gauge_livesum_4242.db", "gauge_liveall_4242.db", "counter_4242.db", "gauge_livesum_77.db"):
+    for name in ("gauge_livesum_4242.db", "gauge_liveall_4242.db", "gauge_livesum_77.db"):
         (tmp_path / name).write_bytes(b"")
+    counter = MmapedDict(str(tmp_path / "counter_4242.db"))
+    counter.write_value('["c", "c_total", {}, "help"]', 3.0, 0.0)
+    counter.close()
     gunicorn_conf.child_exit(FakeArbiter(), types.SimpleNamespace(pid=4242))
-    # prometheus-client drops a dead process's live gauges and keeps its counters
-    assert sorted(p.name for p in tmp_path.iterdir()) == ["counter_4242.db", "gauge_livesum_77.db"]
+    # its live gauges dropped, its counters folded into the archive (tests/test_ops_server.py: the sums)
+    assert sorted(p.name for p in tmp_path.iterdir()) == ["counter_archive.db", "gauge_livesum_77.db"]
 
 
 def test_hooks_do_nothing_without_a_metrics_directory(monkeypatch, tmp_path):
@@ -905,7 +870,7 @@ def test_real_gunicorn_with_two_workers(tmp_path):
     errors = read_json_lines(logs / "stderr.log")  # every error-log line is JSON
     messages = [line["message"] for line in errors]
     assert sum(m.startswith("Booting worker") for m in messages) == 2
-    assert any(m.startswith("qbar ready: 2 workers x 2 threads") for m in messages)
+    assert any(m.startswith("qbar ready: 2 gevent workers x 1000 connections") for m in messages)
     assert any("Shutting down" in m for m in messages)
     # gunicorn's access log, turned on: one JSON line per request (the app writes its own too)
     access = [line for line in read_json_lines(logs / "stdout.log") if line["logger"] == "gunicorn.access"]
@@ -925,5 +890,5 @@ def test_real_gunicorn_writes_no_access_log_of_its_own_by_default(tmp_path):
 
 
 def test_live_server_reports_a_failed_start():
-    with pytest.raises(RuntimeError, match="QBAR_THREADS"), running_gunicorn(env={"QBAR_THREADS": "none"}):
+    with pytest.raises(RuntimeError, match="QBAR_CONNECTIONS"), running_gunicorn(env={"QBAR_CONNECTIONS": "none"}):
         pass

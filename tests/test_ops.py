@@ -15,7 +15,7 @@ from prometheus_client.parser import text_string_to_metric_families
 
 from service import config as settings
 from service import create_app
-from service.api import ops
+from service.api import request_hooks
 from service.cli import spec_text
 from tests.helpers import assert_problem, post
 
@@ -256,7 +256,7 @@ def test_without_keys_compute_endpoints_are_open(client):
     ("/metrics", False), ("/openapi.json", False), ("/docs", False), ("/problems/<slug>", False),
 ])
 def test_which_rules_need_a_key(rule, protected):
-    assert ops.is_protected(rule) is protected
+    assert request_hooks.is_protected(rule) is protected
 
 
 def test_spec_declares_the_schemes_and_marks_exactly_the_open_operations():
@@ -272,7 +272,7 @@ def test_spec_declares_the_schemes_and_marks_exactly_the_open_operations():
                 continue
             rule = path.replace("{", "<").replace("}", ">")
             declared_open = operation.get("security") == []
-            assert declared_open is not ops.is_protected(rule), (path, method)
+            assert declared_open is not request_hooks.is_protected(rule), (path, method)
 
 
 # --- CORS ------------------------------------------------------------------------------------
@@ -355,7 +355,7 @@ def test_metrics_count_requests_latency_and_points():
     assert found[("qbar_http_requests_total", (("endpoint", "/v1/atmosphere"), ("method", "POST"),
                                                ("status", "422")))] == 1
     # the raw path is not a label: every unmatched path shares one series
-    assert found[("qbar_http_requests_total", (("endpoint", ops.UNMATCHED), ("method", "GET"),
+    assert found[("qbar_http_requests_total", (("endpoint", request_hooks.UNMATCHED), ("method", "GET"),
                                                ("status", "404")))] == 1
     assert found[("qbar_http_requests_total", (("endpoint", "/v1/health"), ("method", "GET"),
                                                ("status", "200")))] == 1
@@ -388,6 +388,12 @@ def test_each_app_has_its_own_registry():
     ("QBAR_CORS_ORIGINS", "https://efb.example.com/app", "no path"),
     ("QBAR_LOG_LEVEL", "loud", "not one of"),
     ("QBAR_COMMIT", "abc def", "commit"),
+    ("QBAR_WORKERS", "0", "outside"),
+    ("QBAR_WORKERS", "many", "not a whole number"),
+    ("QBAR_CONNECTIONS", "5", "outside"),
+    ("QBAR_BIND", "8080", "HOST:PORT"),
+    ("QBAR_BIND", "127.0.0.1:70000", "HOST:PORT"),
+    ("QBAR_BIND", "bad host:80", "HOST:PORT"),
 ])
 def test_an_invalid_setting_exits_with_one_line(monkeypatch, capsys, variable, value, words):
     monkeypatch.setenv(variable, value)
@@ -415,10 +421,27 @@ def test_a_misspelt_variable_is_refused_with_a_suggestion(monkeypatch, capsys):
     assert KEY_OLD not in err
 
 
-def test_server_variables_are_known(monkeypatch):
-    for name in settings.SERVER_SETTINGS:
-        monkeypatch.setenv(name, "2" if name != "QBAR_BIND" else "127.0.0.1:8080")
+def test_server_variables_are_read_by_the_one_config(monkeypatch):
+    monkeypatch.setenv("QBAR_WORKERS", "3")
+    monkeypatch.setenv("QBAR_CONNECTIONS", "50")
+    monkeypatch.setenv("QBAR_BIND", "[::]:9000")
+    loaded = settings.load()
+    assert (loaded["QBAR_WORKERS"], loaded["QBAR_CONNECTIONS"], loaded["QBAR_BIND"]) == (3, 50, "[::]:9000")
     assert create_app({"TESTING": True}).config["QBAR_MAX_POINTS"] == 200_000
+
+
+def test_workers_default_to_the_cpus_the_standard_library_reports(monkeypatch):
+    monkeypatch.delenv("QBAR_WORKERS", raising=False)
+    monkeypatch.setattr(settings.os, "sched_getaffinity", lambda pid: {0, 1, 2}, raising=False)
+    monkeypatch.setattr(settings.os, "process_cpu_count", lambda: 3, raising=False)
+    assert settings.load()["QBAR_WORKERS"] == settings.available_cpus() == 3
+
+
+def test_the_old_threads_setting_is_refused_by_name(monkeypatch, capsys):
+    monkeypatch.setenv("QBAR_THREADS", "2")  # gthread's; the gevent workers have no threads
+    with pytest.raises(SystemExit):
+        create_app()
+    assert capsys.readouterr().err.startswith("QBAR_THREADS: not a qbar setting")
 
 
 @pytest.mark.parametrize("value", ["", "   "])

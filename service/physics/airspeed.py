@@ -58,6 +58,7 @@ from typing import NamedTuple
 
 import numpy as np
 
+from .arrays import any_true, result
 from .atmosphere import density, pressure_altitude, speed_of_sound
 from .constants import A0, GAMMA, P0, RHO0
 
@@ -106,19 +107,9 @@ _RATIO_SONIC = math.expm1(_E * math.log1p(_HALF_GM1))
 _ASYMPTOTE = _K / _C ** (_E - 1.0)
 
 
-def _out(x):
-    """Return a NumPy scalar for a 0-d array, the array itself otherwise."""
-    return x[()] if x.ndim == 0 else x
-
-
-def _any(mask):
-    """``mask.any()``, without the reduction's overhead for a 0-d mask."""
-    return bool(mask) if mask.ndim == 0 else bool(mask.any())
-
-
 def _nan_where(mask, x):
     """``x`` with NaN where ``mask`` is True (only pays for np.where when needed)."""
-    return np.where(mask, np.nan, x) if _any(mask) else x
+    return np.where(mask, np.nan, x) if any_true(mask) else x
 
 
 def _scalar(*xs) -> bool:
@@ -151,7 +142,7 @@ def _ratio_from_mach(M):
     M2 = M * M
     r = np.expm1(_E * np.log1p(_HALF_GM1 * M2))
     sup = M > 1.0
-    if _any(sup):
+    if any_true(sup):
         M2s = np.maximum(M2, 1.0)  # keeps the unused branch finite and warning-free
         rayleigh = _K * M2s**_E / (_C * M2s - 1.0) ** (_E - 1.0) - 1.0
         r = np.where(sup, rayleigh, r)
@@ -166,7 +157,7 @@ def _mach_from_ratio(r):
     r = np.asarray(r, dtype=float)
     r = _nan_where(~((r >= 0.0) & (r < np.inf)), r)
     sup = r > _RATIO_SONIC
-    if not _any(sup):
+    if not any_true(sup):
         return np.sqrt(np.expm1(np.log1p(r) / _E) / _HALF_GM1)
     M = np.asarray(np.sqrt(np.expm1(np.log1p(np.minimum(r, _RATIO_SONIC)) / _E) / _HALF_GM1))
     M[sup] = _newton_supersonic(r[sup])
@@ -263,7 +254,7 @@ def impact_pressure_from_mach(mach, p):
     """
     if _scalar(mach, p):
         return np.float64(_ratio_from_mach_one(float(mach)) * float(p))
-    return _out(_ratio_from_mach(mach) * np.asarray(p, dtype=float))
+    return result(_ratio_from_mach(mach) * np.asarray(p, dtype=float))
 
 
 def mach_from_impact_pressure(qc, p):
@@ -311,7 +302,7 @@ def mach_from_impact_pressure(qc, p):
     if _scalar(qc, p):
         return np.float64(_mach_from_ratio_one(float(qc) / float(p)) if p > 0.0 else math.nan)
     p = np.asarray(p, dtype=float)
-    return _out(_mach_from_ratio(np.asarray(qc, dtype=float) / np.where(p > 0.0, p, np.nan)))
+    return result(_mach_from_ratio(np.asarray(qc, dtype=float) / np.where(p > 0.0, p, np.nan)))
 
 
 def impact_pressure_from_cas(cas):
@@ -356,7 +347,7 @@ def impact_pressure_from_cas(cas):
     """
     if _scalar(cas):
         return np.float64(_ratio_from_mach_one(float(cas) / A0) * P0)
-    return _out(_ratio_from_mach(np.asarray(cas, dtype=float) / A0) * P0)
+    return result(_ratio_from_mach(np.asarray(cas, dtype=float) / A0) * P0)
 
 
 def cas_from_impact_pressure(qc):
@@ -396,7 +387,7 @@ def cas_from_impact_pressure(qc):
     """
     if _scalar(qc):
         return np.float64(A0 * _mach_from_ratio_one(float(qc) / P0))
-    return _out(A0 * _mach_from_ratio(np.asarray(qc, dtype=float) / P0))
+    return result(A0 * _mach_from_ratio(np.asarray(qc, dtype=float) / P0))
 
 
 def mach_from_cas(cas, p):
@@ -508,7 +499,7 @@ def tas_from_mach(mach, T):
     ----------
     .. [1] ICAO Doc 7488/3, 1993.
     """
-    return _out(np.asarray(mach, dtype=float) * speed_of_sound(T))
+    return result(np.asarray(mach, dtype=float) * speed_of_sound(T))
 
 
 def mach_from_tas(tas, T):
@@ -543,7 +534,7 @@ def mach_from_tas(tas, T):
     ----------
     .. [1] ICAO Doc 7488/3, 1993.
     """
-    return _out(np.asarray(tas, dtype=float) / speed_of_sound(T))
+    return result(np.asarray(tas, dtype=float) / speed_of_sound(T))
 
 
 def eas_from_tas(tas, rho):
@@ -579,7 +570,7 @@ def eas_from_tas(tas, rho):
     ----------
     .. [1] ICAO Doc 7488/3, 1993.
     """
-    return _out(np.asarray(tas, dtype=float) * np.sqrt(np.asarray(rho, dtype=float) / RHO0))
+    return result(np.asarray(tas, dtype=float) * np.sqrt(np.asarray(rho, dtype=float) / RHO0))
 
 
 def tas_from_eas(eas, rho):
@@ -614,7 +605,7 @@ def tas_from_eas(eas, rho):
     ----------
     .. [1] ICAO Doc 7488/3, 1993.
     """
-    return _out(np.asarray(eas, dtype=float) * np.sqrt(RHO0 / np.asarray(rho, dtype=float)))
+    return result(np.asarray(eas, dtype=float) * np.sqrt(RHO0 / np.asarray(rho, dtype=float)))
 
 
 def dynamic_pressure(mach, p):
@@ -653,7 +644,7 @@ def dynamic_pressure(mach, p):
     .. [1] NACA Report 1135, 1953.
     """
     M = np.asarray(mach, dtype=float)
-    return _out(0.5 * GAMMA * np.asarray(p, dtype=float) * M * M)
+    return result(0.5 * GAMMA * np.asarray(p, dtype=float) * M * M)
 
 
 def crossover_pressure(cas, mach):
@@ -693,7 +684,7 @@ def crossover_pressure(cas, mach):
     """
     ratio = _ratio_from_mach(mach)
     qc = impact_pressure_from_cas(cas)
-    return _out(np.asarray(qc / np.where(ratio > 0.0, ratio, np.nan)))
+    return result(np.asarray(qc / np.where(ratio > 0.0, ratio, np.nan)))
 
 
 def crossover_altitude(cas, mach):
@@ -735,7 +726,7 @@ def crossover_altitude(cas, mach):
     .. [1] NACA Report 1135, 1953.
     .. [2] ICAO Doc 7488/3, 1993.
     """
-    return _out(np.asarray(pressure_altitude(crossover_pressure(cas, mach))))
+    return result(np.asarray(pressure_altitude(crossover_pressure(cas, mach))))
 
 
 def check_calibration(table_ias, table_cas):
@@ -809,7 +800,7 @@ def _interp_inside(x, xp, fp):
     """np.interp, with NaN outside [xp[0], xp[-1]] instead of np.interp's clamping."""
     x = np.asarray(x, dtype=float)
     y = np.interp(x, xp, fp)
-    return _out(np.where((x >= xp[0]) & (x <= xp[-1]), y, np.nan))
+    return result(np.where((x >= xp[0]) & (x <= xp[-1]), y, np.nan))
 
 
 def ias_to_cas(ias, table_ias, table_cas):
@@ -974,6 +965,6 @@ def speed_schedule(cas, mach, p, T):
     tas = tas_from_mach(mach_flown, T)
     eas = eas_from_tas(tas, density(p, T))
     return SpeedSchedule(
-        _out(governing_mach), _out(cas_flown), _out(mach_flown), _out(np.asarray(tas)),
-        _out(np.asarray(eas)),
+        result(governing_mach), result(cas_flown), result(mach_flown), result(np.asarray(tas)),
+        result(np.asarray(eas)),
     )

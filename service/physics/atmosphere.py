@@ -37,6 +37,7 @@ import math
 
 import numpy as np
 
+from .arrays import flat, shaped
 from .constants import (
     EARTH_RADIUS,
     G0,
@@ -192,17 +193,6 @@ def _temperature_log_pressure(H: np.ndarray) -> tuple[np.ndarray, np.ndarray, np
     return T, log_p, k
 
 
-def _as_flat(x) -> tuple[np.ndarray, tuple[int, ...]]:
-    """Float64 1-D view (or copy) of ``x`` and its original shape."""
-    x = np.asarray(x, dtype=np.float64)
-    return x.reshape(-1), x.shape
-
-
-def _shaped(x: np.ndarray, shape: tuple[int, ...]):
-    """Undo :func:`_as_flat`: ``np.float64`` for a scalar shape, else an array of ``shape``."""
-    return x[0] if not shape else x.reshape(shape)
-
-
 # --------------------------------------------------------------------------------------------
 # Altitude conversions
 # --------------------------------------------------------------------------------------------
@@ -330,11 +320,11 @@ def standard_state(H):
     """
     if type(H) is float or type(H) is np.float64:
         return _standard_state_scalar(float(H))
-    H, shape = _as_flat(H)
+    H, shape = flat(H)
     T, log_p, k = _temperature_log_pressure(H)
     p = np.exp(log_p, out=log_p)
     p *= _LUT_PB.take(k)
-    return _shaped(T, shape), _shaped(p, shape)
+    return shaped(T, shape), shaped(p, shape)
 
 
 #: The lookup table as Python tuples (hb, tb, L, pb, K_log, K_lin) for the single-point path.
@@ -637,7 +627,7 @@ def _invert(q, q_bases: np.ndarray, q_lo: float, q_hi: float, m: np.ndarray):
     With y = ln(q / qb): H = Hb + C_EXP expm1(m y) + C_LIN y, one formula for all layers.
     NaN where q is outside [q_lo, q_hi], the model's range.
     """
-    q, shape = _as_flat(q)
+    q, shape = flat(q)
     inside = (q >= q_lo) & (q <= q_hi)
     q = np.clip(q, q_lo, q_hi)  # keeps log() quiet for q <= 0; those points become NaN
     i = np.searchsorted(-q_bases, -q, side="right") - 1
@@ -652,7 +642,7 @@ def _invert(q, q_bases: np.ndarray, q_lo: float, q_hi: float, m: np.ndarray):
     H += _HB.take(i)
     np.clip(H, H_MIN, H_MAX, out=H)
     H[~inside] = np.nan
-    return _shaped(H, shape)
+    return shaped(H, shape)
 
 
 #: Standard pressure at H_MAX, the lowest pressure the model covers [Pa].
@@ -883,7 +873,7 @@ def pressure_level_height(H, dT, p=None, datum=None):
     if p is None:
         _, log_p, k = _temperature_log_pressure(H.reshape(-1))
         log_p += _LUT_LN_PB_P0.take(k)  # now ln(p / P0)
-        log_p = _shaped(log_p, H.shape)
+        log_p = shaped(log_p, H.shape)
     else:
         log_p = np.log(np.divide(p, P0))
     integral = np.divide(log_p, -_G0_R)

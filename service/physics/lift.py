@@ -35,6 +35,7 @@ import math
 import numpy as np
 
 from .airspeed import dynamic_pressure, mach_from_cas
+from .arrays import result
 from .atmosphere import density, standard_pressure, standard_state
 from .constants import G0, GAMMA, H_MAX, H_MIN, LAYER_BASES, LAYER_LAPSE_RATES, R_AIR, RHO0
 
@@ -64,12 +65,6 @@ _ALTITUDE_TOLERANCE = 1e-6
 _BISECTION_STEPS = math.ceil(math.log2((H_MAX - H_MIN) / _ALTITUDE_TOLERANCE))
 
 
-def _result(x):
-    """Return a NumPy scalar for 0-d input, the array otherwise."""
-    x = np.asarray(x, dtype=float)
-    return x[()] if x.ndim == 0 else x
-
-
 def _altitude_where_decreasing(func, target, *params):
     """Pressure altitude ``H`` in [H_MIN, H_MAX] with ``func(H, *params) == target``.
 
@@ -90,7 +85,7 @@ def _altitude_where_decreasing(func, target, *params):
             below_root = func(mid, *params) > target
             lo = np.where(below_root, mid, lo)
             hi = np.where(below_root, hi, mid)
-    return _result(np.where(bracketed, 0.5 * (lo + hi), np.nan).reshape(shape))
+    return result(np.where(bracketed, 0.5 * (lo + hi), np.nan).reshape(shape))
 
 
 # --- Load factor and bank angle ----------------------------------------------------
@@ -129,7 +124,7 @@ def load_factor_from_bank(phi):
     inside = (phi >= 0.0) & (phi < 0.5 * np.pi)
     with np.errstate(invalid="ignore", divide="ignore"):
         n = np.where(inside, 1.0 / np.cos(phi), np.nan)
-    return _result(n)
+    return result(n)
 
 
 def bank_from_load_factor(n):
@@ -164,7 +159,7 @@ def bank_from_load_factor(n):
     n = np.asarray(n, dtype=float)
     with np.errstate(invalid="ignore", divide="ignore"):
         phi = np.where(n >= 1.0, np.arccos(1.0 / n), np.nan)
-    return _result(phi)
+    return result(phi)
 
 
 # --- Algebraic solves of n W = q S CL ------------------------------------------------
@@ -209,7 +204,7 @@ def lift_coefficient(weight, load_factor, q, wing_area):
         * np.asarray(weight, dtype=float)
         / (np.asarray(q, dtype=float) * np.asarray(wing_area, dtype=float))
     )
-    return _result(cl)
+    return result(cl)
 
 
 def required_dynamic_pressure(weight, load_factor, wing_area, cl):
@@ -251,7 +246,7 @@ def required_dynamic_pressure(weight, load_factor, wing_area, cl):
         * np.asarray(weight, dtype=float)
         / (np.asarray(wing_area, dtype=float) * np.asarray(cl, dtype=float))
     )
-    return _result(q)
+    return result(q)
 
 
 def weight_supported(q, wing_area, cl, load_factor):
@@ -294,7 +289,7 @@ def weight_supported(q, wing_area, cl, load_factor):
         * np.asarray(cl, dtype=float)
         / np.asarray(load_factor, dtype=float)
     )
-    return _result(weight)
+    return result(weight)
 
 
 def wing_area_required(weight, load_factor, q, cl):
@@ -336,7 +331,7 @@ def wing_area_required(weight, load_factor, q, cl):
         * np.asarray(weight, dtype=float)
         / (np.asarray(q, dtype=float) * np.asarray(cl, dtype=float))
     )
-    return _result(area)
+    return result(area)
 
 
 def load_factor_supported(q, wing_area, cl, weight):
@@ -380,7 +375,7 @@ def load_factor_supported(q, wing_area, cl, weight):
         * np.asarray(cl, dtype=float)
         / np.asarray(weight, dtype=float)
     )
-    return _result(n)
+    return result(n)
 
 
 # --- Dynamic pressure and equivalent airspeed ---------------------------------------
@@ -418,7 +413,7 @@ def eas_from_dynamic_pressure(q):
     q = np.asarray(q, dtype=float)
     with np.errstate(invalid="ignore"):
         eas = np.where(q >= 0.0, np.sqrt(2.0 * q / RHO0), np.nan)
-    return _result(eas)
+    return result(eas)
 
 
 def dynamic_pressure_from_eas(eas):
@@ -451,7 +446,7 @@ def dynamic_pressure_from_eas(eas):
     2. ICAO Doc 7488/3 (rho_0 = 1.225 kg/m^3).
     """
     eas = np.asarray(eas, dtype=float)
-    return _result(0.5 * RHO0 * eas**2)
+    return result(0.5 * RHO0 * eas**2)
 
 
 # --- Altitude solves ------------------------------------------------------------------
@@ -492,7 +487,7 @@ def pressure_for_mach(q, mach):
     """
     q = np.asarray(q, dtype=float)
     mach = np.asarray(mach, dtype=float)
-    return _result(q / (0.5 * GAMMA * mach**2))
+    return result(q / (0.5 * GAMMA * mach**2))
 
 
 def density_for_tas(q, tas):
@@ -528,7 +523,7 @@ def density_for_tas(q, tas):
     """
     q = np.asarray(q, dtype=float)
     tas = np.asarray(tas, dtype=float)
-    return _result(2.0 * q / tas**2)
+    return result(2.0 * q / tas**2)
 
 
 def pressure_for_density(rho, T):
@@ -565,7 +560,7 @@ def pressure_for_density(rho, T):
     """
     rho = np.asarray(rho, dtype=float)
     T = np.asarray(T, dtype=float)
-    return _result(rho * R_AIR * T)
+    return result(rho * R_AIR * T)
 
 
 def pressure_altitude_for_density(rho, isa_deviation):
@@ -751,7 +746,7 @@ def stall_eas(weight, wing_area, cl_max, load_factor=1.0):
     n_w = np.asarray(load_factor, dtype=float) * np.asarray(weight, dtype=float)
     area_cl = np.asarray(wing_area, dtype=float) * np.asarray(cl_max, dtype=float)
     with np.errstate(invalid="ignore"):
-        return _result(np.sqrt(2.0 * n_w / (RHO0 * area_cl)))
+        return result(np.sqrt(2.0 * n_w / (RHO0 * area_cl)))
 
 
 def scale_stall_eas(ref_eas, weight, ref_weight, load_factor=1.0):
@@ -791,7 +786,7 @@ def scale_stall_eas(ref_eas, weight, ref_weight, load_factor=1.0):
     """
     ratio = np.asarray(weight, dtype=float) / np.asarray(ref_weight, dtype=float) * np.asarray(load_factor, dtype=float)
     with np.errstate(invalid="ignore"):
-        return _result(np.asarray(ref_eas, dtype=float) * np.sqrt(ratio))
+        return result(np.asarray(ref_eas, dtype=float) * np.sqrt(ratio))
 
 
 def stall_load_factor(eas, stall_eas_1g):
@@ -826,7 +821,7 @@ def stall_load_factor(eas, stall_eas_1g):
     1. Anderson, *Introduction to Flight*, the V-n diagram.
     """
     ratio = np.asarray(eas, dtype=float) / np.asarray(stall_eas_1g, dtype=float)
-    return _result(ratio**2)
+    return result(ratio**2)
 
 
 def cl_fraction(speed_factor):
@@ -859,4 +854,4 @@ def cl_fraction(speed_factor):
     1. Anderson, *Introduction to Flight*, the lift equation.
     """
     k = np.asarray(speed_factor, dtype=float)
-    return _result(1.0 / k**2)
+    return result(1.0 / k**2)

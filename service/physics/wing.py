@@ -33,16 +33,12 @@ from __future__ import annotations
 
 import numpy as np
 
+from .arrays import result
+
 __all__ = ["angle_from_cl", "cl_from_angle", "kappa_from_section_slope", "lift_slope"]
 
 #: Thin-airfoil section lift-curve slope, 2 pi per radian [1/rad].
 _THIN_AIRFOIL_SLOPE = 2.0 * np.pi
-
-
-def _result(x):
-    """Return a NumPy scalar for 0-d input, the array otherwise."""
-    x = np.asarray(x, dtype=float)
-    return x[()] if x.ndim == 0 else x
 
 
 def lift_slope(aspect_ratio, sweep_half_chord, mach, kappa=1.0):
@@ -116,7 +112,7 @@ def lift_slope(aspect_ratio, sweep_half_chord, mach, kappa=1.0):
         beta_sq = 1.0 - M**2
         root = np.sqrt(4.0 + (A / kappa) ** 2 * (beta_sq + np.tan(sweep) ** 2))
         cl_alpha = 2.0 * np.pi * A / (2.0 + root)
-    return _result(np.where(valid, cl_alpha, np.nan))
+    return result(np.where(valid, cl_alpha, np.nan))
 
 
 def kappa_from_section_slope(a0):
@@ -149,7 +145,7 @@ def kappa_from_section_slope(a0):
     ----------
     1. DATCOM section 4.1.3.2.
     """
-    return _result(np.asarray(a0, dtype=float) / _THIN_AIRFOIL_SLOPE)
+    return result(np.asarray(a0, dtype=float) / _THIN_AIRFOIL_SLOPE)
 
 
 def cl_from_angle(alpha, lift_slope, zero_lift_angle=0.0):
@@ -187,7 +183,7 @@ def cl_from_angle(alpha, lift_slope, zero_lift_angle=0.0):
     """
     alpha = np.asarray(alpha, dtype=float)
     alpha0 = np.asarray(zero_lift_angle, dtype=float)
-    return _result(np.asarray(lift_slope, dtype=float) * (alpha - alpha0))
+    return result(np.asarray(lift_slope, dtype=float) * (alpha - alpha0))
 
 
 def angle_from_cl(cl, lift_slope, zero_lift_angle=0.0):
@@ -226,4 +222,4 @@ def angle_from_cl(cl, lift_slope, zero_lift_angle=0.0):
     """
     cl = np.asarray(cl, dtype=float)
     alpha0 = np.asarray(zero_lift_angle, dtype=float)
-    return _result(alpha0 + cl / np.asarray(lift_slope, dtype=float))
+    return result(alpha0 + cl / np.asarray(lift_slope, dtype=float))

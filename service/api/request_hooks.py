@@ -24,7 +24,6 @@ single process) each app has its own registry.
 
 from __future__ import annotations
 
-import datetime
 import hashlib
 import hmac
 import logging
@@ -33,7 +32,6 @@ import re
 import sys
 from time import perf_counter
 
-import orjson
 from flask import Flask, Response, current_app, g, has_request_context, request
 from flask_cors import CORS
 from prometheus_client import (
@@ -47,6 +45,7 @@ from prometheus_client import (
 from prometheus_client import multiprocess as prometheus_multiprocess
 
 from service.api.problems import Problem
+from service.logs import JsonFormatter
 
 REQUEST_ID_HEADER = "X-Request-ID"
 MAX_REQUEST_ID_LENGTH = 64
@@ -215,12 +214,23 @@ class Metrics:
             computed.inc(points)
 
     def exposition(self) -> bytes:
-        """The metrics in the Prometheus text format."""
-        if self.multiprocess:
+        """The metrics in the Prometheus text format.
+
+        Multiprocess: every file of the directory, read afresh. The master folds a dead worker's
+        files into an archive (service.server.archive_dead_worker); a file that goes between the
+        directory listing and its reading is read again from a new listing.
+        """
+        if not self.multiprocess:
+            return generate_latest(self.registry)
+        for attempt in range(3):
             registry = CollectorRegistry()
             prometheus_multiprocess.MultiProcessCollector(registry)
-            return generate_latest(registry)
-        return generate_latest(self.registry)
+            try:
+                return generate_latest(registry)
+            except FileNotFoundError:
+                if attempt == 2:
+                    raise
+        raise AssertionError("not reached")
 
 
 def metrics_view():
@@ -231,26 +241,13 @@ def metrics_view():
 
 # --- logs ----------------------------------------------------------------------------------
 
-class JsonFormatter(logging.Formatter):
-    """A record as one JSON object: time, level, logger, pid, then the access fields or the message."""
+class RequestIdFilter(logging.Filter):
+    """Adds the request id to every record logged while a request is handled (service.logs.JsonFormatter shows it)."""
 
-    def format(self, record: logging.LogRecord) -> str:
-        entry = {
-            "time": datetime.datetime.fromtimestamp(record.created, datetime.UTC).isoformat(timespec="milliseconds"),
-            "level": record.levelname.lower(),
-            "logger": record.name,
-            "pid": record.process,
-        }
-        fields = getattr(record, "fields", None)
-        if fields is not None:
-            entry.update(fields)
-        else:
-            entry["message"] = record.getMessage()
-            if has_request_context():
-                entry["request_id"] = g.get("request_id")
-        if record.exc_info:
-            entry["exception"] = self.formatException(record.exc_info)
-        return orjson.dumps(entry).decode()
+    def filter(self, record: logging.LogRecord) -> bool:
+        if getattr(record, "fields", None) is None and has_request_context():
+            record.request_id = g.get("request_id")
+        return True
 
 
 class _CurrentStream(logging.StreamHandler):
@@ -281,6 +278,7 @@ def configure_logging(level: str) -> None:
         handler = _CurrentStream(stream)
         handler._qbar = True
         handler.setFormatter(JsonFormatter())
+        handler.addFilter(RequestIdFilter())
         logger.addHandler(handler)
         logger.propagate = propagate
     logging.getLogger("qbar").setLevel(level)
@@ -361,3 +359,11 @@ def init_app(app: Flask) -> None:
         CORS(app, origins=list(origins), allow_headers=list(CORS_ALLOW_HEADERS),
              expose_headers=list(CORS_EXPOSE_HEADERS), methods=["GET", "HEAD", "POST", "OPTIONS"],
              max_age=CORS_MAX_AGE, supports_credentials=False, vary_header=True)
+
+        @app.after_request
+        def _vary_on_origin(response: Response) -> Response:
+            # With CORS on, every answer depends on the request's Origin (the CORS headers come only
+            # for an allowed one), so a cache must key on it. flask-cors says so only when more than
+            # one origin is configured.
+            response.vary.add("Origin")
+            return response
