@@ -9,8 +9,7 @@ from flask import Flask
 from flask_compress import Compress
 
 from service import config as settings
-from service.api import airspeed, atmosphere, docs, lift, ops
-from service.api import service as service_api
+from service.api import about, airspeed, atmosphere, docs, lift, request_hooks
 from service.api.base import Api
 from service.version import __version__
 
@@ -35,7 +34,7 @@ length 1); `grid: true` takes their outer product. Every error is an RFC 9457 pr
 """
 
 #: Blueprints in the order of the spec's tags.
-BLUEPRINTS = (atmosphere.blp, airspeed.blp, lift.blp, service_api.blp)
+BLUEPRINTS = (atmosphere.blp, airspeed.blp, lift.blp, about.blp)
 
 
 def create_app(config: dict | None = None) -> Flask:
@@ -59,7 +58,7 @@ def create_app(config: dict | None = None) -> Flask:
             "servers": [{"url": "/", "description": "This service"}],
         },
     )
-    ops.init_app(app)  # request ids, API keys, metrics, access log, headers, CORS; before Api and Compress
+    request_hooks.init_app(app)  # request ids, API keys, metrics, access log, headers, CORS; before Api and Compress
     app.json.sort_keys = False
     app.config.setdefault("COMPRESS_MIMETYPES", ["application/json", "text/csv", "application/problem+json"])
     app.config.setdefault("COMPRESS_ALGORITHM", ["gzip"])

@@ -15,7 +15,7 @@ from prometheus_client.parser import text_string_to_metric_families
 
 from service import config as settings
 from service import create_app
-from service.api import ops
+from service.api import request_hooks
 from service.cli import spec_text
 from tests.helpers import assert_problem, post
 
@@ -256,7 +256,7 @@ def test_without_keys_compute_endpoints_are_open(client):
     ("/metrics", False), ("/openapi.json", False), ("/docs", False), ("/problems/<slug>", False),
 ])
 def test_which_rules_need_a_key(rule, protected):
-    assert ops.is_protected(rule) is protected
+    assert request_hooks.is_protected(rule) is protected
 
 
 def test_spec_declares_the_schemes_and_marks_exactly_the_open_operations():
@@ -272,7 +272,7 @@ def test_spec_declares_the_schemes_and_marks_exactly_the_open_operations():
                 continue
             rule = path.replace("{", "<").replace("}", ">")
             declared_open = operation.get("security") == []
-            assert declared_open is not ops.is_protected(rule), (path, method)
+            assert declared_open is not request_hooks.is_protected(rule), (path, method)
 
 
 # --- CORS ------------------------------------------------------------------------------------
@@ -355,7 +355,7 @@ def test_metrics_count_requests_latency_and_points():
     assert found[("qbar_http_requests_total", (("endpoint", "/v1/atmosphere"), ("method", "POST"),
                                                ("status", "422")))] == 1
     # the raw path is not a label: every unmatched path shares one series
-    assert found[("qbar_http_requests_total", (("endpoint", ops.UNMATCHED), ("method", "GET"),
+    assert found[("qbar_http_requests_total", (("endpoint", request_hooks.UNMATCHED), ("method", "GET"),
                                                ("status", "404")))] == 1
     assert found[("qbar_http_requests_total", (("endpoint", "/v1/health"), ("method", "GET"),
                                                ("status", "200")))] == 1

@@ -10,10 +10,12 @@ from __future__ import annotations
 import marshmallow as ma
 import numpy as np
 
-from service.api.fields import Quantity, any_true, quantity_schema
+from service.api.fields import Quantity, quantity_schema
 from service.api.inputs import Inputs
 from service.api.lazy import lazy
+from service.api.masks import any_true, first_indices
 from service.api.problems import invalid
+from service.api.rules import Given, Never, NotTogether, Rule, Unit
 from service.physics import atmosphere as atm
 from service.physics.constants import H_MAX, H_MIN, P0, RHO0, T0
 from service.units import from_si
@@ -31,7 +33,7 @@ QNH_MIN_HPA, QNH_MAX_HPA = 800.0, 1100.0
 GEOMETRIC_MIN, GEOMETRIC_MAX = float(atm.geometric_altitude(H_MIN)), float(atm.geometric_altitude(H_MAX))
 
 KIND_FIELD, QNH_FIELD = "altitude_kind", "qnh"
-_GEOMETRIC = {"required": [KIND_FIELD], "properties": {KIND_FIELD: {"const": "geometric"}}}
+_GEOMETRIC = Given(KIND_FIELD, value={KIND_FIELD: "geometric"})
 
 
 class Altitude(Quantity):
@@ -60,30 +62,42 @@ class Altitude(Quantity):
         return self.bounds[unit]
 
     def openapi(self) -> dict:
-        """Within the model's range; with altitude_kind, the wider of the two (spec_rules narrows it)."""
+        """Within the model's range; with altitude_kind, the wider of the two (rules_for narrows it)."""
         bounds = self.bounds
         if self._beside(KIND_FIELD):
             bounds = {unit: (min(lo, self.geometric_bounds[unit][0]), max(hi, self.geometric_bounds[unit][1]))
                       for unit, (lo, hi) in self.bounds.items()}
         return quantity_schema(self, bounds) | {"x-default-unit": self.default_unit}
 
-    def spec_rules(self, name: str) -> list[dict]:
-        """What the request schema says about this altitude beside altitude_kind and qnh (see base.Converter)."""
-        rules = super().spec_rules(name)
-        flight_level = {"type": "object", "required": ["unit"], "properties": {"unit": {"const": "FL"}}}
-        if self._beside(KIND_FIELD):
-            rules.append({  # the range of the kind of altitude given
-                "if": _GEOMETRIC,
-                "then": {"properties": {name: quantity_schema(self, self.geometric_bounds)}},
-                "else": {"properties": {name: quantity_schema(self, self.bounds)}},
-            })
-            rules.append({"not": {"required": [name, KIND_FIELD], "properties": {
-                name: flight_level, KIND_FIELD: {"const": "geometric"}}}})  # FL is a pressure altitude
-        if self._beside(QNH_FIELD):
-            rules.append({"not": {"required": [name, QNH_FIELD], "properties": {name: flight_level}}})
-            if self._beside(KIND_FIELD):
-                rules.append({"not": {"allOf": [_GEOMETRIC, {"required": [QNH_FIELD]}]}})
-        return rules
+    def rules_for(self, name: str) -> list[Rule]:
+        """The rules of this altitude beside altitude_kind and qnh (those not in the schema do not apply)."""
+        fl = Unit("FL")
+        return [
+            _KindRange(self, name),
+            Never(Given(name, KIND_FIELD, value={name: fl, KIND_FIELD: "geometric"}), KIND_FIELD,
+                  "A flight level is a pressure altitude, never a geometric height."),
+            Never(Given(name, QNH_FIELD, value={name: fl}), QNH_FIELD,
+                  "A flight level is a pressure altitude: it takes no QNH. Give the altitude in ft or m."),
+            Never(Given(all_of=(_GEOMETRIC, Given(QNH_FIELD))), QNH_FIELD,
+                  "QNH corrects an indicated altitude; it does not apply to a geometric height."),
+        ]
+
+
+class _KindRange(Rule):
+    """The altitude's range is that of its kind (published here; the field checks it, Altitude.bounds_in,
+    since the range depends on the raw altitude_kind, which no later check needs)."""
+
+    def __init__(self, field: Altitude, name: str):
+        self.field, self.names = field, (name, KIND_FIELD)
+
+    def spec(self):
+        name = self.names[0]
+        return {"if": _GEOMETRIC.schema(),
+                "then": {"properties": {name: quantity_schema(self.field, self.field.geometric_bounds)}},
+                "else": {"properties": {name: quantity_schema(self.field, self.field.bounds)}}}
+
+    def check(self, data):
+        return {}
 
 
 def altitude_field(description: str, required: bool = True, example=None) -> Altitude:
@@ -99,8 +113,8 @@ def isa_deviation_field() -> Quantity:
 
 
 def temperature_field() -> Quantity:
-    return Quantity("temperature", minimum=TEMPERATURE_MIN_C, maximum=TEMPERATURE_MAX_C, excludes=("isa_deviation",),
-                    metadata={
+    return Quantity("temperature", minimum=TEMPERATURE_MIN_C, maximum=TEMPERATURE_MAX_C, rules=(NotTogether(
+        "temperature", "isa_deviation", message="Give either isa_deviation or temperature, not both."),), metadata={
         "description": "Outside (static) air temperature at the point [degC]. Not with `isa_deviation`.",
         "example": 32})
 
@@ -202,35 +216,16 @@ def check_altitude_range(H, field: str, what: str = "pressure altitude") -> None
     if any_true(bad):
         message = (f"The {what} must lie within the model's range, {_show_ft(H_MIN)} to {_show_ft(H_MAX)} "
                    "(geopotential).")
-        raise invalid(_pointed(field, bad, message))
+        if np.size(bad) > 1:
+            message += f" Offending indices: {first_indices(bad)}."
+        raise invalid({f"/{field}": message})
 
 
-def _pointed(field: str, bad, message: str) -> list[dict]:
-    bad = np.asarray(bad)
-    if bad.ndim == 0 or bad.size == 1:
-        return [{"pointer": f"/{field}", "message": message}]
-    return [{"pointer": f"/{field}", "message": f"{message} Offending indices: "
-                                                 f"{[int(i) for i in np.flatnonzero(bad)[:10]]}."}]
-
-
-def pressure_altitude(inputs: Inputs, field: str = "altitude", *, allow_kind: bool = True,
-                      allow_qnh: bool = True):
+def pressure_altitude(inputs: Inputs, field: str = "altitude"):
     """The pressure altitude [m] from ``field``, ``altitude_kind`` and ``qnh``, range-checked."""
-    value = inputs.get(field)
-    H = value.si
-    kind = inputs.get("altitude_kind", "pressure") if allow_kind else "pressure"
-    qnh = inputs.get("qnh") if allow_qnh else None
-    if value.unit == "FL":
-        errors = {}
-        if qnh is not None:
-            errors["qnh"] = "A flight level is a pressure altitude: it takes no QNH. Give the altitude in ft or m."
-        if kind == "geometric":
-            errors["altitude_kind"] = "A flight level is a pressure altitude, never a geometric height."
-        if errors:
-            raise invalid(errors)
-    if kind == "geometric":
-        if qnh is not None:
-            raise invalid({"qnh": "QNH corrects an indicated altitude; it does not apply to a geometric height."})
+    H = inputs.si(field)
+    qnh = inputs.get(QNH_FIELD)
+    if inputs.get(KIND_FIELD) == "geometric":
         H = atm.geopotential_altitude(H)
     elif qnh is not None:
         H = H + atm.qnh_offset(qnh.si)
@@ -241,12 +236,13 @@ def pressure_altitude(inputs: Inputs, field: str = "altitude", *, allow_kind: bo
     return np.minimum(np.maximum(H, H_MIN), H_MAX)  # ufuncs: np.clip's wrapper costs more for one point
 
 
-def air(inputs: Inputs, field: str = "altitude", **kwargs) -> Air:
+def air(inputs: Inputs, field: str = "altitude") -> Air:
     """The Air at each point of the request (ISA deviation or temperature, default standard day)."""
-    given = inputs.given("isa_deviation", "temperature")
-    if len(given) == 2:
-        raise invalid({name: "Give either isa_deviation or temperature, not both." for name in given})
-    H = pressure_altitude(inputs, field, **kwargs)
+    return air_at(inputs, pressure_altitude(inputs, field))
+
+
+def air_at(inputs: Inputs, H) -> Air:
+    """The Air at pressure altitudes ``H`` with the request's ISA deviation or temperature."""
     if "temperature" in inputs:
         return Air(H, T=inputs.si("temperature"))
     return Air(H, dT=inputs.si("isa_deviation"))

@@ -8,18 +8,21 @@ import numpy as np
 from service import units
 from service.api import air, examples
 from service.api.base import COMPUTE_PROBLEMS, Blueprint
-from service.api.inputs import (
-    ComputeSchema,
-    exactly_one,
-    first_indices,
-    needs,
-    no_solution,
-    output_needs,
-    outputs_field,
+from service.api.inputs import ComputeSchema, outputs_field
+from service.api.masks import any_true, first_indices
+from service.api.outputs import Leaf, Result, no_solution, unit_for
+from service.api.rules import Given, OutputNeeds
+from service.api.schemas import LabelOut, quantity_out, response_schema
+from service.api.speeds import (
+    IAS_NEEDS_CALIBRATION,
+    KINDS,
+    Speeds,
+    calibration_field,
+    given_speed,
+    mach_field,
+    one_speed,
+    speed_field,
 )
-from service.api.outputs import Leaf, Result, unit_for
-from service.api.schemas import LabelOut, quantity_out, ratio_out, response_schema
-from service.api.speeds import KINDS, Speeds, calibration_field, given_speed, mach_field, speed_field
 from service.physics import airspeed as spd
 from service.physics import atmosphere as atm
 from service.physics.constants import FT, H_MAX, H_MIN, P0
@@ -66,8 +69,10 @@ _ONE_OF = "Give exactly one of `ias`, `cas`, `eas`, `tas`, `mach`."
 
 
 class AirspeedRequest(ComputeSchema):
-    OUTPUTS = tuple(OUTPUTS)
-    SPEC_RULES = (exactly_one(*KINDS), needs("ias", "calibration"), output_needs("ias", {"required": ["calibration"]}))
+    OUTPUTS = OUTPUTS
+    RULES = (one_speed(f"Give one speed: {', '.join(KINDS)}."), IAS_NEEDS_CALIBRATION,
+             OutputNeeds("ias", Given("calibration"),
+                         "The output ias needs `calibration` (the airspeed system's IAS -> CAS table)."))
 
     ias = speed_field("ias", _ONE_OF + " Arrays allowed.")
     cas = speed_field("cas", _ONE_OF + " Arrays allowed.")
@@ -78,25 +83,14 @@ class AirspeedRequest(ComputeSchema):
     isa_deviation = air.isa_deviation_field()
     temperature = air.temperature_field()
     calibration = calibration_field()
-    outputs = outputs_field(tuple(OUTPUTS))
-
-    @ma.validates_schema
-    def _ias_needs_calibration(self, data, **kwargs):
-        wanted = data.get("outputs") or ()
-        if "ias" in wanted and "calibration" not in data:
-            index = list(wanted).index("ias")
-            raise ma.ValidationError({"outputs": {index: [
-                "The output ias needs `calibration` (the airspeed system's IAS -> CAS table)."]}})
+    outputs = outputs_field(OUTPUTS)
 
 
 AirspeedAtmosphere = type("AirspeedAtmosphere", (ma.Schema,), {
     name: quantity_out(desc) for name, (_, desc, _) in ATMOSPHERE.items()})
 
-AirspeedResponse = response_schema("AirspeedResponse", {
-    **{name: (quantity_out(desc) if dim else ratio_out(desc))
-       for name, (dim, desc) in OUTPUTS.items() if name != "atmosphere"},
-    "atmosphere": ma.fields.Nested(AirspeedAtmosphere, metadata={"description": OUTPUTS["atmosphere"][1]}),
-}, inputs=AirspeedRequest)
+AirspeedResponse = response_schema("AirspeedResponse", OUTPUTS, AirspeedRequest, fields={
+    "atmosphere": ma.fields.Nested(AirspeedAtmosphere, metadata={"description": OUTPUTS["atmosphere"][1]})})
 
 
 
@@ -115,19 +109,19 @@ def airspeed(inputs):
     """
     kind = given_speed(inputs)
     result = Result(inputs)
-    speeds = Speeds(air.air(inputs, allow_kind=False, allow_qnh=False), kind, inputs.si(kind),
+    speeds = Speeds(air.air(inputs), kind, inputs.si(kind),
                     inputs.get("calibration"))
     for name in inputs.outputs:
         if name in PRIMARY:
-            result.add(name, speeds.require(name), OUTPUTS[name][0])
+            result.add(name, speeds.require(name))
         elif name == "atmosphere":
             result.add_tree(name, {key: Leaf(getattr(speeds.air, attr), dim)
                                    for key, (dim, _, attr) in ATMOSPHERE.items()})
         elif name == "ias":
             if speeds.calibration is not None:
-                result.add(name, result.null_where(name, speeds.ias, _outside_table(inputs)), "speed")
+                result.add(name, result.null_where(name, speeds.ias, _outside_table(inputs)))
         else:
-            result.add(name, getattr(speeds, _SOURCE[name]), OUTPUTS[name][0])
+            result.add(name, getattr(speeds, _SOURCE[name]))
     return result.response()
 
 
@@ -154,17 +148,16 @@ CROSSOVER_OUTPUTS = {
 
 
 class CrossoverRequest(ComputeSchema):
-    OUTPUTS = tuple(CROSSOVER_OUTPUTS)
+    OUTPUTS = CROSSOVER_OUTPUTS
 
     cas = speed_field("cas", "The CAS of the pair. Arrays allowed.")
     cas.required = True  # the shared field factories make optional fields
     mach = mach_field("The Mach number of the pair.")
     mach.required = True
-    outputs = outputs_field(tuple(CROSSOVER_OUTPUTS))
+    outputs = outputs_field(CROSSOVER_OUTPUTS)
 
 
-CrossoverResponse = response_schema("CrossoverResponse", {
-    name: quantity_out(desc) for name, (_, desc) in CROSSOVER_OUTPUTS.items()}, inputs=CrossoverRequest)
+CrossoverResponse = response_schema("CrossoverResponse", CROSSOVER_OUTPUTS, CrossoverRequest)
 
 
 _RANGE = (f"the model's range of pressure altitudes, {H_MIN:.0f} m ({H_MIN / FT:.0f} ft) to {H_MAX:.0f} m "
@@ -177,7 +170,7 @@ def _beyond_model(cas, mach, missing, indices: bool = True) -> str:
     parts = []
     for mask, where, lower in ((missing & below, "below it", "the Mach number"),
                                (missing & ~below, "above it", "the CAS")):
-        if np.any(mask):
+        if any_true(mask):
             at = f" at points {first_indices(mask)}" if indices and np.ndim(mask) else ""
             parts.append(f"{where}{at}, so {lower} is the lower speed at every altitude")
     return f"outside {_RANGE}: " + "; ".join(parts)
@@ -200,13 +193,13 @@ def crossover(inputs):
     p = spd.crossover_pressure(cas, mach)
     H = atm.pressure_altitude(p)  # what spd.crossover_altitude does, keeping p for the answer
     missing = np.isnan(H)
-    if np.any(missing):
+    if any_true(missing):
         raise no_solution("crossover_altitude", missing, "the CAS and the Mach number given are the same speed "
                                                          f"only {_beyond_model(cas, mach, missing)}.")
     if inputs.wants("crossover_altitude"):
-        result.add("crossover_altitude", H, "altitude")
+        result.add("crossover_altitude", H)
     if inputs.wants("pressure"):
-        result.add("pressure", p, "pressure")
+        result.add("pressure", p)
     return result.response()
 
 
@@ -228,7 +221,7 @@ _SCHEDULE_SPEEDS = ("governing", "cas", "mach", "tas", "eas")
 
 
 class ScheduleRequest(ComputeSchema):
-    OUTPUTS = tuple(SCHEDULE_OUTPUTS)
+    OUTPUTS = SCHEDULE_OUTPUTS
 
     cas = speed_field("cas", "The schedule's CAS, flown below the crossover altitude. Arrays allowed.")
     cas.required = True
@@ -237,13 +230,11 @@ class ScheduleRequest(ComputeSchema):
     altitude = air.altitude_field(_ALTITUDE)
     isa_deviation = air.isa_deviation_field()
     temperature = air.temperature_field()
-    outputs = outputs_field(tuple(SCHEDULE_OUTPUTS))
+    outputs = outputs_field(SCHEDULE_OUTPUTS)
 
 
-ScheduleResponse = response_schema("ScheduleResponse", {
-    name: (LabelOut(["cas", "mach"], metadata={"description": desc}) if name == "governing"
-           else quantity_out(desc) if dim else ratio_out(desc))
-    for name, (dim, desc) in SCHEDULE_OUTPUTS.items()}, inputs=ScheduleRequest)
+ScheduleResponse = response_schema("ScheduleResponse", SCHEDULE_OUTPUTS, ScheduleRequest, fields={
+    "governing": LabelOut(["cas", "mach"], metadata={"description": SCHEDULE_OUTPUTS["governing"][1]})})
 
 
 @blp.route("/airspeed/schedule", methods=["POST"])
@@ -258,24 +249,24 @@ def schedule(inputs):
     altitude. The example is the NR-200's 290 kt / M0.76 climb on an ISA+10 day.
     """
     result = Result(inputs)
-    state = air.air(inputs, allow_kind=False, allow_qnh=False)
+    state = air.air(inputs)
     cas, mach = inputs.si("cas"), inputs.si("mach")
     if any(map(inputs.wants, _SCHEDULE_SPEEDS)):
         flown = spd.speed_schedule(cas, mach, state.p, state.T)
         missing = np.isnan(flown.mach)
-        if np.any(missing):
+        if any_true(missing):
             raise no_solution("mach", missing, "the CAS given has no Mach number here (beyond the range of the "
                                                "airspeed relations).")
         for name in _SCHEDULE_SPEEDS:
             if inputs.wants(name):
                 values = np.where(flown.governing_mach, "mach", "cas") if name == "governing" else getattr(flown, name)
-                result.add(name, values, SCHEDULE_OUTPUTS[name][0])
+                result.add(name, values)
     if inputs.wants("crossover_altitude"):
         H = spd.crossover_altitude(cas, mach)
         missing = np.isnan(H)
-        if np.any(missing):
+        if any_true(missing):
             where = _beyond_model(cas, mach, missing, indices=False)
             H = result.null_where("crossover_altitude", H, f"The CAS and the Mach number given cross only {where}. "
                                                            "The schedule holds that lower speed throughout.")
-        result.add("crossover_altitude", H, "altitude")
+        result.add("crossover_altitude", H)
     return result.response()

@@ -6,7 +6,7 @@ from service.api import air, examples
 from service.api.base import COMPUTE_PROBLEMS, Blueprint
 from service.api.inputs import ComputeSchema, outputs_field
 from service.api.outputs import Result
-from service.api.schemas import quantity_out, ratio_out, response_schema
+from service.api.schemas import response_schema
 
 blp = Blueprint("atmosphere", __name__, url_prefix="/v1", description=(
     "The ICAO Standard Atmosphere (Doc 7488/3, ISO 2533:1975; agreeing with the U.S. Standard Atmosphere 1976), "
@@ -42,7 +42,7 @@ _SOURCE = {
 
 
 class AtmosphereRequest(ComputeSchema):
-    OUTPUTS = tuple(OUTPUTS)
+    OUTPUTS = OUTPUTS
 
     altitude = air.altitude_field(
         "Altitude [ft]: a pressure altitude (FL allowed), or the indicated altitude with `qnh`, or a geometric "
@@ -51,12 +51,10 @@ class AtmosphereRequest(ComputeSchema):
     temperature = air.temperature_field()
     qnh = air.qnh_field()
     altitude_kind = air.altitude_kind_field()
-    outputs = outputs_field(tuple(OUTPUTS))
+    outputs = outputs_field(OUTPUTS)
 
 
-AtmosphereResponse = response_schema("AtmosphereResponse", {
-    name: (quantity_out(desc) if dim else ratio_out(desc)) for name, (dim, desc) in OUTPUTS.items()
-}, inputs=AtmosphereRequest)
+AtmosphereResponse = response_schema("AtmosphereResponse", OUTPUTS, inputs=AtmosphereRequest)
 
 
 @blp.route("/atmosphere", methods=["POST"])
@@ -76,5 +74,5 @@ def atmosphere(inputs):
         values = getattr(state, _SOURCE[name])
         if name == "density_altitude":
             values = result.null_where(name, values, "The density altitude lies outside the model's range.")
-        result.add(name, values, OUTPUTS[name][0])
+        result.add(name, values)
     return result.response()

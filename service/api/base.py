@@ -15,6 +15,7 @@ from apispec.ext.marshmallow.openapi import OpenAPIConverter
 from service.api import fields, problems
 from service.api.inputs import BodyParser
 from service.api.problems import PROBLEM_MEDIA_TYPE
+from service.api.rules import schema_rules
 from service.api.spec import complete as complete_spec
 
 #: The problem responses every compute endpoint can give (documented with Blueprint.problems).
@@ -75,22 +76,13 @@ class ProblemSchema(ma.Schema):
 
 
 class Converter(OpenAPIConverter):
-    """apispec's schema converter, plus the rules that concern several fields of a schema.
-
-    Each field may publish rules through ``spec_rules(name)`` (one field excluding another, an
-    altitude's range that depends on altitude_kind, ...); a schema may add its own in
-    ``SPEC_RULES``. They become the schema's ``allOf``, so that schema-valid data is data the
-    endpoint accepts.
-    """
+    """apispec's schema converter, plus the schema's rules (api.rules) as its ``allOf``."""
 
     def schema2jsonschema(self, schema):
         jsonschema = super().schema2jsonschema(schema)
-        instance = resolve_schema_instance(schema)
-        rules = [rule for name, field in instance.fields.items() if hasattr(field, "spec_rules")
-                 for rule in field.spec_rules(field.data_key or name)]
-        rules.extend(getattr(instance, "SPEC_RULES", ()))
+        rules = schema_rules(resolve_schema_instance(schema))
         if rules:
-            jsonschema["allOf"] = rules
+            jsonschema["allOf"] = [rule.spec() for rule in rules]
         return jsonschema
 
 

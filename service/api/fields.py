@@ -21,14 +21,9 @@ import marshmallow as ma
 import numpy as np
 
 from service import units
+from service.api.masks import MAX_REPORTED, any_true, first_indices
 
 _NUMBER_TYPES = {int, float}
-_MAX_REPORTED = 10
-
-
-def any_true(mask) -> bool:
-    """``mask.any()``, without NumPy's Python-level reduction wrapper for a 0-d mask (one point)."""
-    return bool(mask.any()) if mask.ndim else bool(mask)
 
 
 class Value(NamedTuple):
@@ -51,7 +46,7 @@ def _element_error(items: list, message_for) -> dict:
         message = message_for(item)
         if message:
             errors[index] = [message]
-            if len(errors) >= _MAX_REPORTED:
+            if len(errors) >= MAX_REPORTED:
                 break
     return errors
 
@@ -119,23 +114,18 @@ class Number(ma.fields.Field):
     """
 
     def __init__(self, *, minimum=None, maximum=None, exclusive_minimum=False,
-                 exclusive_maximum=False, allow_array=True, excludes: tuple[str, ...] = (), **kwargs):
+                 exclusive_maximum=False, allow_array=True, rules: tuple = (), **kwargs):
         super().__init__(**kwargs)
         self.minimum = minimum
         self.maximum = maximum
         self.exclusive_minimum = exclusive_minimum
         self.exclusive_maximum = exclusive_maximum
         self.allow_array = allow_array
-        self.excludes = excludes
+        self.rules = rules
 
-    def spec_rules(self, name: str) -> list[dict]:
-        """JSON Schema rules for the request schema that holds this field (see api.base.Converter).
-
-        ``excludes``: fields of that schema that may not be given together with this one (the
-        endpoint refuses them; this publishes it).
-        """
-        present = getattr(self.parent, "fields", {})
-        return [{"not": {"required": [name, other]}} for other in self.excludes if other in present]
+    def rules_for(self, name: str) -> tuple:
+        """The rules (api.rules) this field brings to the schema that holds it under ``name``."""
+        return self.rules
 
     dimension: str | None = None
 
@@ -152,8 +142,7 @@ class Number(ma.fields.Field):
         message = message_for()
         if array.ndim == 0:
             raise ma.ValidationError(message)
-        indices = np.flatnonzero(bad)[:_MAX_REPORTED]
-        raise ma.ValidationError({int(i): [message] for i in indices})
+        raise ma.ValidationError({i: [message] for i in first_indices(bad)})
 
     def range_message(self, unit_text="") -> str:
         return self.describe_range(self.minimum, self.maximum, unit_text)

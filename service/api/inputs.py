@@ -17,6 +17,7 @@ from flask import current_app, request
 
 from service.api.fields import Number, OutputUnits, Value
 from service.api.problems import Problem, flatten_messages, invalid, pointer
+from service.api.rules import RuleSchema
 
 JSON_MEDIA_TYPES = ("application/json",)
 
@@ -98,40 +99,6 @@ def check_point_limit(points: int) -> None:
                       "(QBAR_MAX_POINTS).", extra={"limit": limit})
 
 
-# --- Rules over several fields, published in the request schema's allOf (api.base.Converter) -----
-# Each endpoint enforces its own rules with messages of its own; these say the same in JSON
-# Schema, so that data valid by the spec is data the endpoint accepts (tests/test_fuzz_spec.py).
-
-def exactly_one(*names: str) -> dict:
-    """Exactly one of ``names`` is given."""
-    return {"oneOf": [{"required": [name]} for name in names]}
-
-
-def none_of(*names: str) -> dict:
-    """None of ``names`` is given."""
-    if len(names) == 1:
-        return {"not": {"required": list(names)}}
-    return {"not": {"anyOf": [{"required": [name]} for name in names]}}
-
-
-def not_together(*names: str) -> dict:
-    """At most one of ``names`` is given."""
-    if len(names) == 2:
-        return {"not": {"required": list(names)}}
-    return {"oneOf": [none_of(*names), *({"required": [name]} for name in names)]}  # (generators handle this form)
-
-
-def needs(name: str, *needed: str) -> dict:
-    """Where ``name`` is given, so is each of ``needed``."""
-    return {"if": {"required": [name]}, "then": {"required": list(needed)}}
-
-
-def output_needs(output: str, then: dict) -> dict:
-    """Where ``outputs`` names ``output``, the request satisfies ``then``."""
-    return {"if": {"required": ["outputs"], "properties": {"outputs": {"contains": {"const": output}}}},
-            "then": then}
-
-
 class StrictBoolean(ma.fields.Boolean):
     """JSON true or false only (marshmallow's Boolean also takes 0, 1, "yes", ...)."""
 
@@ -141,18 +108,19 @@ class StrictBoolean(ma.fields.Boolean):
         return value
 
 
-class ComputeSchema(ma.Schema):
+class ComputeSchema(RuleSchema):
     """Base of every compute request: output units, output selection, grid.
 
-    Subclasses list their output names in ``OUTPUTS``; every numeric top-level field is an
-    axis of the grid, in field order.
+    Subclasses list their outputs in ``OUTPUTS`` ({name: (dimension or None, description)}, in the
+    answer's order; or a tuple of names when they are nested) and their rules in ``RULES``
+    (api.rules); every numeric top-level field is an axis of the grid, in field order.
     """
 
     class Meta:
         unknown = ma.RAISE
         ordered = True
 
-    OUTPUTS: tuple[str, ...] = ()
+    OUTPUTS: dict | tuple[str, ...] = ()
 
     def __init__(self, *args, **kwargs):
         super().__init__(*args, **kwargs)
@@ -200,8 +168,9 @@ class ComputeSchema(ma.Schema):
         return Inputs(data, self.AXES, self.OUTPUTS)
 
 
-def outputs_field(names: tuple[str, ...]) -> ma.fields.List:
+def outputs_field(names) -> ma.fields.List:
     """The ``outputs`` selection field for a schema whose outputs are ``names`` (enum and minItems in the spec)."""
+    names = tuple(names)
     valid = ", ".join(names)
     return ma.fields.List(
         ma.fields.String(validate=ma.validate.OneOf(names, error=f"Unknown output {{input!r}}; valid: {valid}.")),
@@ -213,11 +182,13 @@ def outputs_field(names: tuple[str, ...]) -> ma.fields.List:
 class Inputs:
     """A loaded request: the values by field name, broadcast or gridded, and the output choices."""
 
-    def __init__(self, data: dict, axes: tuple[str, ...], outputs: tuple[str, ...]):
+    def __init__(self, data: dict, axes: tuple[str, ...], outputs: dict | tuple[str, ...]):
         self.output_units: dict = data.pop("output_units", None) or {}
         self.grid: bool = data.pop("grid", False)
         wanted = data.pop("outputs", None)
-        self.outputs: tuple[str, ...] = tuple(wanted) if wanted is not None else outputs
+        self.outputs: tuple[str, ...] = tuple(wanted) if wanted is not None else tuple(outputs)
+        #: Output name -> its dimension (None: a bare number), from the schema's OUTPUTS table.
+        self.dimensions: dict = {name: spec[0] for name, spec in outputs.items()} if isinstance(outputs, dict) else {}
         self.data = data
         self.axes = axes
         self.shape: tuple[int, ...] = ()
@@ -274,25 +245,6 @@ class Inputs:
         return [name for name in names if name in self.data]
 
 
-def first_indices(mask) -> list[int]:
-    """Up to the first ten indices where ``mask`` is true (0-d masks give [0])."""
-    mask = np.asarray(mask)
-    if mask.ndim == 0:
-        return [0] if bool(mask) else []
-    return [int(i) for i in np.flatnonzero(mask)[:10]]
-
-
-def no_solution(field: str, mask, reason: str) -> Problem:
-    """The 422 for a primary result that does not exist at some points."""
-    mask = np.asarray(mask)
-    count = int(np.count_nonzero(mask))
-    where = first_indices(mask)
-    at = "" if mask.ndim == 0 else f" at {count} point(s), first indices {where}"
-    return Problem("no-solution", f"No {field}{at}: {reason}",
-                   errors=[{"pointer": pointer(field), "message": reason}],
-                   extra={"field": field, "count": count, "indices": where})
-
-
 class BodyParser:
     """The flask-smorest ARGUMENTS_PARSER: our body checks, then the schema load."""
 
@@ -319,4 +271,4 @@ class BodyParser:
         return decorator
 
 
-__all__ = ["BodyParser", "ComputeSchema", "Inputs", "Number", "OutputUnits", "no_solution", "outputs_field"]
+__all__ = ["BodyParser", "ComputeSchema", "Inputs", "Number", "OutputUnits", "outputs_field"]

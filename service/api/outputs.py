@@ -16,9 +16,9 @@ import orjson
 from flask import Response, g, request
 
 from service import units
-from service.api.fields import any_true
-from service.api.inputs import Inputs, first_indices, no_solution
-from service.api.problems import Problem
+from service.api.inputs import Inputs
+from service.api.masks import any_true, first_indices
+from service.api.problems import Problem, pointer
 
 _JSON_OPTIONS = orjson.OPT_SERIALIZE_NUMPY
 CSV_MEDIA_TYPE = "text/csv"
@@ -31,31 +31,34 @@ class Leaf(NamedTuple):
     dimension: str | None = None
 
 
-def unit_for(dimension: str, chosen: dict) -> str:
-    """The output unit of ``dimension``: the caller's choice or the default."""
-    if dimension == "weight":
-        dimension = "force"
-    return chosen.get(dimension) or units.DIMENSIONS[dimension].default
-
-
-def _output_dimension(dimension: str | None) -> str | None:
+def _written_as(dimension: str) -> str:
+    """The dimension an output is written in: a weight (a mass or a force as input) as a force."""
     return "force" if dimension == "weight" else dimension
 
 
-def _plain(values, shape):
-    """A JSON-ready value: Python scalar for 0-d, NumPy array (or list of str) otherwise."""
-    array = np.asarray(values)
-    if shape == ():
-        return array.item() if array.ndim == 0 else array.reshape(()).item()
-    if array.shape != shape:
-        array = np.broadcast_to(array, shape)
-    if array.dtype.kind in "US":
-        return array.tolist()
-    if array.dtype.kind == "f" and not array.flags.c_contiguous:
-        array = np.ascontiguousarray(array)
-    if not array.flags.c_contiguous:
-        array = np.ascontiguousarray(array)
-    return array
+def unit_for(dimension: str, chosen: dict) -> str:
+    """The output unit of ``dimension``: the caller's choice or the default."""
+    dimension = _written_as(dimension)
+    return chosen.get(dimension) or units.DIMENSIONS[dimension].default
+
+
+def no_solution(field: str, mask, reason: str) -> Problem:
+    """The 422 for a primary result that does not exist at some points."""
+    mask = np.asarray(mask)
+    count = int(np.count_nonzero(mask))
+    where = first_indices(mask)
+    at = "" if mask.ndim == 0 else f" at {count} point(s), first indices {where}"
+    return Problem("no-solution", f"No {field}{at}: {reason}",
+                   errors=[{"pointer": pointer(field), "message": reason}],
+                   extra={"field": field, "count": count, "indices": where})
+
+
+def require(field: str, values, reason: str):
+    """``values``, or the no-solution 422 naming ``field`` where they are not finite (a primary result)."""
+    bad = ~np.isfinite(values)
+    if any_true(bad):
+        raise no_solution(field, bad, reason)
+    return values
 
 
 class Result:
@@ -73,8 +76,8 @@ class Result:
         return self.inputs.wants(name)
 
     def add(self, name: str, si, dimension: str | None = None):
-        """Add output ``name`` (SI values); ``dimension`` None for a bare number."""
-        self.tree[name] = Leaf(si, dimension)
+        """Add output ``name`` (SI values) of ``dimension`` (default: its dimension in the schema's OUTPUTS)."""
+        self.tree[name] = Leaf(si, dimension or self.inputs.dimensions.get(name))
 
     def add_tree(self, name: str, tree):
         """Add a nested output: a dict (or list of dicts) of Leafs."""
@@ -98,40 +101,45 @@ class Result:
         return values
 
     def warn(self, field: str, message: str, mask=None):
-        entry = {"field": field, "message": message}
-        if mask is not None:
-            mask = np.broadcast_to(np.asarray(mask), self.shape) if self.shape else np.asarray(mask)
-            entry["count"] = int(np.count_nonzero(mask))
-            entry["indices"] = first_indices(mask)
+        """A warning on ``field`` at the points of ``mask`` (default: every point)."""
+        if mask is None:
+            count, indices = math.prod(self.shape), []
         else:
-            entry["count"] = math.prod(self.shape)
-            entry["indices"] = []
-        self.warnings.append(entry)
+            mask = np.broadcast_to(np.asarray(mask), self.shape) if self.shape else np.asarray(mask)
+            count, indices = int(np.count_nonzero(mask)), first_indices(mask)
+        self.warnings.append({"field": field, "message": message, "count": count, "indices": indices})
 
-    # --- rendering ---------------------------------------------------------------------------
+    # --- writing: one walk over the outputs, for JSON and CSV -----------------------------------------
 
-    def _render(self, node, path: str = "", check: bool = True):
+    def _walk(self, node, path: str, visit):
+        """``node`` with each Leaf replaced by ``visit(path, leaf)``; paths are dotted ("margin.cl_fraction")."""
         if isinstance(node, Leaf):
-            if self.shape == ():
-                rendered = self._render_scalar(node)
-                if check:
-                    self._check_finite(path, rendered["value"] if type(rendered) is dict else rendered)
-                return rendered
-            if node.dimension is None:
-                rendered = _plain(node.si, self.shape)
-                if check:
-                    self._check_finite(path, rendered)
-                return rendered
-            unit = unit_for(node.dimension, self.inputs.output_units)
-            value = _plain(units.from_si(node.si, _output_dimension(node.dimension), unit), self.shape)
-            if check:
-                self._check_finite(path, value)
-            return {"value": value, "unit": unit}
+            return visit(path, node)
         if isinstance(node, dict):
-            return {key: self._render(value, f"{path}.{key}" if path else key, check) for key, value in node.items()}
+            return {key: self._walk(value, f"{path}.{key}" if path else key, visit) for key, value in node.items()}
         if isinstance(node, (list, tuple)):
-            return [self._render(value, f"{path}.{index}", check) for index, value in enumerate(node)]
-        return node
+            return [self._walk(value, f"{path}.{index}", visit) for index, value in enumerate(node)]
+        return node  # a label (solved_for)
+
+    def _values(self, path: str, leaf: Leaf, check: bool = True):
+        """(values in the caller's unit, the unit or None): a Python scalar for one point (plain arithmetic,
+        no NumPy call per output), else a C-contiguous array of the points."""
+        unit = None if leaf.dimension is None else unit_for(leaf.dimension, self.inputs.output_units)
+        if self.shape == ():
+            value = leaf.si.item() if hasattr(leaf.si, "item") else leaf.si
+            if unit is not None:
+                u = units.DIMENSIONS[_written_as(leaf.dimension)].units[unit]
+                if value is not None and (u.factor != 1.0 or u.offset):
+                    value = (value - u.offset) / u.factor
+        else:
+            si = leaf.si if unit is None else units.from_si(leaf.si, _written_as(leaf.dimension), unit)
+            value = np.asarray(si)
+            if value.shape != self.shape:
+                value = np.broadcast_to(value, self.shape)
+            value = value.tolist() if value.dtype.kind in "US" else np.ascontiguousarray(value)
+        if check:
+            self._check_finite(path, value)
+        return value, unit
 
     def _check_finite(self, path: str, value):
         """A 422 (no solution) where an output is not a finite number and no null_where made it null.
@@ -155,84 +163,54 @@ class Result:
         for field, mask in self._null_masks.items():
             if path == field or path.startswith(field + "."):
                 bad = bad & ~np.broadcast_to(mask, np.shape(bad))
-        if np.any(bad):
+        if any_true(bad):
             top = path.split(".", 1)[0]
             raise no_solution(top, bad, f"{path} is not a finite number here (beyond the floating-point range, "
                                         "or outside the domain of the relations).")
 
-    def _render_scalar(self, node: Leaf):
-        """One point: plain Python arithmetic, no NumPy call per output."""
-        value = node.si.item() if hasattr(node.si, "item") else node.si
-        if node.dimension is None:
-            return value
-        dimension = _output_dimension(node.dimension)
-        unit = unit_for(dimension, self.inputs.output_units)
-        u = units.DIMENSIONS[dimension].units[unit]
-        if value is not None and (u.factor != 1.0 or u.offset):
-            value = (value - u.offset) / u.factor
-        return {"value": value, "unit": unit}
-
-    def input_leaves(self) -> dict:
-        """Every numeric input at every point, as outputs."""
-        out = {}
-        for name in self.inputs.axes:
-            v = self.inputs.data.get(name)
-            if v is None or not hasattr(v, "si"):
-                continue
-            out[name] = Leaf(v.si, v.dimension)
-        return out
+    def _input_leaves(self) -> dict:
+        """Every numeric input at every point, as outputs (the grid's ``inputs``; the CSV's first columns)."""
+        data = self.inputs.data
+        return {name: Leaf(data[name].si, data[name].dimension) for name in self.inputs.axes
+                if hasattr(data.get(name), "si")}
 
     def document(self) -> dict:
-        doc = self._render(self.tree)
+        def json_leaf(path, leaf, check=True):
+            value, unit = self._values(path, leaf, check)
+            return value if unit is None else {"value": value, "unit": unit}
+
+        doc = self._walk(self.tree, "", json_leaf)
         doc["warnings"] = self.warnings
         if self.inputs.grid:
-            doc["inputs"] = self._render(self.input_leaves(), check=False)
+            doc["inputs"] = self._walk(self._input_leaves(), "", lambda path, leaf: json_leaf(path, leaf, False))
         return doc
 
     def json_response(self) -> Response:
         body = orjson.dumps(self.document(), option=_JSON_OPTIONS)
         return Response(body, status=200, content_type="application/json")
 
-    def _columns(self):
-        """(header, values) for every leaf: inputs first, then outputs, dotted names."""
+    def csv_response(self) -> Response:
+        """Inputs first (``input.<name> [unit]``), then every output under its dotted name."""
         columns = []
 
-        def walk(prefix, node, check=True):
-            if isinstance(node, Leaf):
-                if node.dimension is None:
-                    value = _plain(node.si, self.shape or (1,))
-                    header = prefix
-                else:
-                    unit = unit_for(node.dimension, self.inputs.output_units)
-                    value = _plain(units.from_si(node.si, _output_dimension(node.dimension), unit), self.shape or (1,))
-                    header = f"{prefix} [{unit}]"
-                if check:
-                    self._check_finite(prefix, value)
-                columns.append((header, value))
-            elif isinstance(node, dict):
-                for key, value in node.items():
-                    walk(f"{prefix}.{key}" if prefix else key, value)
-            elif isinstance(node, (list, tuple)):
-                for index, value in enumerate(node):
-                    walk(f"{prefix}.{index}", value)
+        def column(prefix, check):
+            def visit(path, leaf):
+                value, unit = self._values(prefix + path, leaf, check)
+                columns.append((prefix + path if unit is None else f"{prefix}{path} [{unit}]", np.atleast_1d(value)))
+            return visit
 
-        for name, leaf in self.input_leaves().items():
-            walk(f"input.{name}", leaf, check=False)
-        walk("", self.tree)
-        return columns
-
-    def csv_response(self) -> Response:
-        columns = self._columns()
+        self._walk(self._input_leaves(), "", column("input.", False))
+        self._walk(self.tree, "", column("", True))
         header = ",".join(_csv_text(name) for name, _ in columns).encode()
-        values = [np.asarray(v) for _, v in columns]
+        values = [v for _, v in columns]
+        # The rows are written by orjson as one JSON array of arrays ([[1.0,2.5],[...]]), in C: strip the outer
+        # brackets, turn "],[" into line breaks and null (NaN) into an empty cell. No number or label holds
+        # any of those byte sequences.
         if all(v.dtype.kind == "f" for v in values):
-            table = np.column_stack(values) if values else np.empty((0, 0))
-            text = orjson.dumps(table, option=_JSON_OPTIONS)
+            text = orjson.dumps(np.column_stack(values) if values else np.empty((0, 0)), option=_JSON_OPTIONS)
         else:
-            rows = list(zip(*(v.tolist() for v in values), strict=False))
-            text = orjson.dumps(rows)
-        body = text[2:-2].replace(b"],[", b"\r\n").replace(b"null", b"")
-        body = header + b"\r\n" + body + b"\r\n"
+            text = orjson.dumps(list(zip(*(v.tolist() for v in values), strict=False)))
+        body = header + b"\r\n" + text[2:-2].replace(b"],[", b"\r\n").replace(b"null", b"") + b"\r\n"
         response = Response(body, status=200, content_type="text/csv; charset=utf-8")
         if self.warnings:
             response.headers["X-Warnings"] = str(len(self.warnings))

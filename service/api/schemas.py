@@ -62,9 +62,17 @@ def ratio_out(description: str, **kwargs) -> NumberOut:
     return NumberOut(metadata={"description": description}, **kwargs)
 
 
-def response_schema(name: str, fields: dict, inputs: type[ma.Schema] | None = None) -> type[ma.Schema]:
-    """A response schema class: the outputs (none required: `outputs` may select), warnings, grid inputs."""
-    attrs = dict(fields)
+def response_schema(name: str, outputs: dict, inputs: type[ma.Schema] | None = None,
+                    fields: dict | None = None) -> type[ma.Schema]:
+    """A response schema class: the outputs (none required: `outputs` may select), warnings, grid inputs.
+
+    ``outputs``: {name: (dimension or None, description)}, a QuantityOut or NumberOut each; ``fields``:
+    other fields, in place of the output of the same name (a label, a flag, a nested block) or before them.
+    """
+    fields = fields or {}
+    attrs = {key: field for key, field in fields.items() if key not in outputs}
+    for key, (dimension, description) in outputs.items():
+        attrs[key] = fields.get(key) or (quantity_out(description) if dimension else ratio_out(description))
     attrs["warnings"] = ma.fields.List(ma.fields.Nested(WarningSchema), required=True, metadata={
         "description": "Outputs that are null or doubtful at some points, with why and where."})
     if inputs is not None:

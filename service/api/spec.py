@@ -23,7 +23,7 @@ import logging
 
 from flask import Flask, Response, g
 
-from service.api import ops
+from service.api import request_hooks
 from service.api.outputs import CSV_MEDIA_TYPE
 from service.api.problems import PROBLEM_MEDIA_TYPE, Problem, problem_response
 
@@ -140,7 +140,7 @@ def _unauthorized(app: Flask) -> Response | None:
     with app.app_context(), app.test_request_context("/v1/atmosphere", method="POST"):
         g.request_id = EXAMPLE_REQUEST_ID
         try:
-            ops.authenticate(ops.KeyRing(["an-operator-key-0123456789"]), {})
+            request_hooks.authenticate(request_hooks.KeyRing(["an-operator-key-0123456789"]), {})
         except Problem as problem:
             return problem_response(problem)
     return None
@@ -157,6 +157,11 @@ def complete(app: Flask, generated: dict) -> dict:
     components.setdefault("headers", {}).update(copy.deepcopy(HEADERS))
     filler = _Filler(schemas)
 
+    for path, item in spec["paths"].items():  # the paths open without a key say so
+        if not request_hooks.is_protected(path.replace("{", "<").replace("}", ">")):
+            for method, operation in item.items():
+                if method != "parameters":
+                    operation["security"] = []
     for path, item in spec["paths"].items():
         for method, operation in item.items():
             if method == "parameters":

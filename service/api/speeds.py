@@ -11,10 +11,13 @@ import numpy as np
 
 from service.api.air import Air
 from service.api.examples import NR200_CALIBRATION
-from service.api.fields import Number, Quantity, any_true, parse_numbers
-from service.api.inputs import Inputs, first_indices, no_solution
+from service.api.fields import Number, Quantity, parse_numbers
+from service.api.inputs import Inputs
 from service.api.lazy import lazy
+from service.api.masks import any_true, first_indices
+from service.api.outputs import require
 from service.api.problems import invalid
+from service.api.rules import ExactlyOne, Needs, NotTogether
 from service.physics import airspeed as spd
 from service.units import DIMENSIONS, UnitError, from_si, to_si
 
@@ -107,22 +110,28 @@ def calibration_field() -> CalibrationField:
         "example": NR200_CALIBRATION})
 
 
-def given_speed(inputs: Inputs, kinds: tuple[str, ...] = KINDS, required: bool = True) -> str | None:
-    """The one speed kind the request gives; 422 naming the fields when none or several."""
-    given = inputs.given(*kinds)
-    if len(given) > 1:
-        raise invalid({k: f"Give exactly one speed of {', '.join(kinds)}; this request gives "
-                          f"{', '.join(given)}." for k in given})
-    if not given:
-        if required:
-            raise invalid([{"pointer": "", "message": f"Give one speed: {', '.join(kinds)}."}],
-                          detail=f"No speed given: give one of {', '.join(kinds)}.")
-        return None
-    kind = given[0]
-    if kind == "ias" and "calibration" not in inputs:
-        raise invalid({"calibration": "An IAS needs the airspeed calibration table (`calibration`) to give a CAS.",
-                       "ias": "Needs `calibration`."})
-    return kind
+def _several(given: list[str]) -> str:
+    return f"Give exactly one speed of {', '.join(KINDS)}; this request gives {', '.join(given)}."
+
+
+#: The speed rules (api.rules) of the endpoints that take one speed.
+AT_MOST_ONE_SPEED = NotTogether(*KINDS, message=_several)
+IAS_NEEDS_CALIBRATION = Needs("ias", "calibration", messages={
+    "calibration": "An IAS needs the airspeed calibration table (`calibration`) to give a CAS.",
+    "ias": "Needs `calibration`."})
+CALIBRATION_NEEDS_IAS = Needs("calibration", "ias", messages={
+    "calibration": "The calibration converts an ias, and this request gives none: leave it out."})
+
+
+def one_speed(missing: str) -> ExactlyOne:
+    """Exactly one speed; ``missing``: the message when the request gives none."""
+    return ExactlyOne(*KINDS, missing=missing, message=_several)
+
+
+def given_speed(inputs: Inputs) -> str | None:
+    """The speed kind the request gives (the rules above let it give one at most), or None."""
+    given = inputs.given(*KINDS)
+    return given[0] if given else None
 
 
 class Speeds:
@@ -139,7 +148,7 @@ class Speeds:
         if kind == "ias":
             cas = spd.ias_to_cas(value, *calibration)
             outside = np.isnan(cas)
-            if np.any(outside):
+            if any_true(outside):
                 lo, hi = from_si(calibration[0][[0, -1]], "speed", "kt")
                 at = f" at points {first_indices(outside)}" if np.ndim(outside) else ""
                 raise invalid([{"pointer": "/ias", "message": f"IAS outside the calibration table's IAS column, "
@@ -185,9 +194,5 @@ class Speeds:
 
     def require(self, name: str):
         """Output ``name``; a 422 when a primary speed does not exist at some point."""
-        values = getattr(self, name)
-        missing = np.isnan(values)
-        if any_true(missing):
-            raise no_solution(name, missing, f"the {self.kind} given has no {name} here "
-                                             "(beyond the range of the airspeed relations).")
-        return values
+        return require(name, getattr(self, name), f"the {self.kind} given has no {name} here "
+                                                  "(beyond the range of the airspeed relations).")

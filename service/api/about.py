@@ -1,4 +1,7 @@
-"""Service endpoints: health, readiness, the unit table, the version, problem-type descriptions."""
+"""What the service says about itself: health, readiness, the unit table, the version, problem types.
+
+Open without an API key (service.api.request_hooks.OPEN_PATHS; the spec says so, api.spec).
+"""
 
 from __future__ import annotations
 
@@ -61,7 +64,6 @@ class VersionSchema(ma.Schema):
 
 
 @blp.route("/v1/health", methods=["GET"])
-@blp.doc(security=[])  # open without an API key (service.api.ops.OPEN_PATHS)
 @blp.response(200, StatusSchema)
 def health():
     """Liveness
@@ -72,7 +74,6 @@ def health():
 
 
 @blp.route("/v1/ready", methods=["GET"])
-@blp.doc(security=[])  # open without an API key (service.api.ops.OPEN_PATHS)
 @blp.response(200, StatusSchema)
 @blp.problems(503)
 def ready():
@@ -86,7 +87,6 @@ def ready():
 
 
 @blp.route("/v1/units", methods=["GET"])
-@blp.doc(security=[])  # open without an API key (service.api.ops.OPEN_PATHS)
 @blp.response(200, UnitsSchema)
 def unit_table():
     """The unit table
@@ -97,7 +97,6 @@ def unit_table():
 
 
 @blp.route("/v1/version", methods=["GET"])
-@blp.doc(security=[])  # open without an API key (service.api.ops.OPEN_PATHS)
 @blp.response(200, VersionSchema)
 def version():
     """Service version
@@ -129,7 +128,6 @@ class ProblemTypeSchema(ma.Schema):
     "in": "path", "name": "slug", "required": True, "example": "validation",
     "description": "The end of a problem document's `type` URI, e.g. `validation` for /problems/validation.",
     "schema": {"type": "string", "minLength": 1}}])
-@blp.doc(security=[])  # open without an API key (service.api.ops.OPEN_PATHS)
 @blp.response(200, ProblemTypeSchema)
 @blp.problems(404)
 def problem_type(slug):
