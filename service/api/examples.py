@@ -116,3 +116,19 @@ LIFT_CURVE = _examples(
      {"aspect_ratio": [9, 11], "sweep_half_chord": {"value": 0, "unit": "deg"}, "mach": 0.3,
       "airfoil_efficiency": 0.95, "angle_of_attack": [0, 4, 8], "grid": True, "output_units": {"lift_slope": "1/deg"}}),
 )
+
+PRESSURE_SETTINGS = _examples(
+    ("quillon-ridge-qnh", "Quillon Ridge (7,200 ft) with QNH 1008 hPa: its QFE and pressure altitude",
+     {"elevation": 7200, "qnh": 1008}),
+    ("qfe-to-qnh-inhg", "QNH from a QFE at two elevations, in inHg",
+     {"elevation": {"value": [150, 2195], "unit": "m"}, "qfe": {"value": [29.31, 22.79], "unit": "inHg"},
+      "output_units": {"pressure": "inHg", "altitude": "m"}}),
+)
+
+TEMPERATURE_CORRECTION = _examples(
+    ("quillon-ridge-cold-approach", "Quillon Ridge (7,200 ft) at -25 degC: the approach's minimum altitudes",
+     {"elevation": 7200, "temperature": -25, "altitude": [9500, 8700, 7650]}),
+    ("cold-grid", "A correction table: three temperatures by four minimum altitudes, sea-level aerodrome",
+     {"elevation": 0, "temperature": [0, -20, -40], "altitude": [500, 1000, 2000, 5000], "grid": True,
+      "outputs": ["correction"]}),
+)
