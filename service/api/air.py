@@ -7,6 +7,8 @@ standard atmosphere once; every further property is computed on first use only.
 
 from __future__ import annotations
 
+import math
+
 import marshmallow as ma
 import numpy as np
 
@@ -26,8 +28,11 @@ from service.units import from_si
 #: Bounds of the ISA deviation [K]: wider than any observed atmosphere, and narrow enough
 #: that the temperature stays above 0 K everywhere in the model (its coldest point is 186.9 K).
 ISA_DEVIATION_LIMIT = 100.0
-#: Bounds of an outside air temperature [degC]: a plausible band that stays above 0 K.
-TEMPERATURE_MIN_C, TEMPERATURE_MAX_C = -150.0, 100.0
+#: Bounds of an outside air temperature [degC]: the ISA-deviation limits around the coldest and the warmest
+#: standard temperature of the model (at its top and its bottom); at a given altitude the deviation limits
+#: hold as well (check_isa_deviation): one validity range whatever the form of the temperature.
+TEMPERATURE_MIN_C = math.floor((float(atm.standard_temperature(H_MAX)) - ISA_DEVIATION_LIMIT - 273.15) * 10) / 10
+TEMPERATURE_MAX_C = math.ceil((float(atm.standard_temperature(H_MIN)) + ISA_DEVIATION_LIMIT - 273.15) * 10) / 10
 #: Bounds of QNH [hPa]: beyond the lowest and highest sea-level pressures ever recorded.
 QNH_MIN_HPA, QNH_MAX_HPA = 800.0, 1100.0
 
@@ -158,7 +163,7 @@ def dew_point_field() -> Quantity:
 
 def relative_humidity_field() -> Number:
     return Number(minimum=0.0, maximum=100.0, metadata={
-        "description": "Relative humidity with respect to water at the point [%], 0 to 100 (a bare number): the "
+        "description": "Relative humidity with respect to water at the point, in percent [-], 0 to 100: the "
                        "water vapour then lowers the density through the virtual temperature; the temperature must "
                        "lie within the saturation formula's range, -100 to +100 degC. Not with `dew_point`. "
                        "Default: dry air.", "example": 60})

@@ -83,13 +83,13 @@ SOLVE_OUTPUTS = {
     "mach": (None, "Mach number [-]."),
     "pressure_altitude": ("altitude", "Pressure altitude [ft]."),
     "density_altitude": ("altitude", "Density altitude [ft]; null (with a warning) outside the model's range."),
-    "density": ("density", "Air density [kg/m3]."),
-    "angle_of_attack": ("angle", "With `wing`: the angle of attack that gives this CL on the linear lift curve "
-                                 "[deg]; null (with a warning) at Mach 1 or above."),
-    "beyond_stall": (None, "With `wing.cl_max`: true where CL is above CLmax (the wing would be stalled)."),
+    "density": ("density", "Air density (at the virtual temperature with `dew_point` or `relative_humidity`) [kg/m3]."),
     "total_air_temperature": ("temperature", "Total air temperature a probe of recovery factor r reads at this "
                                              "speed, T (1 + r (gamma-1)/2 M^2) [degC]."),
     "ram_rise": ("temperature_difference", "Ram rise: the total air temperature minus the static temperature [K]."),
+    "angle_of_attack": ("angle", "With `wing`: the angle of attack that gives this CL on the linear lift curve "
+                                 "[deg]; null (with a warning) at Mach 1 or above."),
+    "beyond_stall": (None, "With `wing.cl_max`: true where CL is above CLmax (the wing would be stalled)."),
 }
 
 #: What the lift equation needs besides a speed; each unknown is one of them, or the speed, or n.
