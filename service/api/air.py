@@ -171,8 +171,8 @@ def relative_humidity_field() -> Number:
 
 def total_air_temperature_field() -> Quantity:
     return Quantity("temperature", minimum=TEMPERATURE_MIN_C, maximum=TEMPERATURE_MAX_C, rules=(
-        NotTogether("total_air_temperature", "temperature", "isa_deviation",
-                    message="Give one of temperature, isa_deviation or total_air_temperature."),
+        *(NotTogether("total_air_temperature", other, message="Give one of temperature, isa_deviation or "
+                      "total_air_temperature.") for other in ("temperature", "isa_deviation")),
         Never(Given("total_air_temperature", "altitude_kind", value={"altitude_kind": "geometric"}),
               "total_air_temperature", "A total air temperature gives the static temperature through the Mach "
               "number, which needs the pressure altitude: give a pressure altitude, not a geometric height.")),
