@@ -31,6 +31,16 @@ ATMOSPHERE = _examples(
      {"altitude": {"value": [0, 3000, 6000], "unit": "m"}, "altitude_kind": "geometric", "isa_deviation": [-10, 15],
       "grid": True, "outputs": ["temperature", "pressure", "density"],
       "output_units": {"temperature": "K", "pressure": "Pa"}}),
+    ("quillon-ridge-humid", "The same hot afternoon at Quillon Ridge with a dew point of 12 degC",
+     {"altitude": 7200, "qnh": 1008, "temperature": 32, "dew_point": 12,
+      "outputs": ["density_altitude", "density", "vapour_pressure", "virtual_temperature", "geometric_altitude"]}),
+    ("humid-sea-level", "A tropical sea-level afternoon, 30 degC and 75 % relative humidity",
+     {"altitude": 0, "temperature": 30, "relative_humidity": 75,
+      "outputs": ["density", "density_altitude", "vapour_pressure", "virtual_temperature"]}),
+    ("property-set", "The U.S. Standard Atmosphere 1976 property set from sea level to 80 km, speeds in m/s",
+     {"altitude": {"value": [0, 20, 50, 80], "unit": "km"}, "altitude_kind": "geometric",
+      "outputs": ["gravity", "pressure_scale_height", "number_density", "mean_particle_speed", "mean_free_path",
+                  "collision_frequency", "thermal_conductivity"], "output_units": {"speed": "m/s"}}),
 )
 
 AIRSPEED = _examples(
@@ -45,6 +55,12 @@ AIRSPEED = _examples(
      {"tas": 410, "altitude": {"value": 280, "unit": "FL"}, "temperature": -38, "outputs": ["cas", "mach", "eas"]}),
     ("eas-grid", "A grid of EAS and altitudes",
      {"eas": [150, 200], "altitude": [0, 10000], "grid": True, "outputs": ["cas", "tas"]}),
+    ("tat-climb", "Climbing through FL240 at 250 kt CAS: the static temperature from the probe's TAT",
+     {"cas": 250, "altitude": {"value": 240, "unit": "FL"}, "total_air_temperature": -18, "recovery_factor": 0.98,
+      "dew_point": -45, "outputs": ["mach", "tas", "total_air_temperature", "ram_rise", "atmosphere"]}),
+    ("humid-approach", "140 kt CAS at 3000 ft on a 28 degC, 80 % humidity afternoon",
+     {"cas": 140, "altitude": 3000, "temperature": 28, "relative_humidity": 80,
+      "outputs": ["eas", "tas", "ram_rise", "atmosphere"]}),
 )
 
 CROSSOVER = _examples(
@@ -85,6 +101,13 @@ LIFT_SOLVE = _examples(
     ("wing-area-for-cas", "The wing area that carries 23 000 kg at 125 kt CAS and CL 1.5 at sea level, in ft2",
      {"solve_for": "wing_area", "weight": 23000, "cl": 1.5, "cas": 125, "altitude": 0,
       "outputs": ["wing_area", "wing_loading"], "output_units": {"area": "ft2", "wing_loading": "kg/m2"}}),
+    ("cl-from-tat", "The NR-200's CL at Mach 0.45, FL250 with the probe's TAT and a dew point",
+     {"solve_for": "cl", "weight": 21000, "wing_area": 61, "mach": 0.45, "altitude": {"value": 250, "unit": "FL"},
+      "total_air_temperature": -12, "recovery_factor": 0.98, "dew_point": -30,
+      "outputs": ["cl", "tas", "total_air_temperature", "ram_rise", "density"]}),
+    ("humid-circuit-speed", "Every speed for CL 1.2 at 22 000 kg, 3000 ft, 25 degC, 70 % humidity",
+     {"solve_for": "speed", "weight": 22000, "wing_area": 61, "cl": 1.2, "altitude": 3000, "temperature": 25,
+      "relative_humidity": 70, "outputs": ["cas", "tas", "mach", "density"]}),
 )
 
 LIFT_STALL = _examples(
@@ -106,6 +129,12 @@ LIFT_STALL = _examples(
     ("hot-day-tas", "The margin at 170 kt TAS, 3000 ft, 30 degC",
      {"weight": 22000, "wing_area": 61, "cl_max": 1.6, "altitude": 3000, "temperature": 30, "tas": 170,
       "outputs": ["stall", "margin"]}),
+    ("quillon-ridge-humid", "Stall speeds at Quillon Ridge on a hot, humid afternoon (30 degC, dew point 18 degC)",
+     {"weight": 22000, "wing_area": 61, "cl_max": 1.6, "altitude": 7200, "qnh": 1008, "temperature": 30,
+      "dew_point": 18, "outputs": ["stall"]}),
+    ("humid-sea-level", "Stall speeds at sea level, 30 degC, 75 % relative humidity",
+     {"weight": 22000, "wing_area": 61, "cl_max": 1.6, "altitude": 0, "temperature": 30, "relative_humidity": 75,
+      "outputs": ["stall"]}),
 )
 
 LIFT_CURVE = _examples(
@@ -115,4 +144,19 @@ LIFT_CURVE = _examples(
     ("cl-at-angles", "CL at three angles of attack for two aspect ratios, slope per degree",
      {"aspect_ratio": [9, 11], "sweep_half_chord": {"value": 0, "unit": "deg"}, "mach": 0.3,
       "airfoil_efficiency": 0.95, "angle_of_attack": [0, 4, 8], "grid": True, "output_units": {"lift_slope": "1/deg"}}),
+)
+
+PRESSURE_SETTINGS = _examples(
+    ("quillon-ridge-qnh", "Quillon Ridge (7,200 ft) with QNH 1008 hPa: its QFE and pressure altitude",
+     {"elevation": 7200, "qnh": 1008}),
+    ("qfe-to-qnh-inhg", "QNH from three QFE readings in inHg at Quillon Ridge (2,195 m)",
+     {"elevation": {"value": 2195, "unit": "m"}, "qfe": {"value": [22.62, 22.79, 22.95], "unit": "inHg"}}),
+)
+
+TEMPERATURE_CORRECTION = _examples(
+    ("quillon-ridge-cold-approach", "Quillon Ridge (7,200 ft) at -25 degC: the approach's minimum altitudes",
+     {"elevation": 7200, "temperature": -25, "altitude": [9500, 8700, 7650]}),
+    ("cold-grid", "A correction table: three temperatures by four minimum altitudes, sea-level aerodrome",
+     {"elevation": 0, "temperature": [0, -20, -40], "altitude": [500, 1000, 2000, 5000], "grid": True,
+      "outputs": ["correction"]}),
 )

@@ -83,7 +83,10 @@ SOLVE_OUTPUTS = {
     "mach": (None, "Mach number [-]."),
     "pressure_altitude": ("altitude", "Pressure altitude [ft]."),
     "density_altitude": ("altitude", "Density altitude [ft]; null (with a warning) outside the model's range."),
-    "density": ("density", "Air density [kg/m3]."),
+    "density": ("density", "Air density (at the virtual temperature with `dew_point` or `relative_humidity`) [kg/m3]."),
+    "total_air_temperature": ("temperature", "Total air temperature a probe of recovery factor r reads at this "
+                                             "speed, T (1 + r (gamma-1)/2 M^2) [degC]."),
+    "ram_rise": ("temperature_difference", "Ram rise: the total air temperature minus the static temperature [K]."),
     "angle_of_attack": ("angle", "With `wing`: the angle of attack that gives this CL on the linear lift curve "
                                  "[deg]; null (with a warning) at Mach 1 or above."),
     "beyond_stall": (None, "With `wing.cl_max`: true where CL is above CLmax (the wing would be stalled)."),
@@ -94,6 +97,13 @@ LIFT_INPUTS = ("weight", "wing_area", "cl", "altitude")
 #: Unknown -> the inputs that give it (left out when solving for it).
 GIVEN_BY = {"cl": ("cl",), "weight": ("weight",), "wing_area": ("wing_area",),
             "load_factor": ("load_factor", "bank_angle"), "speed": KINDS, "altitude": ("altitude",)}
+
+
+_DRY = "Solving for altitude takes dry air (the altitude follows from the density or pressure the lift needs)."
+_NOT_FOR_ALTITUDE = {
+    "total_air_temperature": "A total air temperature gives the static temperature through the pressure altitude, "
+                             "the unknown here: give temperature or isa_deviation.",
+    "dew_point": _DRY + " Leave out dew_point.", "relative_humidity": _DRY + " Leave out relative_humidity."}
 
 
 def _solve_case(unknown: str):
@@ -108,7 +118,8 @@ def _solve_case(unknown: str):
             "eas": "At a given EAS the dynamic pressure is 1/2 rho0 EAS^2 at every altitude, so the lift equation "
                    "does not fix the altitude. Give a Mach number, TAS or CAS instead."}),
                   Never(Given("altitude_kind", value={"altitude_kind": "geometric"}), "altitude_kind",
-                        "Solving for altitude gives a pressure altitude; leave out altitude_kind.")]
+                        "Solving for altitude gives a pressure altitude; leave out altitude_kind."),
+                  NoneOf("total_air_temperature", "dew_point", "relative_humidity", message=_NOT_FOR_ALTITUDE)]
     needed = tuple(name for name in LIFT_INPUTS if name != unknown)
     return needed, f"Missing: needed to solve for {unknown}.", tuple(rules)
 
@@ -162,6 +173,10 @@ class LiftSolveRequest(ComputeSchema):
     temperature = air.temperature_field()
     qnh = air.qnh_field()
     altitude_kind = air.altitude_kind_field()
+    total_air_temperature = air.total_air_temperature_field()
+    recovery_factor = air.recovery_factor_field()
+    dew_point = air.dew_point_field()
+    relative_humidity = air.relative_humidity_field()
     load_factor = LOAD_FACTOR
     bank_angle = BANK_ANGLE
     wing = ma.fields.Nested(LiftWingSchema, metadata={
@@ -200,7 +215,7 @@ class Solution:
             self.q = lf.required_dynamic_pressure(self.W, self.n, self.S, self.cl)
             eas = require("eas", lf.eas_from_dynamic_pressure(self.q), "the lift equation has no finite speed here.")
             self.air = air.air(inputs)
-            self.speeds = Speeds(self.air, "eas", eas)
+            self.speeds = Speeds(self.air, "eas", eas, given=False)
         else:
             self.air = air.air(inputs)
             self.speeds = Speeds(self.air, kind, inputs.si(kind), inputs.get("calibration"))
@@ -286,6 +301,8 @@ _OUTPUTS = {
     "density": lambda s: s.air.rho,
     "angle_of_attack": Solution.angle_of_attack,
     "beyond_stall": lambda s: s.cl > block(s.inputs, "wing", "cl_max"),
+    "total_air_temperature": lambda s: s.air.total_air_temperature(s.speeds.mach),
+    "ram_rise": lambda s: s.air.total_air_temperature(s.speeds.mach) - s.air.T,
 }
 
 
