@@ -208,7 +208,7 @@ def test_cas_exactly_the_sea_level_speed_of_sound(client):
 @pytest.mark.parametrize(("speed", "altitude"), [
     ({"mach": 1.5}, 30_000), ({"mach": 3.0}, 60_000), ({"mach": 5.0}, 270_000), ({"mach": 5.0}, -16_000),
     ({"cas": 1_000}, 0), ({"cas": 2_000}, 20_000), ({"cas": 3_000}, -16_000),
-    # (a speed whose Mach number is beyond the range of `mach`, 5, is refused: tests/test_api_airspeed_air.py)
+    # (a speed whose Mach number is beyond the range of `mach`, 5, is refused: tests/test_api_airdata.py)
     ({"tas": 2_500}, 80_000), ({"eas": 2_000}, 10_000), ({"cas": 50}, 200_000),
 ])
 def test_supersonic_mach_and_cas(client, speed, altitude):
