@@ -226,3 +226,13 @@ def test_one_validity_range(client, path, body, pointer):
 def test_mach_limit_names_the_indices(client):
     doc = assert_problem(post(client, AIRSPEED, {"tas": [300, 2990, 400], "altitude": 60000}), 422, "/tas")
     assert "[1]" in doc["detail"]
+
+
+def test_schedule_takes_the_humidity_as_the_airspeed_endpoint_does(client):
+    body = {"altitude": 2000, "temperature": 28, "dew_point": 20, "outputs": ["tas", "eas"]}
+    schedule = post(client, "/v1/airspeed/schedule", {"cas": 250, "mach": 0.76, **body}).json
+    single = post(client, AIRSPEED, {"cas": 250, **body}).json
+    assert value(schedule, "eas") == pytest.approx(value(single, "eas"), rel=1e-12)
+    assert value(schedule, "tas") == pytest.approx(value(single, "tas"), rel=1e-12)
+    dry = post(client, AIRSPEED, {"cas": 250, "altitude": 2000, "temperature": 28, "outputs": ["eas"]}).json
+    assert value(single, "eas") < value(dry, "eas")  # lighter air: a lower EAS for the same CAS

@@ -245,6 +245,8 @@ class ScheduleRequest(ComputeSchema):
     altitude = air.altitude_field(_ALTITUDE)
     isa_deviation = air.isa_deviation_field()
     temperature = air.temperature_field()
+    dew_point = air.dew_point_field()
+    relative_humidity = air.relative_humidity_field()
     outputs = outputs_field(SCHEDULE_OUTPUTS)
 
 
@@ -275,6 +277,8 @@ def schedule(inputs):
         for name in _SCHEDULE_SPEEDS:
             if inputs.wants(name):
                 values = np.where(flown.governing_mach, "mach", "cas") if name == "governing" else getattr(flown, name)
+                if name == "eas" and state.humid:  # EAS = TAS sqrt(rho / rho0), rho of the moist air: p / (R Tv)
+                    values = values * np.sqrt(state.T / state.Tv)
                 result.add(name, values)
     if inputs.wants("crossover_altitude"):
         H = spd.crossover_altitude(cas, mach)

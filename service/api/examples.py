@@ -76,6 +76,12 @@ SCHEDULE = _examples(
     ("descent-with-oat", "A M0.74 / 280 kt descent with the outside air temperature at each level",
      {"cas": 280, "mach": 0.74, "altitude": {"value": [350, 300, 250, 200], "unit": "FL"},
       "temperature": [-50, -41, -31, -20], "outputs": ["governing", "cas", "mach", "tas"]}),
+    ("humid-low-levels", "The climb's low levels on a humid day: 28 degC at 2000 ft, dew point 20 degC",
+     {"cas": 250, "mach": 0.76, "altitude": 2000, "temperature": 28, "dew_point": 20,
+      "outputs": ["cas", "tas", "eas"]}),
+    ("humid-rh", "The same with a relative humidity of 60 %",
+     {"cas": 250, "mach": 0.76, "altitude": 2000, "temperature": 28, "relative_humidity": 60,
+      "outputs": ["cas", "tas", "eas"]}),
 )
 
 LIFT_SOLVE = _examples(
