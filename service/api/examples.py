@@ -107,13 +107,6 @@ LIFT_SOLVE = _examples(
     ("wing-area-for-cas", "The wing area that carries 23 000 kg at 125 kt CAS and CL 1.5 at sea level, in ft2",
      {"solve_for": "wing_area", "weight": 23000, "cl": 1.5, "cas": 125, "altitude": 0,
       "outputs": ["wing_area", "wing_loading"], "output_units": {"area": "ft2", "wing_loading": "kg/m2"}}),
-    ("cl-from-tat", "The NR-200's CL at Mach 0.45, FL250 with the probe's TAT and a dew point",
-     {"solve_for": "cl", "weight": 21000, "wing_area": 61, "mach": 0.45, "altitude": {"value": 250, "unit": "FL"},
-      "total_air_temperature": -12, "recovery_factor": 0.98, "dew_point": -30,
-      "outputs": ["cl", "tas", "total_air_temperature", "ram_rise", "density"]}),
-    ("humid-circuit-speed", "Every speed for CL 1.2 at 22 000 kg, 3000 ft, 25 degC, 70 % humidity",
-     {"solve_for": "speed", "weight": 22000, "wing_area": 61, "cl": 1.2, "altitude": 3000, "temperature": 25,
-      "relative_humidity": 70, "outputs": ["cas", "tas", "mach", "density"]}),
 )
 
 LIFT_STALL = _examples(

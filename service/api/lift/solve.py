@@ -83,7 +83,7 @@ SOLVE_OUTPUTS = {
     "mach": (None, "Mach number [-]."),
     "pressure_altitude": ("altitude", "Pressure altitude [ft]."),
     "density_altitude": ("altitude", "Density altitude [ft]; null (with a warning) outside the model's range."),
-    "density": ("density", "Air density (at the virtual temperature with `dew_point` or `relative_humidity`) [kg/m3]."),
+    "density": ("density", "Air density [kg/m3]."),
     "total_air_temperature": ("temperature", "Total air temperature a probe of recovery factor r reads at this "
                                              "speed, T (1 + r (gamma-1)/2 M^2) [degC]."),
     "ram_rise": ("temperature_difference", "Ram rise: the total air temperature minus the static temperature [K]."),
@@ -99,13 +99,6 @@ GIVEN_BY = {"cl": ("cl",), "weight": ("weight",), "wing_area": ("wing_area",),
             "load_factor": ("load_factor", "bank_angle"), "speed": KINDS, "altitude": ("altitude",)}
 
 
-_DRY = "Solving for altitude takes dry air (the altitude follows from the density or pressure the lift needs)."
-_NOT_FOR_ALTITUDE = {
-    "total_air_temperature": "A total air temperature gives the static temperature through the pressure altitude, "
-                             "the unknown here: give temperature or isa_deviation.",
-    "dew_point": _DRY + " Leave out dew_point.", "relative_humidity": _DRY + " Leave out relative_humidity."}
-
-
 def _solve_case(unknown: str):
     """(inputs needed, message when missing, rules) of solving for ``unknown``."""
     rules = [NoneOf(*GIVEN_BY[unknown], message=lambda name: f"{name} is given, but solve_for is {unknown!r}: "
@@ -118,8 +111,7 @@ def _solve_case(unknown: str):
             "eas": "At a given EAS the dynamic pressure is 1/2 rho0 EAS^2 at every altitude, so the lift equation "
                    "does not fix the altitude. Give a Mach number, TAS or CAS instead."}),
                   Never(Given("altitude_kind", value={"altitude_kind": "geometric"}), "altitude_kind",
-                        "Solving for altitude gives a pressure altitude; leave out altitude_kind."),
-                  NoneOf("total_air_temperature", "dew_point", "relative_humidity", message=_NOT_FOR_ALTITUDE)]
+                        "Solving for altitude gives a pressure altitude; leave out altitude_kind.")]
     needed = tuple(name for name in LIFT_INPUTS if name != unknown)
     return needed, f"Missing: needed to solve for {unknown}.", tuple(rules)
 
@@ -173,10 +165,6 @@ class LiftSolveRequest(ComputeSchema):
     temperature = air.temperature_field()
     qnh = air.qnh_field()
     altitude_kind = air.altitude_kind_field()
-    total_air_temperature = air.total_air_temperature_field()
-    recovery_factor = air.recovery_factor_field()
-    dew_point = air.dew_point_field()
-    relative_humidity = air.relative_humidity_field()
     load_factor = LOAD_FACTOR
     bank_angle = BANK_ANGLE
     wing = ma.fields.Nested(LiftWingSchema, metadata={
