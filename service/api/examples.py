@@ -128,12 +128,6 @@ LIFT_STALL = _examples(
     ("hot-day-tas", "The margin at 170 kt TAS, 3000 ft, 30 degC",
      {"weight": 22000, "wing_area": 61, "cl_max": 1.6, "altitude": 3000, "temperature": 30, "tas": 170,
       "outputs": ["stall", "margin"]}),
-    ("quillon-ridge-humid", "Stall speeds at Quillon Ridge on a hot, humid afternoon (30 degC, dew point 18 degC)",
-     {"weight": 22000, "wing_area": 61, "cl_max": 1.6, "altitude": 7200, "qnh": 1008, "temperature": 30,
-      "dew_point": 18, "outputs": ["stall"]}),
-    ("humid-sea-level", "Stall speeds at sea level, 30 degC, 75 % relative humidity",
-     {"weight": 22000, "wing_area": 61, "cl_max": 1.6, "altitude": 0, "temperature": 30, "relative_humidity": 75,
-      "outputs": ["stall"]}),
 )
 
 LIFT_CURVE = _examples(

@@ -108,8 +108,6 @@ class LiftStallRequest(ComputeSchema):
     temperature = air.temperature_field()
     qnh = air.qnh_field()
     altitude_kind = air.altitude_kind_field()
-    dew_point = air.dew_point_field()
-    relative_humidity = air.relative_humidity_field()
     load_factor = LOAD_FACTOR
     bank_angle = BANK_ANGLE
     speed_factors = SpeedFactors(metadata={
