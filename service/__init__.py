@@ -9,7 +9,7 @@ from flask import Flask
 from flask_compress import Compress
 
 from service import config as settings
-from service.api import about, airspeed, atmosphere, docs, drag, lift, request_hooks
+from service.api import about, airspeed, altimetry, atmosphere, docs, drag, lift, request_hooks
 from service.api.base import Api
 from service.version import __version__
 
@@ -34,7 +34,7 @@ length 1); `grid: true` takes their outer product. Every error is an RFC 9457 pr
 """
 
 #: Blueprints in the order of the spec's tags.
-BLUEPRINTS = (atmosphere.blp, airspeed.blp, lift.blp, drag.blp, about.blp)
+BLUEPRINTS = (atmosphere.blp, airspeed.blp, lift.blp, drag.blp, altimetry.blp, about.blp)
 
 
 def create_app(config: dict | None = None) -> Flask:

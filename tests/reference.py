@@ -157,15 +157,24 @@ def geometric(H: float) -> float:
     return R_EARTH * H / (R_EARTH - H)
 
 
-def level_height(H: float, dT: float) -> float:
-    """Geometric height of the pressure level of pressure altitude H above the 1013.25 hPa level, ISA + dT.
+def level_height(H: float, dT: float, H_datum: float = 0.0) -> float:
+    """Geometric height of the pressure level of pressure altitude H above the level of pressure altitude
+    H_datum (0: the 1013.25 hPa level; with a QNH, the standard altitude of the QNH: mean sea level), ISA + dT.
 
-    The hypsometric relation: Z = integral from 0 to H of (T_std + dT) / T_std dH', then h = r Z / (r - Z).
+    The hypsometric relation: Z = integral from H_datum to H of (T_std + dT) / T_std dH', then h = r Z / (r - Z).
     """
-    inner = [Hb for Hb, _ in LAYERS if min(0.0, H) < Hb < max(0.0, H)]
-    integral, _ = quad(lambda x: 1.0 / std_tp(x)[0], 0.0, H, points=inner or None, epsabs=0.0, epsrel=1e-13,
+    inner = [Hb for Hb, _ in LAYERS if min(H_datum, H) < Hb < max(H_datum, H)]
+    integral, _ = quad(lambda x: 1.0 / std_tp(x)[0], H_datum, H, points=inner or None, epsabs=0.0, epsrel=1e-13,
                        limit=200)
-    return geometric(H + dT * integral)
+    return geometric(H - H_datum + dT * integral)
+
+
+def pressure_altitude_of_height(h: float, dT: float = 0.0, T: float | None = None) -> float:
+    """The pressure altitude whose level lies at geometric height h above the 1013.25 hPa level on a day ISA + dT,
+    or with the temperature T at that level (the deviation there, T - T_std(H)): brentq on level_height."""
+    def deviation(H):
+        return dT if T is None else T - std_tp(H)[0]
+    return _root(lambda H: level_height(H, deviation(H)) - h)
 
 
 def sutherland(T: float) -> float:
@@ -173,13 +182,14 @@ def sutherland(T: float) -> float:
     return SUTH_BETA * T**1.5 / (T + SUTH_S)
 
 
-def air(H: float, dT: float = 0.0) -> dict:
-    """Every atmosphere output at pressure altitude H with ISA deviation dT [SI]."""
+def air(H: float, dT: float = 0.0, H_datum: float = 0.0) -> dict:
+    """Every atmosphere output at pressure altitude H with ISA deviation dT [SI]; the geometric altitude above
+    the level of pressure altitude H_datum (with a QNH, its standard altitude: mean sea level)."""
     T_std, p = std_tp(H)
     T = T_std + dT
     rho = p / (R * T)
     mu = sutherland(T)
-    return {"pressure_altitude": H, "geometric_altitude": level_height(H, dT), "temperature": T,
+    return {"pressure_altitude": H, "geometric_altitude": level_height(H, dT, H_datum), "temperature": T,
             "isa_deviation": dT, "pressure": p, "density": rho, "speed_of_sound": math.sqrt(KAPPA * R * T),
             "dynamic_viscosity": mu, "kinematic_viscosity": mu / rho, "pressure_ratio": p / P0,
             "temperature_ratio": T / T0, "density_ratio": rho / RHO0, "density_altitude": density_altitude(rho)}

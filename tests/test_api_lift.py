@@ -92,7 +92,7 @@ def test_cl_at_cruise_is_complete_and_unit_tagged(client):
     assert doc["warnings"] == []
     assert list(doc) == ["solved_for", "lift", "weight", "load_factor", "bank_angle", "cl", "wing_area",
                          "wing_loading", "dynamic_pressure", "cas", "eas", "tas", "mach", "pressure_altitude",
-                         "density_altitude", "density", "warnings"]
+                         "density_altitude", "density", "total_air_temperature", "ram_rise", "warnings"]
 
 
 def test_doubling_speed_quarters_cl(client):
