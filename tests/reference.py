@@ -73,6 +73,11 @@ UNITS = {
     "time": {"s": (1.0, 0.0), "min": (60.0, 0.0)},
     "angular_rate": {"deg/s": (math.pi / 180, 0.0), "rad/s": (1.0, 0.0),
                      "standard_rate": (3 * math.pi / 180, 0.0)},  # the trade's rate-one turn, 3 deg/s (ICAO Doc 8168)
+    "length": {"m": (1.0, 0.0), "ft": (0.3048, 0.0), "km": (1000.0, 0.0)},
+    "acceleration": {"m/s2": (1.0, 0.0), "ft/s2": (0.3048, 0.0)},
+    "number_density": {"1/m3": (1.0, 0.0), "1/cm3": (1e6, 0.0)},  # (0.01 m)^-3
+    "frequency": {"1/s": (1.0, 0.0)},
+    "thermal_conductivity": {"W/(m*K)": (1.0, 0.0)},
 }
 
 #: Other spellings each unit accepts on input (the catalogue's ``aliases``): the ASCII and the degree-sign forms in
@@ -278,7 +283,8 @@ DEFAULT_UNITS = {"altitude": "ft", "speed": "kt", "temperature": "degC", "temper
                  "pressure": "hPa", "density": "kg/m3", "mass": "kg", "force": "N", "area": "m2", "angle": "deg",
                  "dynamic_viscosity": "Pa*s", "kinematic_viscosity": "m2/s", "lift_slope": "1/rad",
                  "wing_loading": "N/m2", "distance": "NM", "vertical_speed": "ft/min", "power": "kW", "time": "s",
-                 "angular_rate": "deg/s"}
+                 "angular_rate": "deg/s", "length": "m", "acceleration": "m/s2", "number_density": "1/m3",
+                 "frequency": "1/s", "thermal_conductivity": "W/(m*K)"}
 #: Relative tolerance of the endpoint reference checks: the service and this module agree to about 1e-12 where
 #: both use closed forms; 1e-9 leaves room for root finders and quadrature and still catches any real slip.
 REL = 1e-9
