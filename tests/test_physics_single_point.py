@@ -15,10 +15,14 @@ from service.physics import single_point as one
 from service.physics.constants import H_MAX, H_MIN
 
 TOLERANCE = 1e-15  # relative
+#: The supersonic inverse is a Newton iteration with logarithms: NumPy picks its log kernel by CPU (SIMD paths),
+#: math.log is the C library's, and the two differ in the last bit on some machines; the iterations then stop
+#: a few units in the last place apart (1.8e-15 seen). The closed forms keep 1e-15.
+NEWTON_TOLERANCE = 1e-14
 
 
-def _agree(twin_values, array_values):
-    np.testing.assert_allclose(np.array(twin_values, dtype=float), array_values, rtol=TOLERANCE, atol=0.0)
+def _agree(twin_values, array_values, rtol=TOLERANCE):
+    np.testing.assert_allclose(np.array(twin_values, dtype=float), array_values, rtol=rtol, atol=0.0)
 
 
 def test_standard_state():
@@ -36,7 +40,8 @@ def test_ratio_from_mach(mach):
 
 @pytest.mark.parametrize("ratio", [np.linspace(0.0, 0.89, 2001), np.linspace(0.9, 40.0, 2001)], ids=["sub", "super"])
 def test_mach_from_ratio(ratio):
-    _agree([one.mach_from_ratio(float(r)) for r in ratio], asp._mach_from_ratio(ratio))
+    _agree([one.mach_from_ratio(float(r)) for r in ratio], asp._mach_from_ratio(ratio),
+           rtol=NEWTON_TOLERANCE if ratio[0] > asp._RATIO_SONIC else TOLERANCE)
 
 
 def test_the_public_functions_take_the_twins_for_one_point():

@@ -75,4 +75,5 @@ def test_unknown_unit_names_itself_and_the_allowed_ones():
     response = ref.app_client().post("/v1/atmosphere", json={"altitude": {"value": 7200, "unit": "feet"}})
     assert response.status_code == 422
     assert response.get_json()["errors"] == [
-        {"pointer": "/altitude/unit", "message": "Unknown unit 'feet' for altitude (did you mean 'ft'?); allowed: m, ft, km, FL."}]
+        {"pointer": "/altitude/unit",
+         "message": "Unknown unit 'feet' for altitude (did you mean 'ft'?); allowed: m, ft, km, FL."}]

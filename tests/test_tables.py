@@ -257,7 +257,7 @@ import io  # noqa: E402
 import json  # noqa: E402
 from urllib.parse import urlencode  # noqa: E402
 
-from tests.helpers import assert_problem, post  # noqa: E402
+from tests.helpers import assert_problem, differences, post  # noqa: E402
 from tests.test_bulk import BULK  # noqa: E402
 
 
@@ -429,7 +429,8 @@ def test_the_spec_table_examples_give_the_json_examples_answers(client, path, na
     response = client.post(path, query_string=params, data=example["value"].encode(), content_type="text/csv")
     assert response.status_code == 200, response.get_data(as_text=True)
     expected = post(client, path, content["application/json"]["examples"][name]["value"]).json
-    assert squeeze(response.json) == squeeze(expected)  # a one-row table gives arrays of one
+    # a one-row table gives arrays of one; the array path and the single-point path agree to the last digits
+    assert differences(squeeze(response.json), squeeze(expected)) == []
 
 
 def squeeze(node):
