@@ -91,8 +91,8 @@ def round_significant(value, digits: int):
 
     >>> round_significant(58.999999999999986, 6), round_significant(None, 3)
     (59.0, None)
-    >>> round_significant(np.array([278385.8267716535, 1.48764e-05, 0.0, -44.342, np.nan]), 3).tolist()
-    [278000.0, 1.49e-05, 0.0, -44.3, nan]
+    >>> round_significant(np.array([278385.8267716535, 1.48764e-05, 0.0, -44.342, np.nan, 2.557977936e25]), 3).tolist()
+    [278000.0, 1.49e-05, 0.0, -44.3, nan, 2.56e+25]
     """
     if type(value) is float:
         return float(f"{value:.{digits}g}") if value - value == 0.0 else value
@@ -104,7 +104,13 @@ def round_significant(value, digits: int):
         k = np.where(exact, k, 0.0)
         scale = np.power(10.0, np.abs(k))
         rounded = np.where(k >= 0, np.round(value * scale) / scale, np.round(value / scale) * scale)
-    return np.where(exact, rounded, value)
+    rounded = np.where(exact, rounded, value)
+    # Beyond the exact powers of ten (magnitudes past about 1e22, or below 1e-7 at 17 digits, e.g. a number
+    # density of 2.5e25 per m3): decimal formatting, as one NumPy string operation over those elements only.
+    far = ~exact & np.isfinite(value) & (value != 0.0)
+    if far.any():
+        rounded[far] = np.char.mod(f"%.{digits}g", value[far]).astype(np.float64)
+    return rounded
 
 
 class Result:
