@@ -83,6 +83,45 @@ def test_refused_with_pointer(raw, pointer, text):
     assert text.lower() in errors[pointer].lower()
 
 
+@pytest.mark.parametrize(("item", "message"), [
+    ("1", "Not a number: a string."),
+    ({}, "Not a number: an object."),
+    (None, "Not a number: null."),
+    (True, "Not a number: a boolean."),
+    ([1], "Nested arrays are not accepted: give a flat array of numbers."),
+    (10**400, "Number out of the floating-point range."),
+])
+def test_element_messages_word_for_word(item, message):
+    # The messages are sentences a client shows as they are: capital first letter, full stop.
+    assert errors_of(altitude=[1.0, item]) == [{"pointer": "/altitude/1", "message": message}]
+
+
+def test_at_most_ten_bad_elements_are_reported():
+    # The contract of every list of offenders (README, errors): the first ten, in order.
+    errors = errors_of(altitude=["x"] * 12)
+    assert [e["pointer"] for e in errors] == [f"/altitude/{i}" for i in range(10)]
+
+
+class Bounded(ma.Schema):
+    count = Number(minimum=1, maximum=9)
+    fraction = Number(minimum=0, maximum=1, exclusive_minimum=True, exclusive_maximum=True)
+    speed = Quantity("speed", minimum=0, maximum=600, exclusive_minimum=True)
+
+
+@pytest.mark.parametrize(("body", "message"), [
+    ({"count": 0}, "Must be at least 1 and at most 9."),
+    ({"count": [5, 10]}, "Must be at least 1 and at most 9."),
+    ({"fraction": 1}, "Must be above 0 and below 1."),
+    ({"speed": 0}, "Must be above 0 kt and at most 600 kt."),
+    ({"speed": {"value": 400, "unit": "m/s"}}, "Must be above 0 m/s and at most 308.666666667 m/s."),
+])
+def test_range_messages_word_for_word(body, message):
+    # 600 kt = 600 * 1852 / 3600 m/s = 308.666... m/s (the knot is 1852 m per hour, exact), shown to 12 digits.
+    with pytest.raises(ma.ValidationError) as err:
+        Bounded().load(body)
+    assert [e["message"] for e in flatten_messages(err.value.messages)] == [message]
+
+
 def test_range_checks_point_at_elements():
     errors = errors_of(speed=[100, 0, -5, 20])
     assert [e["pointer"] for e in errors] == ["/speed/1", "/speed/2"]
