@@ -41,6 +41,17 @@ def aerodrome_by_qfe(elevation, qfe):
     return altimetry.pressure_altitude_of_aerodrome(elevation, qfe=qfe)
 
 
+CALIBRATION_IAS, CALIBRATION_CAS = (50, 100), (52, 101)  # a calibration table of whole numbers [m/s]
+
+
+def cas_by_calibration(ias):
+    return asp.ias_to_cas(ias, CALIBRATION_IAS, CALIBRATION_CAS)
+
+
+def ias_by_calibration(cas):
+    return asp.cas_to_ias(cas, CALIBRATION_IAS, CALIBRATION_CAS)
+
+
 BUFFET_MACH, BUFFET_CL = (1, 2), (2, 1)  # a table of whole numbers: Mach 1 to 2, CL 2 to 1
 
 
@@ -97,6 +108,7 @@ INTEGRAL = [
     (turn_by_bank, (100, 1)), (turn_by_load_factor, (100, 2)), (turn_by_rate, (100, 1)),
     (buffet_cl_at, (1,)), (buffet_margins_at, (200000, 60, 1, 30000, 1)),
     (schedule.limited_speed_schedule, (150, 1, 30000, 250, 1000, 128, 3048)),
+    (cas_by_calibration, (75,)), (ias_by_calibration, (75,)),
 ]
 
 
