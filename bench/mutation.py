@@ -304,6 +304,11 @@ def report(work: Path, target: str, seconds: float | None) -> int:
         "*", "") and n not in generated]
     if stale:
         print(f"  equivalent entries no longer generated (the code moved): {len(stale)}")
+    changed = [n for n in listed if equivalent[n]["diff"].strip() != show(work, n).strip()]
+    if changed:
+        print(f"  LISTED ENTRIES WHOSE MUTANT NOW PLANTS ANOTHER CHANGE (the code moved; check them): {len(changed)}")
+        for name in sorted(changed):
+            print(f"    {name}")
     unchecked = [n for n, s in alive.items() if s == "not checked"]
     if unchecked:
         print(f"  NOT CHECKED: {len(unchecked)} mutants (the run stopped early, or its stats step failed); "
