@@ -14,6 +14,8 @@ Usage (from the repository root, with the mutation extra: pip install -c constra
     nice -n 19 .venv/bin/python -m bench.mutation                 # service/physics/ (default)
     nice -n 19 .venv/bin/python -m bench.mutation --target units  # service/units.py only
     nice -n 19 .venv/bin/python -m bench.mutation --target shared # service/units.py and the api's shared modules
+    nice -n 19 .venv/bin/python -m bench.mutation --sample 160 --per-module 20  # a seeded sample, every module in it
+    nice -n 19 .venv/bin/python -m bench.mutation --recheck       # the survivors against the current tests
     .venv/bin/python -m bench.mutation --report-only              # the last run's score and survivors again
 
 The run happens in a copy of the repository under bench/results/mutation-<target>/ (ignored by git), so the working
