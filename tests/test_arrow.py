@@ -253,3 +253,27 @@ def test_python_calls_do_not_grow_with_points(client, path):
 def test_errors_stay_problem_documents(client):
     response = post(client, "/v1/atmosphere", {"altitude": True}, {"Accept": ARROW})
     assert response.status_code == 422 and response.mimetype == "application/problem+json"
+
+
+@pytest.mark.parametrize("accept", ["application/json", "text/csv", ARROW, arrow.PARQUET])
+def test_an_unforeseen_non_finite_output_is_a_422_in_every_format(client, monkeypatch, accept):
+    # The safety net of outputs.Result (README, errors): an output that is not finite where no null_where made it
+    # null is a no-solution 422, in tables as in JSON, never an empty cell or an Arrow NaN. No valid input makes
+    # the turn relations overflow, so the physics the endpoint calls is replaced by one that does; the call is
+    # counted, so that a change in what the endpoint calls fails here rather than passing without the check.
+    from service.api.lift import turn as turn_api
+
+    real, calls = turn_api.level_turn, []
+
+    def overflowing(*args, **kwargs):
+        calls.append(1)
+        turn = real(*args, **kwargs)
+        return turn._replace(turn_rate=np.where(np.arange(np.size(turn.turn_rate)) == 1, np.inf,
+                                                turn.turn_rate).reshape(np.shape(turn.turn_rate)))
+
+    monkeypatch.setattr(turn_api, "level_turn", overflowing)
+    response = post(client, "/v1/lift/turn", {"tas": [150, 200], "bank_angle": 30, "altitude": 5000},
+                    {"Accept": accept})
+    assert calls and response.status_code == 422, response.status_code
+    doc = response.get_json()
+    assert doc["type"] == "/problems/no-solution" and doc["field"] == "turn_rate" and doc["indices"] == [1]
