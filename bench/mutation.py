@@ -285,7 +285,8 @@ def report(work: Path, target: str, seconds: float | None) -> int:
     killed = sum(1 for s in statuses.values() if s in ("killed", "timeout", "segfault", "caught by type check"))
     alive = {n: s for n, s in statuses.items() if n not in equivalent and s not in (
         "killed", "timeout", "segfault", "caught by type check")}
-    listed = [n for n, s in statuses.items() if n in equivalent and s not in ("killed", "timeout", "segfault")]
+    listed = [n for n, s in statuses.items()
+              if n in equivalent and s not in ("killed", "timeout", "segfault", "not checked")]
     checked = sum(1 for s in statuses.values() if s != "not checked")
     denominator = checked - len(listed)
     score = killed / denominator if denominator else 0.0
@@ -313,7 +314,7 @@ def report(work: Path, target: str, seconds: float | None) -> int:
         print(f"  LISTED ENTRIES WHOSE MUTANT NOW PLANTS ANOTHER CHANGE (the code moved; check them): {len(changed)}")
         for name in sorted(changed):
             print(f"    {name}")
-    unchecked = [n for n, s in alive.items() if s == "not checked"]
+    unchecked = [n for n, s in statuses.items() if s == "not checked"]
     if unchecked:
         print(f"  NOT CHECKED: {len(unchecked)} mutants (the run stopped early, or its stats step failed); "
               "run again to go on")
