@@ -52,7 +52,8 @@ def test_inverse_matches_the_numerical_hypsometric_integral(h, dT):
 
 
 #: The seven layers of the standard atmosphere to 84 852 m: base [m], base temperature [K], lapse rate [K/m]
-#: (ICAO Doc 7488/3, table D; U.S. Standard Atmosphere 1976, table 4).
+#: (the layer bases and gradients of ICAO Doc 7488/3 and the U.S. Standard Atmosphere 1976, typed here; each base
+#: temperature follows from 288.15 K and the gradients below it).
 LAYERS_7488 = ((0.0, 288.15, -0.0065), (11_000.0, 216.65, 0.0), (20_000.0, 216.65, 0.0010),
                (32_000.0, 228.65, 0.0028), (47_000.0, 270.65, 0.0), (51_000.0, 270.65, -0.0028),
                (71_000.0, 214.65, -0.0020))
