@@ -51,6 +51,13 @@ def test_406_only_when_nothing_offered_is_acceptable_and_it_says_what_is(client,
             in doc["detail"])
 
 
+def test_the_406_echoes_the_accept_header_it_refused(client):
+    # The wording (README, errors): what the endpoint answers, and the client's own Accept header, quoted.
+    doc = assert_problem(post(client, "/v1/atmosphere", BODY, headers={"Accept": "image/png"}), 406)
+    assert doc["detail"] == ("This endpoint answers application/json, text/csv, application/vnd.apache.arrow.stream, "
+                             "application/vnd.apache.parquet (text in UTF-8); Accept was 'image/png'.")
+
+
 def test_a_long_accept_header_is_not_echoed_whole(client):
     accept = "application/x-" + "y" * 5000
     doc = assert_problem(post(client, "/v1/atmosphere", BODY, headers={"Accept": accept}), 406)

@@ -478,3 +478,9 @@ def test_nesting_deeper_than_the_parsers_take_is_a_422_that_says_so(client, dept
     doc = assert_problem(client.post("/v1/atmosphere", data=body, content_type="application/json"), 422, "")
     assert doc["errors"] == [{"pointer": "", "message": "The body nests arrays or objects deeper than 1024 levels; "
                                                         "qbar's inputs nest three levels at most."}]
+
+
+def test_array_lengths_that_differ_are_named_in_the_detail(client):
+    doc = assert_problem(client.post("/v1/atmosphere", json={"altitude": [0, 1000], "isa_deviation": [0, 5, 7]}), 422)
+    assert doc["detail"] == ("Array lengths differ: altitude has 2, isa_deviation has 3; give equal lengths or "
+                             "length 1.")

@@ -54,6 +54,13 @@ def test_an_output_unit_that_applies_to_nothing_is_refused(client, path, body, k
     assert "No output of this answer is" in doc["errors"][0]["message"]
 
 
+def test_the_unused_output_unit_message_word_for_word(client):
+    doc = assert_problem(post(client, "/v1/atmosphere", {"altitude": 0, "isa_deviation": 0, "outputs": ["pressure"],
+                                                         "output_units": {"speed": "kt"}}), 422, "/output_units/speed")
+    assert doc["errors"] == [{"pointer": "/output_units/speed", "message": "No output of this answer is a speed: leave "
+                              "it out, or ask for an output it applies to (`outputs`)."}]
+
+
 def test_the_spec_documents_weight_as_a_mass(client):
     spec = client.get("/openapi.json").json["components"]["schemas"]
     # one output type for every dimension (QuantityOut: the Python client's model count), its unit a string
