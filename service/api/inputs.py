@@ -160,11 +160,14 @@ def count_points(data: dict, axes: tuple[str, ...]) -> int:
     return max(lengths)
 
 
-def check_point_limit(points: int) -> None:
+def check_point_limit(points: int, counted: str = "") -> None:
+    """The 413 when ``points`` (the request's worth, ``counted`` says how when it is not the plain count)
+    is over QBAR_MAX_POINTS."""
     limit = current_app.config["QBAR_MAX_POINTS"]
     if points > limit:
+        how = f" ({counted})" if counted else ""
         raise Problem("payload-too-large",
-                      f"The request asks for {points} points; the limit is {limit} points per request "
+                      f"The request asks for {points} points{how}; the limit is {limit} points per request "
                       "(QBAR_MAX_POINTS).", extra={"limit": limit})
 
 
@@ -202,6 +205,12 @@ class ComputeSchema(RuleSchema):
         ordered = True
 
     OUTPUTS: dict | tuple[str, ...] = ()
+
+    def points_worth(self, data: dict, points: int) -> tuple[int, str]:
+        """What the point limit counts for a raw (not yet loaded) request of ``points`` points, and how it
+        was counted (for the 413; "" for the plain count). One row of the answer per point, unless a schema
+        whose answer has more rows per point says otherwise (lift.stall: its speed factors)."""
+        return points, ""
 
     def __init__(self, *args, **kwargs):
         super().__init__(*args, **kwargs)
@@ -355,7 +364,7 @@ class BodyParser:
             def wrapper(*args, **kw):
                 data, table = read_request(schema)
                 try:
-                    check_point_limit(count_points(data, axes))
+                    check_point_limit(*schema.points_worth(data, count_points(data, axes)))
                     try:
                         loaded = schema.load(data)
                     except ma.ValidationError as err:

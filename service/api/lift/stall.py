@@ -4,7 +4,7 @@ from __future__ import annotations
 
 import marshmallow as ma
 
-from service.api import air, examples
+from service.api import air, examples, ranges
 from service.api.air import Air
 from service.api.base import COMPUTE_PROBLEMS
 from service.api.fields import Number, Quantity, parse_numbers
@@ -108,7 +108,9 @@ class LiftStallRequest(ComputeSchema):
     bank_angle = BANK_ANGLE
     speed_factors = SpeedFactors(metadata={
         "description": "Multiples of the stall speed at this load factor, e.g. [1.13, 1.23, 1.3] (not a grid axis; "
-                       f"at most {MAX_SPEED_FACTORS}); each gives an entry of `multiples`.", "example": [1.13, 1.3]})
+                       f"at most {MAX_SPEED_FACTORS}); each gives an entry of `multiples`. Each factor adds a row "
+                       "per point to the answer, so the point limit (QBAR_MAX_POINTS) counts points x (1 + the "
+                       "number of factors).", "example": [1.13, 1.3]})
     ias = speed_field("ias", "Optional, for `margin`: one speed of ias, cas, eas, tas, mach.")
     cas = speed_field("cas", "Optional, for `margin`.")
     eas = speed_field("eas", "Optional, for `margin`.")
@@ -116,6 +118,14 @@ class LiftStallRequest(ComputeSchema):
     mach = mach_field("Optional, for `margin`.")
     calibration = calibration_field()
     outputs = outputs_field(STALL_OUTPUTS)
+
+    def points_worth(self, data: dict, points: int) -> tuple[int, str]:
+        """Each speed factor adds a row per point to the answer (an entry of `multiples`): the point limit
+        counts points x (1 + the number of speed factors), from the raw list's length, before anything is read."""
+        factors = ranges.length(data["speed_factors"]) if "speed_factors" in data else 0
+        if not factors:
+            return points, ""
+        return points * (1 + factors), f"{points} points x (1 + {factors} speed factors)"
 
 
 class LiftStallSpeedsOut(ma.Schema):
