@@ -2,6 +2,10 @@
 and pandas."""
 
 import io
+import os
+import subprocess
+import sys
+from pathlib import Path
 
 import numpy as np
 import orjson
@@ -33,9 +37,12 @@ def columns(n=3):
 
 
 def joined(media_type, columns, warnings) -> bytes:
-    """The writer's body: its chunks, as the server sends them one after the other."""
-    chunks = arrow.body(media_type, columns, warnings)
+    """The writer's body: its chunks, as the server sends them one after the other (once)."""
+    body = arrow.body(media_type, columns, warnings)
+    chunks = list(body)
     assert all(type(chunk) is bytes for chunk in chunks)  # what a WSGI server writes
+    assert sum(map(len, chunks)) == body.length  # its Content-Length
+    assert list(body) == []  # each chunk let go once sent
     return b"".join(chunks)
 
 
@@ -234,11 +241,13 @@ def test_406_lists_the_media_types(client):
 
 
 @pytest.mark.parametrize("path", list(BULK))
-def test_python_calls_do_not_grow_with_points(client, path):
+def test_python_calls_do_not_grow_with_points(app, path):
     """10 points and 100,000 points cost the same number of Python function calls, as Arrow, but for the
     padding: the stream writer hands each buffer, and each padding to 8 bytes, to the body's Python sink,
     and whether a buffer of booleans or strings needs padding depends on its length (a few calls per
     column at most; a call per point would be 100,000)."""
+    app.config["QBAR_MAX_POINTS"] = 400_000  # the stall request: 100,000 points x (1 + 3 speed factors)
+    client = app.test_client()
     small, large = BULK[path](10), BULK[path](100_000)
     headers = {"Accept": ARROW}
     post(client, path, small, headers)
@@ -253,3 +262,20 @@ def test_python_calls_do_not_grow_with_points(client, path):
 def test_errors_stay_problem_documents(client):
     response = post(client, "/v1/atmosphere", {"altitude": True}, {"Accept": ARROW})
     assert response.status_code == 422 and response.mimetype == "application/problem+json"
+
+
+def test_an_arrow_answer_does_not_import_pandas():
+    """pa.array looks for pandas and imports it when installed (a test-only dependency here, 50 MB in a worker):
+    the answer's arrays are built from their buffers instead. A fresh interpreter, as a worker is."""
+    code = ("import json, sys\n"
+            "from service import create_app\n"
+            "client = create_app({'TESTING': True}).test_client()\n"
+            "body = {'weight': [15000, 23000], 'wing_area': 61, 'cl_max': 1.6, 'altitude': [0, 3000],\n"
+            "        'speed_factors': [0.9, 1.3], 'cas': [80, 180]}\n"
+            "r = client.post('/v1/lift/stall', data=json.dumps(body), content_type='application/json',\n"
+            "                headers={'Accept': 'application/vnd.apache.arrow.stream'})\n"
+            "assert r.status_code == 200 and r.data, r.status_code\n"
+            "print('pandas' in sys.modules)\n")
+    out = subprocess.run([sys.executable, "-c", code], capture_output=True, text=True, check=True,
+                         cwd=Path(__file__).resolve().parent.parent, env=dict(os.environ, QBAR_LOG_LEVEL="warning"))
+    assert out.stdout.strip() == "False", out.stderr[-2000:]

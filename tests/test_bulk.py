@@ -4,8 +4,10 @@ import csv
 import io
 
 import numpy as np
+import orjson
 import pytest
 
+from service.api import outputs
 from tests.helpers import count_calls, post
 
 #: (path, body builder for n points): one representative bulk request per compute endpoint.
@@ -85,8 +87,10 @@ BULK = {
 
 @pytest.mark.parametrize("path", list(BULK))
 @pytest.mark.parametrize("accept", ["application/json", "text/csv"])
-def test_python_calls_do_not_grow_with_points(client, path, accept):
+def test_python_calls_do_not_grow_with_points(app, path, accept):
     """10 points and 100,000 points cost the same number of Python function calls."""
+    app.config["QBAR_MAX_POINTS"] = 400_000  # the stall request: 100,000 points x (1 + 3 speed factors)
+    client = app.test_client()
     small, large = BULK[path](10), BULK[path](100_000)
     headers = {"Accept": accept}
     post(client, path, small, headers)  # warm caches (imports, url map)
@@ -135,3 +139,17 @@ def test_gzip_when_accepted(client):
     assert r.headers["Content-Encoding"] == "gzip"
     small = post(client, "/v1/atmosphere", {"altitude": 0}, {"Accept-Encoding": "gzip"})
     assert "Content-Encoding" not in small.headers
+
+
+@pytest.mark.parametrize("path", list(BULK))
+@pytest.mark.parametrize("extra", [{}, {"grid": True}, {"significant_digits": 6}])
+def test_json_written_leaf_by_leaf_is_the_document(client, monkeypatch, path, extra):
+    """An array answer is written one output at a time (outputs.Result.json_chunks, for memory): the same bytes
+    as the whole document in one orjson call, nested outputs, warnings and a grid's inputs included."""
+    body = BULK[path](3) | extra
+    chunked = post(client, path, body)
+    assert chunked.status_code == 200, chunked.get_data(as_text=True)[:300]
+    assert chunked.headers["Content-Length"] == str(len(chunked.data))
+    monkeypatch.setattr(outputs.Result, "json_chunks",
+                        lambda self: orjson.dumps(self.document(), option=orjson.OPT_SERIALIZE_NUMPY))
+    assert post(client, path, body).data == chunked.data
