@@ -255,8 +255,36 @@ def _csv_numbers(column: pa.ChunkedArray) -> tuple[np.ndarray | None, list[tuple
     """(float64 values, []) for a column of finite numbers; else (None, [(row, message), ...])."""
     kind = column.type
     if (pa.types.is_integer(kind) or pa.types.is_floating(kind)) and column.null_count == 0:
-        return _finite(np.array(column.to_numpy(), dtype=np.float64))
+        return _finite(_float64(column))
     return None, _bad_cells(column)
+
+
+def _float64(column: pa.ChunkedArray) -> np.ndarray:
+    """A numeric column without nulls as a new float64 array (integers rounded to the nearest double, as NumPy
+    does), read from its buffer: ``to_numpy`` looks for pandas and imports it when installed (50 MB), and
+    ``cast`` loads pyarrow.compute (9 MB)."""
+    if not len(column):
+        return np.empty(0)
+    array = column.chunk(0) if column.num_chunks == 1 else pa.concat_arrays(column.chunks)
+    kind = array.type
+    letter = "f" if pa.types.is_floating(kind) else "i" if pa.types.is_signed_integer(kind) else "u"
+    dtype = np.dtype(f"<{letter}{kind.bit_width // 8}")
+    values = np.frombuffer(array.buffers()[1], dtype=dtype, count=len(array), offset=array.offset * dtype.itemsize)
+    return values.astype(np.float64)  # a copy: the body's buffer is read-only
+
+
+def _null_rows(column: pa.ChunkedArray) -> np.ndarray:
+    """The rows of a column that are null (from the validity bitmaps)."""
+    flags, start = [], 0
+    for chunk in column.chunks:
+        bitmap = chunk.buffers()[0]
+        if chunk.null_count and bitmap is not None:
+            bits = np.unpackbits(np.frombuffer(bitmap, dtype=np.uint8), bitorder="little")
+            flags.append(start + np.flatnonzero(~bits[chunk.offset:chunk.offset + len(chunk)].astype(bool)))
+        elif chunk.null_count:  # a column of the null type: every row
+            flags.append(start + np.arange(len(chunk)))
+        start += len(chunk)
+    return np.concatenate(flags) if flags else np.empty(0, dtype=np.intp)
 
 
 def _finite(values: np.ndarray) -> tuple[np.ndarray | None, list[tuple[int, str]]]:
@@ -402,10 +430,9 @@ def _read_arrow(body: bytes, max_points: int):
 
 def _arrow_numbers(column: pa.ChunkedArray) -> tuple[np.ndarray | None, list[tuple[int, str]]]:
     if column.null_count:
-        nulls = np.flatnonzero(column.is_null().to_numpy(zero_copy_only=False))[:MAX_CELL_ERRORS]
+        nulls = _null_rows(column)[:MAX_CELL_ERRORS]
         return None, [(int(row), "Null: give a number.") for row in nulls]
-    values = np.array(column.to_numpy(), dtype=np.float64) if len(column) else np.empty(0)
-    return _finite(values)
+    return _finite(_float64(column))
 
 
 # --- the spec ---------------------------------------------------------------------------------------
