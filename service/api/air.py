@@ -193,7 +193,7 @@ class Air:
 
     @lazy
     def nu(self):
-        return atm.kinematic_viscosity(self.T, self.rho)
+        return atm.kinematic_viscosity(self.T, self.rho, self.mu)  # mu once, for both viscosities
 
     @lazy
     def density_altitude(self):

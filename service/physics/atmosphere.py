@@ -529,7 +529,7 @@ def dynamic_viscosity(T):
     return mu
 
 
-def kinematic_viscosity(T, rho):
+def kinematic_viscosity(T, rho, mu=None):
     r"""Kinematic viscosity, dynamic viscosity over density.
 
     .. math:: \nu = \frac{\mu(T)}{\rho}
@@ -540,6 +540,8 @@ def kinematic_viscosity(T, rho):
         Static temperature [K].
     rho : float or array_like
         Density [kg/m^3].
+    mu : float or array_like, optional
+        The dynamic viscosity at ``T`` when the caller has it already (:func:`dynamic_viscosity`).
 
     Returns
     -------
@@ -559,7 +561,7 @@ def kinematic_viscosity(T, rho):
     ----------
     .. [1] ICAO Doc 7488/3 (1993).
     """
-    return np.divide(dynamic_viscosity(T), rho)
+    return np.divide(dynamic_viscosity(T) if mu is None else mu, rho)
 
 
 def ratios(p, T, rho):
