@@ -62,6 +62,7 @@ def create_app(config: dict | None = None) -> Flask:
     app.config.setdefault("COMPRESS_ALGORITHM", ["gzip"])
     app.config.setdefault("COMPRESS_MIN_SIZE", 4096)
     app.config.setdefault("COMPRESS_LEVEL", 1)  # fast: bulk answers are tens of MB
+    app.config.setdefault("COMPRESS_ALGORITHM_STREAMING", ["gzip"])  # the JSON array answers are streamed
     Compress(app)
     api = Api(app)
     for blp in BLUEPRINTS:

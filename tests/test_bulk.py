@@ -1,6 +1,7 @@
 """Bulk requests: the request path does no Python work per point, grids label every point, CSV mirrors JSON."""
 
 import csv
+import gzip
 import io
 
 import numpy as np
@@ -8,7 +9,7 @@ import orjson
 import pytest
 
 from service.api import outputs
-from tests.helpers import count_calls, post
+from tests.helpers import assert_problem, count_calls, post
 
 #: (path, body builder for n points): one representative bulk request per compute endpoint.
 BULK = {
@@ -143,13 +144,31 @@ def test_gzip_when_accepted(client):
 
 @pytest.mark.parametrize("path", list(BULK))
 @pytest.mark.parametrize("extra", [{}, {"grid": True}, {"significant_digits": 6}])
-def test_json_written_leaf_by_leaf_is_the_document(client, monkeypatch, path, extra):
-    """An array answer is written one output at a time (outputs.Result.json_chunks, for memory): the same bytes
+def test_json_streamed_is_the_document(client, monkeypatch, path, extra):
+    """An array answer is streamed one output at a time (outputs.Result.json_chunks, for memory): the same bytes
     as the whole document in one orjson call, nested outputs, warnings and a grid's inputs included."""
     body = BULK[path](3) | extra
-    chunked = post(client, path, body)
-    assert chunked.status_code == 200, chunked.get_data(as_text=True)[:300]
-    assert chunked.headers["Content-Length"] == str(len(chunked.data))
+    streamed = post(client, path, body)
+    assert streamed.status_code == 200, streamed.get_data(as_text=True)[:300]
+    assert streamed.is_streamed and "Content-Length" not in streamed.headers  # chunked transfer encoding
     monkeypatch.setattr(outputs.Result, "json_chunks",
-                        lambda self: orjson.dumps(self.document(), option=orjson.OPT_SERIALIZE_NUMPY))
-    assert post(client, path, body).data == chunked.data
+                        lambda self: [orjson.dumps(self.document(), option=orjson.OPT_SERIALIZE_NUMPY)])
+    assert post(client, path, body).data == streamed.data
+
+
+def test_a_stream_begins_only_once_every_output_is_checked(client):
+    """A value finite in SI but not in the output unit (a wing area of 3.4e307 m2 is beyond the float range in
+    ft2) is a 422 before the answer begins, as when the answer was written whole (a stream cannot turn into a
+    422): the outputs are converted and checked before the first byte."""
+    body = {"solve_for": "wing_area", "cl": [0.5, 1e-306], "weight": 21000, "mach": 0.6, "altitude": 35000}
+    assert post(client, "/v1/lift/solve", body).status_code == 200
+    response = post(client, "/v1/lift/solve", body | {"output_units": {"area": "ft2"}})
+    problem = assert_problem(response, 422, "/wing_area")
+    assert "wing_area is not a finite number here" in problem["detail"]
+
+
+def test_a_streamed_answer_is_gzipped_when_accepted(client):
+    body = BULK["/v1/atmosphere"](3)
+    r = post(client, "/v1/atmosphere", body, {"Accept-Encoding": "gzip"})
+    assert r.headers["Content-Encoding"] == "gzip"
+    assert orjson.loads(gzip.decompress(r.data)) == post(client, "/v1/atmosphere", body).json

@@ -107,30 +107,6 @@ def round_significant(value, digits: int):
     return np.where(exact, rounded, value)
 
 
-class _Chunks:
-    """A body built in pieces: the punctuation and names gathered into one chunk, each output's numbers a
-    chunk of their own (no copy). As many chunks for 10 points as for 100,000."""
-
-    def __init__(self):
-        self._chunks: list[bytes] = []
-        self._small = bytearray()
-
-    def add(self, data: bytes):
-        self._small += data
-
-    def add_chunk(self, data: bytes):
-        if self._small:
-            self._chunks.append(bytes(self._small))
-            self._small.clear()
-        self._chunks.append(data)
-
-    def chunks(self) -> list[bytes]:
-        if self._small:
-            self._chunks.append(bytes(self._small))
-            self._small.clear()
-        return self._chunks
-
-
 class Result:
     """The outputs of one request, in order, with warnings and (for grids) the inputs."""
 
@@ -192,7 +168,7 @@ class Result:
             return [self._walk(value, f"{path}.{index}", visit) for index, value in enumerate(node)]
         return node  # a label (solved_for)
 
-    def _leaf(self, path: str, leaf: Leaf, check: bool = True, json: bool = True):
+    def _leaf(self, path: str, leaf: Leaf, check: bool = True, json: bool = True, rounded: bool = True):
         """One output in the caller's unit: a Python scalar for one point (plain arithmetic, no NumPy call),
         else a C-contiguous array of the points; ``{"value", "unit"}`` for JSON, else ``(values, unit)``.
 
@@ -218,7 +194,7 @@ class Result:
         if check:
             self._check_finite(path, value)
         digits = self.inputs.significant_digits
-        if digits is not None:
+        if digits is not None and rounded:
             value = round_significant(value, digits)
         if json:
             return value if unit is None else {"value": value, "unit": unit}
@@ -265,53 +241,75 @@ class Result:
         return doc
 
     def json_response(self) -> Response:
-        """One point: the document in one orjson call. Arrays: written leaf by leaf (:meth:`json_chunks`)."""
+        """One point: the document in one orjson call. Arrays: checked, then streamed (:meth:`json_chunks`)."""
         if self.shape == ():
-            body = orjson.dumps(self.document(), option=_JSON_OPTIONS)
-        else:
-            body = self.json_chunks()
-        return Response(body, status=200, content_type="application/json")
-
-    def json_chunks(self) -> list[bytes]:
-        """The bytes of ``orjson.dumps(self.document())``, as a list of chunks written one leaf at a time.
-
-        Each output is converted to its unit, checked, written and let go before the next: the answer's text
-        is never held beside a document of every converted array (a third of the peak memory of a large
-        answer). orjson writes a dict as ``{"key":value,...}`` with no space, so the pieces joined are the
-        document's bytes exactly; a list of bytes is a WSGI body whose length werkzeug sums for Content-Length.
-        """
-        out = _Chunks()
-        out.add(b"{")
-        for key, node in self.tree.items():
-            out.add(orjson.dumps(key) + b":")
-            self._write(out, node, key, self._leaf)
-            out.add(b",")
-        out.add(b'"warnings":' + orjson.dumps(self.warnings))
+            return Response(orjson.dumps(self.document(), option=_JSON_OPTIONS), status=200,
+                            content_type="application/json")
+        # Every output converted and checked (and every unit noted) before the first byte: once the answer has
+        # begun, a 422 can no longer be sent.
+        self._walk(self.tree, "", self._check)
         if self.inputs.grid:
-            out.add(b',"inputs":')
-            self._write(out, self._input_leaves(), "", partial(self._leaf, check=False))
-        out.add(b"}")
-        return out.chunks()
+            self._walk(self._input_leaves(), "", partial(self._check, check=False))
+        return Response(self.json_chunks(), status=200, content_type="application/json")
 
-    def _write(self, out: _Chunks, node, path: str, visit):
-        """JSON of ``node`` as :meth:`_walk` would make it (each Leaf through ``visit``), into ``out``."""
+    def _check(self, path: str, leaf: Leaf, check: bool = True) -> None:
+        """Output ``path`` converted to its unit (the unit noted as used) and checked (a 422), then let go."""
+        self._leaf(path, leaf, check, json=False, rounded=False)
+
+    def json_chunks(self):
+        """The bytes of ``orjson.dumps(self.document())``, written one output at a time as the server sends them.
+
+        Each output is converted to its unit, written and let go before the next: a large answer is held as
+        its arrays only, never also as its text (which is two to three times their size). orjson writes a dict
+        as ``{"key":value,...}`` with no space, so the pieces joined are the document's bytes exactly. The
+        punctuation and names between two outputs go out as one chunk; the server sends the chunks with
+        chunked transfer encoding (the length is known only at the end).
+        """
+        small = bytearray()
+        for piece, large in self._pieces():
+            if not large:
+                small += piece
+                continue
+            if small:
+                yield bytes(small)
+                small.clear()
+            yield piece
+        if small:
+            yield bytes(small)
+
+    def _pieces(self):
+        """(bytes, large) of the document in order: ``large`` for an output's numbers."""
+        visit = partial(self._leaf, check=False)  # checked before (json_response)
+        yield b"{", False
+        for key, node in self.tree.items():
+            yield orjson.dumps(key) + b":", False
+            yield from self._node_pieces(node, key, visit)
+            yield b",", False
+        yield b'"warnings":' + orjson.dumps(self.warnings), False
+        if self.inputs.grid:
+            yield b',"inputs":', False
+            yield from self._node_pieces(self._input_leaves(), "", visit)
+        yield b"}", False
+
+    def _node_pieces(self, node, path: str, visit):
+        """The pieces of ``node`` as :meth:`_walk` would make it (each Leaf through ``visit``)."""
         if isinstance(node, Leaf):
-            out.add_chunk(orjson.dumps(visit(path, node), option=_JSON_OPTIONS))
+            yield orjson.dumps(visit(path, node), option=_JSON_OPTIONS), True
         elif isinstance(node, dict):
-            out.add(b"{")
+            yield b"{", False
             for index, (key, value) in enumerate(node.items()):
-                out.add(b"," + orjson.dumps(key) + b":" if index else orjson.dumps(key) + b":")
-                self._write(out, value, f"{path}.{key}" if path else key, visit)
-            out.add(b"}")
+                yield (b"," if index else b"") + orjson.dumps(key) + b":", False
+                yield from self._node_pieces(value, f"{path}.{key}" if path else key, visit)
+            yield b"}", False
         elif isinstance(node, (list, tuple)):
-            out.add(b"[")
+            yield b"[", False
             for index, value in enumerate(node):
                 if index:
-                    out.add(b",")
-                self._write(out, value, f"{path}.{index}", visit)
-            out.add(b"]")
+                    yield b",", False
+                yield from self._node_pieces(value, f"{path}.{index}", visit)
+            yield b"]", False
         else:
-            out.add(orjson.dumps(node, option=_JSON_OPTIONS))  # a label (solved_for)
+            yield orjson.dumps(node, option=_JSON_OPTIONS), False  # a label (solved_for)
 
     def columns(self) -> list[Column]:
         """The answer as columns (CSV, Arrow): inputs first (``input.<name>``), then every output under its
