@@ -14,7 +14,7 @@ import pyarrow as pa
 import pyarrow.parquet as pq
 import pytest
 
-from service.api import arrow
+from service.api import arrow, outputs
 from service.api.arrow import Column
 
 WARNINGS = [{"field": "density_altitude", "message": "Outside the model's range.", "count": 1, "indices": [2]}]
@@ -279,3 +279,33 @@ def test_an_arrow_answer_does_not_import_pandas():
     out = subprocess.run([sys.executable, "-c", code], capture_output=True, text=True, check=True,
                          cwd=Path(__file__).resolve().parent.parent, env=dict(os.environ, QBAR_LOG_LEVEL="warning"))
     assert out.stdout.strip() == "False", out.stderr[-2000:]
+
+
+def test_a_column_made_as_it_is_sent_replaces_its_stand_in():
+    """A column converted to the caller's unit only when it is sent (Column.later): the stand-in (its SI values)
+    fixes the stream's header, the values made later fill it; the same bytes as the values given at once."""
+    stand_in = np.array([0.0, 1000.0, 2000.0])
+    null = np.array([False, True, False])
+
+    def later():
+        return stand_in / 0.3048
+
+    columns = [Column("input.altitude", "m", stand_in), Column("pressure_altitude", "ft", stand_in, null, later),
+               Column("pressure_ratio", None, np.array([1.0, 0.9, 0.8]))]
+    body = joined(arrow.ARROW_STREAM, columns, WARNINGS)
+    assert read_stream(body).column("pressure_altitude [ft]").to_pylist() == [0.0, None, 2000.0 / 0.3048]
+    at_once = [column._replace(values=later(), later=None) if column.later else column for column in columns]
+    assert body == joined(arrow.ARROW_STREAM, at_once, WARNINGS)
+    parquet = pq.read_table(io.BytesIO(joined(arrow.PARQUET, columns, WARNINGS)))
+    assert parquet.column("pressure_altitude [ft]").to_pylist() == [0.0, None, 2000.0 / 0.3048]
+
+
+@pytest.mark.parametrize(("path", "body"), CASES)
+def test_columns_converted_as_sent_are_the_same_bytes(client, monkeypatch, path, body):
+    """The answers' columns in other units than SI are converted as they are sent (for memory): the same stream as
+    when every column was converted before the writing began."""
+    sent = post(client, path, body, {"Accept": ARROW})
+    assert sent.status_code == 200, sent.get_data(as_text=True)[:300]
+    columns = outputs.Result.columns
+    monkeypatch.setattr(outputs.Result, "columns", lambda self, later=False: columns(self))
+    assert post(client, path, body, {"Accept": ARROW}).data == sent.data

@@ -46,6 +46,9 @@ class Column(NamedTuple):
     unit: str | None
     values: object
     null: object = None
+    #: A function giving the values, called only when the column is sent (:class:`Body`); ``values`` then
+    #: stand in for them in the stream's header (float64 of the same length).
+    later: object = None
 
 
 def header(name: str, unit: str | None) -> str:
@@ -157,16 +160,25 @@ class _Chunks:
 class Body:
     """A WSGI body of chunks of bytes or Arrow buffers, each copied into bytes (the server writes bytes) only
     when it is sent, and let go once sent: a large answer is held once, as its arrays, never also as its bytes.
-    ``length``: the body's length in bytes, for Content-Length."""
+    ``later``: chunk index -> the Column whose values (made then) replace that chunk, a stand-in of the same
+    length. ``length``: the body's length in bytes, for Content-Length."""
 
-    def __init__(self, chunks: list):
+    def __init__(self, chunks: list, later: dict | None = None):
         self._chunks = chunks[::-1]
+        self._later = later or {}
         self.length = sum(len(chunk) for chunk in chunks)
 
     def __iter__(self):
-        chunks = self._chunks
+        chunks, later, index = self._chunks, self._later, 0
         while chunks:
             chunk = chunks.pop()
+            column = later.pop(index, None)
+            index += 1
+            if column is not None:
+                data = _array(column.later(), column.null).buffers()[1]
+                if data.size != chunk.size:
+                    raise RuntimeError(f"column {column.name}: {data.size} bytes where its stand-in had {chunk.size}")
+                chunk = data
             yield chunk if type(chunk) is bytes else chunk.to_pybytes()
 
 
@@ -224,5 +236,26 @@ WRITERS = {ARROW_STREAM: stream_chunks, PARQUET: parquet_chunks}
 
 
 def body(media_type: str, columns: Iterable[Column], warnings: list[dict]) -> Body:
-    """The answer's body in ``media_type`` (a key of WRITERS), a WSGI iterable of known length."""
-    return Body(WRITERS[media_type](record_batch(columns, warnings)))
+    """The answer's body in ``media_type`` (a key of WRITERS), a WSGI iterable of known length.
+
+    An Arrow stream's columns with ``later`` values are written with their stand-ins, then each stand-in's data
+    buffer is replaced by the values as it is sent: the stream's header depends only on the columns' types,
+    lengths and nulls. Parquet (which encodes the values) gets the values at once."""
+    columns = list(columns)
+    if media_type != ARROW_STREAM:
+        columns = [c._replace(values=c.later(), later=None) if c.later is not None else c for c in columns]
+        return Body(WRITERS[media_type](record_batch(columns, warnings)))
+    batch = record_batch(columns, warnings)
+    chunks = stream_chunks(batch)
+    if all(c.later is None for c in columns):
+        return Body(chunks)
+    # The writer hands over the non-empty buffers of each column in order, each as the buffer itself.
+    expected = [(index, number, buffer) for index, array in enumerate(batch.columns)
+                for number, buffer in enumerate(array.buffers()) if buffer is not None and buffer.size]
+    handed = [k for k, chunk in enumerate(chunks) if type(chunk) is pa.Buffer]
+    if len(handed) != len(expected) or any(chunks[k].address != buffer.address or chunks[k].size != buffer.size
+                                           for k, (_, _, buffer) in zip(handed, expected, strict=True)):
+        raise RuntimeError("the Arrow stream writer did not hand over the columns' buffers as expected")
+    later = {k: columns[index] for k, (index, number, _) in zip(handed, expected, strict=True)
+             if number == 1 and columns[index].later is not None}
+    return Body(chunks, later)

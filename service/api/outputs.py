@@ -311,21 +311,35 @@ class Result:
         else:
             yield orjson.dumps(node, option=_JSON_OPTIONS), False  # a label (solved_for)
 
-    def columns(self) -> list[Column]:
+    def columns(self, later: bool = False) -> list[Column]:
         """The answer as columns (CSV, Arrow): inputs first (``input.<name>``), then every output under its
-        dotted name, each with its unit and where it is null."""
+        dotted name, each with its unit and where it is null.
+
+        ``later``: a column converted to another unit (or rounded) is checked here and then let go; it carries
+        its SI array as a stand-in and the means to convert it again when it is sent (api.arrow.Body), so that
+        the answer is never held twice, in SI and in the caller's units."""
         columns = []
 
         def column(prefix, check):
             def visit(path, leaf):
                 value, unit = self._leaf(prefix + path, leaf, check, json=False)
-                columns.append(Column(prefix + path, unit, np.atleast_1d(value), self._null_mask(path) if check
-                                      else None))
+                values = np.atleast_1d(value)
+                null = self._null_mask(path) if check else None
+                si = leaf.si
+                if (later and values is not si and values.dtype == np.float64 and type(si) is np.ndarray
+                        and si.dtype == np.float64 and si.shape == self.shape and si.flags.c_contiguous):
+                    columns.append(Column(prefix + path, unit, si, null, partial(self._values, prefix + path, leaf)))
+                else:
+                    columns.append(Column(prefix + path, unit, values, null))
             return visit
 
         self._walk(self._input_leaves(), "", column("input.", False))
         self._walk(self.tree, "", column("", True))
         return columns
+
+    def _values(self, path: str, leaf: Leaf) -> np.ndarray:
+        """A column's values in the caller's unit, once more (checked already by :meth:`columns`)."""
+        return np.atleast_1d(self._leaf(path, leaf, check=False, json=False)[0])
 
     def _null_mask(self, path: str):
         """Where null_where made output ``path`` null (None: nowhere)."""
@@ -352,7 +366,7 @@ class Result:
     def columnar_response(self, media_type: str) -> Response:
         """The answer as an Arrow IPC stream or a Parquet file (api.arrow): the CSV's columns, with nulls,
         units in field metadata and the warnings in the schema metadata."""
-        body = arrow.body(media_type, self.columns(), self.warnings)
+        body = arrow.body(media_type, self.columns(later=True), self.warnings)
         response = Response(body, status=200, content_type=media_type)
         response.content_length = body.length  # an iterable's length werkzeug does not know
         return self._with_warning_count(response)
