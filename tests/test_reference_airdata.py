@@ -597,16 +597,19 @@ def test_correction_against_the_pans_ops_table(client):
 
 
 def test_correction_edges_and_warning_exactly(client):
-    # Height 0: no correction; a standard day: none; a warm day: negative, with a warning naming those points.
-    answer = post_ok(client, "/v1/altimetry/temperature-correction", {"elevation": 1000, "temperature": [-20, 13.0188,
-                                                                     30, -20, 40], "altitude": [1000, 5000, 5000,
-                                                                                                3000, 2000]})
+    # Height 0: no correction; a standard day (15 degC at sea level): none; a warm day, even by half a kelvin:
+    # negative, with a warning naming exactly those points.
+    elevation, t_c = [1000, 0, 1000, 1000, 1000, 0], [-20, 15, 30, -20, 40, 15.5]
+    altitude = [1000, 5000, 5000, 3000, 2000, 3000]
+    answer = post_ok(client, "/v1/altimetry/temperature-correction", {"elevation": elevation, "temperature": t_c,
+                                                                     "altitude": altitude})
+    check(answer["correction"], [ref.cold_correction((a - e) * FT, e * FT, t + C0)
+                                 for e, t, a in zip(elevation, t_c, altitude, strict=True)], "altitude", abs_si=1e-7)
     values = answer["correction"]["value"]
-    assert values[0] == 0.0
-    assert values[1] == pytest.approx(0.0, abs=1e-6)  # 15 - 1.9812 degC: ISA at 1000 ft (the first layer's gradient)
-    assert values[2] < 0 and values[4] < 0 and values[3] > 0
-    assert answer["warnings"] == [{"field": "correction", "message": answer["warnings"][0]["message"], "count": 2,
-                                   "indices": [2, 4]}]
+    assert values[0] == 0.0 and values[1] == 0.0
+    assert values[2] < 0 and values[4] < 0 and values[5] < 0 and values[3] > 0
+    assert answer["warnings"] == [{"field": "correction", "message": answer["warnings"][0]["message"], "count": 3,
+                                   "indices": [2, 4, 5]}]
 
 
 def test_correction_refusals(client):
