@@ -413,6 +413,22 @@ def humid_air(H: float, dT: float = 0.0, dew_point: float | None = None, rh: flo
     return out
 
 
+def moist_speeds(kind: str, value: float, p: float, T: float, e: float) -> dict:
+    """:func:`speeds` in moist air of vapour pressure e [Pa]: the moist density (partial densities) in the EAS-TAS
+    relation and in q = 1/2 rho V^2; the pitot relations and the speed of sound those of dry air at T (the model the
+    service documents: the water vapour enters through the density only)."""
+    rho = moist_density(p, T, e)
+    if kind == "eas":
+        tas = value * math.sqrt(RHO0 / rho)
+        mach = tas / math.sqrt(KAPPA * R * T)
+    else:
+        dry = speeds(kind, value, p, T)
+        mach, tas = dry["mach"], dry["tas"]
+    qc = p * pitot_ratio(mach)
+    return {"cas": cas_of_qc(qc), "eas": tas * math.sqrt(rho / RHO0), "tas": tas, "mach": mach,
+            "impact_pressure": qc, "dynamic_pressure": 0.5 * rho * tas * tas}
+
+
 # --- Total air temperature (NACA Report 1135, eq. 43: Tt / T = 1 + (k-1)/2 M^2) --------------------------------------
 
 def total_air_temperature(T: float, M: float, r: float = 1.0) -> float:
@@ -422,11 +438,13 @@ def total_air_temperature(T: float, M: float, r: float = 1.0) -> float:
     return T + r * (Tt - T)
 
 
-def static_from_tat(tat: float, kind: str, value: float, p: float, r: float = 1.0) -> float:
+def static_from_tat(tat: float, kind: str, value: float, p: float, r: float = 1.0, vapour=None) -> float:
     """The static temperature whose total temperature, at the given speed and static pressure, is tat [K]: brentq
-    over T with the speed converted at each trial temperature (no closed form used)."""
+    over T with the speed converted at each trial temperature (no closed form used). ``vapour``: the vapour
+    pressure [Pa] as a function of T (moist air, :func:`moist_speeds`)."""
     def f(T):
-        return total_air_temperature(T, speeds(kind, value, p, T)["mach"], r) - tat
+        sp = speeds(kind, value, p, T) if vapour is None else moist_speeds(kind, value, p, T, vapour(T))
+        return total_air_temperature(T, sp["mach"], r) - tat
     return brentq(f, 100.0, tat + 1e-9, xtol=1e-12, rtol=1e-15, maxiter=500)
 
 

@@ -404,6 +404,11 @@ def test_tat_typed_values(client):
                                               "output_units": {"temperature": "K"}})
     assert answer["total_air_temperature"]["value"] == pytest.approx([288.15 / 0.8333, 288.15 / 0.5556], rel=1e-4)
     assert answer["ram_rise"]["value"] == pytest.approx([57.63, 230.52], abs=0.01)
+    # The zero end: at Mach 1e-6 the probe reads the static temperature (a rise of 0.2e-12 T).
+    slow = post_ok(client, "/v1/airspeed", {"mach": 1e-6, "altitude": 0, "outputs": ["total_air_temperature",
+                                                                                   "ram_rise"]})
+    check(slow["ram_rise"], 288.15 * 0.2e-12, "temperature_difference", rel=1e-9)
+    check(slow["total_air_temperature"], 288.15, "temperature", abs_si=1e-12)
     tas = post_ok(client, "/v1/airspeed", {"tas": {"value": 100, "unit": "m/s"}, "altitude": [0, 30000],
                                            "isa_deviation": [0, -20], "outputs": ["ram_rise"]})
     assert tas["ram_rise"]["value"] == pytest.approx([100**2 / (2 * 1004.7)] * 2, rel=1e-4)
@@ -425,6 +430,123 @@ def test_tat_beyond_the_isa_deviation_limit_is_a_422(client):
     response = client.post("/v1/airspeed", json={"mach": 0.5, "altitude": 0, "total_air_temperature": 180})
     assert response.status_code == 422
     assert [e["pointer"] for e in response.get_json()["errors"]] == ["/total_air_temperature"]
+
+
+# --- POST /v1/airspeed in moist air (a dew point or a relative humidity) ------------------------------------------
+
+#: (kind, value in kt or Mach, pressure altitude [ft], ISA deviation [K], humidity): each speed kind, both forms.
+MOIST_SPEEDS = [("cas", 250.0, 2000.0, 20.0, {"relative_humidity": 90.0}),
+                ("eas", 180.0, 0.0, 20.0, {"dew_point": 295.15}),
+                ("tas", 300.0, 10000.0, 0.0, {"relative_humidity": 50.0}),
+                ("mach", 0.5, 5000.0, 10.0, {"dew_point": 280.0}),
+                ("eas", 320.0, 1000.0, 25.0, {"relative_humidity": 100.0})]
+
+
+def _vapour(humidity):
+    """The vapour pressure [Pa] as a function of the temperature, for a dew point [K] or a relative humidity [%]."""
+    if "dew_point" in humidity:
+        return lambda T: ref.saturation_vapour_pressure(humidity["dew_point"])
+    return lambda T: humidity["relative_humidity"] / 100.0 * ref.saturation_vapour_pressure(T)
+
+
+def _moist_row(kind, value, alt_ft, T, humidity, r=1.0):
+    """Every /v1/airspeed output [SI] in moist air at static temperature T [K]."""
+    p = ref.std_tp(alt_ft * FT)[1]
+    e = _vapour(humidity)(T)
+    out = ref.moist_speeds(kind, value if kind == "mach" else value * KT, p, T, e)
+    tat = ref.total_air_temperature(T, out["mach"], r)
+    out.update({"total_air_temperature": tat, "ram_rise": tat - T,
+                "atmosphere": {"pressure": p, "temperature": T, "density": ref.moist_density(p, T, e),
+                               "speed_of_sound": math.sqrt(ref.KAPPA * ref.R * T)}})
+    return out
+
+
+def _moist_body(cases, extra=None):
+    def col(values):
+        return values if len(values) > 1 else values[0]
+    humidity = cases[0][4]
+    body = {cases[0][0]: col([c[1] for c in cases]), "altitude": col([c[2] for c in cases])}
+    if "dew_point" in humidity:
+        body["dew_point"] = {"value": col([c[4]["dew_point"] for c in cases]), "unit": "K"}
+    else:
+        body["relative_humidity"] = col([c[4]["relative_humidity"] for c in cases])
+    return body | (extra or {})
+
+
+def _compare_moist(answer, rows, skip=("dynamic_pressure",)):
+    """As _compare_airspeed, leaving out the dynamic pressure (its own strict xfail below)."""
+    def pick(values):
+        return values if len(rows) > 1 else values[0]
+
+    for name, dim in SPEED_OUTPUTS.items():
+        if name not in skip:
+            check(answer[name], pick([r[name] for r in rows]), dim, abs_si=1e-12)
+    for name, dim in AIR_OUTPUTS.items():
+        check(answer["atmosphere"][name], pick([r["atmosphere"][name] for r in rows]), dim)
+
+
+@pytest.mark.parametrize("case", MOIST_SPEEDS, ids=lambda c: f"{c[0]}{c[1]:g}-{next(iter(c[4]))}")
+def test_moist_airspeed_single_point(client, case):
+    kind, value, alt_ft, dT, humidity = case
+    answer = post_ok(client, "/v1/airspeed", _moist_body([case], {"isa_deviation": dT}))
+    _compare_moist(answer, [_moist_row(kind, value, alt_ft, ref.std_tp(alt_ft * FT)[0] + dT, humidity)])
+
+
+@pytest.mark.parametrize("form", ["dew_point", "relative_humidity"])
+def test_moist_airspeed_array(client, form):
+    # Three points of one kind (an EAS: the moist density enters both ways) on three days.
+    cases = [("eas", v, a, d, {form: h}) for v, a, d, h in
+             ((150.0, 0.0, 10.0, 285.0 if form == "dew_point" else 40.0),
+              (250.0, 8000.0, 20.0, 275.0 if form == "dew_point" else 70.0),
+              (300.0, 20000.0, -5.0, 240.0 if form == "dew_point" else 100.0))]
+    answer = post_ok(client, "/v1/airspeed", _moist_body(cases, {"isa_deviation": [c[3] for c in cases]}))
+    _compare_moist(answer, [_moist_row(*c[:3], ref.std_tp(c[2] * FT)[0] + c[3], c[4]) for c in cases])
+
+
+#: (kind, value, pressure altitude [ft], TAT [K], humidity, recovery factor): the static temperature from a TAT in
+#: moist air; with an EAS the Mach number needs the moist density, itself depending on the temperature sought.
+MOIST_TATS = [("eas", 200.0, 3000.0, 305.0, {"relative_humidity": 80.0}, 1.0),
+              ("eas", 300.0, 0.0, 320.0, {"relative_humidity": 100.0}, 0.9),
+              ("eas", 250.0, 5000.0, 300.0, {"dew_point": 285.0}, 0.98),
+              ("cas", 250.0, 3000.0, 305.0, {"relative_humidity": 80.0}, 1.0),
+              ("tas", 280.0, 2000.0, 310.0, {"dew_point": 290.0}, 0.95),
+              ("mach", 0.45, 4000.0, 300.0, {"relative_humidity": 60.0}, 1.0)]
+
+
+@pytest.mark.parametrize("case", MOIST_TATS, ids=lambda c: f"{c[0]}{c[1]:g}-{next(iter(c[4]))}-r{c[5]:g}")
+def test_moist_tat_input_single_point(client, case):
+    kind, value, alt_ft, tat, humidity, r = case
+    p = ref.std_tp(alt_ft * FT)[1]
+    T = ref.static_from_tat(tat, kind, value if kind == "mach" else value * KT, p, r, vapour=_vapour(humidity))
+    answer = post_ok(client, "/v1/airspeed", _moist_body([case], {
+        "total_air_temperature": {"value": tat, "unit": "K"}, "recovery_factor": r}))
+    _compare_moist(answer, [_moist_row(kind, value, alt_ft, T, humidity, r)])
+
+
+def test_moist_tat_input_array(client):
+    cases = [c for c in MOIST_TATS if c[0] == "eas" and "relative_humidity" in c[4]]
+    rows = []
+    for kind, value, alt_ft, tat, humidity, r in cases:
+        T = ref.static_from_tat(tat, kind, value * KT, ref.std_tp(alt_ft * FT)[1], r, vapour=_vapour(humidity))
+        rows.append(_moist_row(kind, value, alt_ft, T, humidity, r))
+    answer = post_ok(client, "/v1/airspeed", _moist_body(cases, {
+        "total_air_temperature": {"value": [c[3] for c in cases], "unit": "K"},
+        "recovery_factor": [c[5] for c in cases]}))
+    _compare_moist(answer, rows)
+
+
+@pytest.mark.xfail(strict=True, reason=(
+    "service bug: in moist air /v1/airspeed's dynamic_pressure is (gamma/2) p M^2 with the Mach number of dry air's "
+    "speed of sound (service/api/speeds.py Speeds.q -> physics.airspeed.dynamic_pressure), i.e. 1/2 rho_dry V^2, while "
+    "the answer's own density and EAS are the moist ones: q differs from the documented 1/2 rho V^2 (and from "
+    "1/2 rho0 EAS^2, the EAS's definition) by Tv / T - 1, 1.9 % at 35 degC and 90 % humidity"))
+def test_moist_dynamic_pressure_is_half_rho_v_squared(client):
+    answer = post_ok(client, "/v1/airspeed", {"tas": {"value": 100, "unit": "m/s"}, "altitude": 0, "temperature": 35,
+                                              "relative_humidity": 90, "output_units": {"pressure": "Pa",
+                                                                                        "speed": "m/s"}})
+    rho = answer["atmosphere"]["density"]["value"]
+    check(answer["dynamic_pressure"], 0.5 * rho * 100.0**2, "pressure", "Pa")
+    check(answer["dynamic_pressure"], 0.5 * ref.RHO0 * answer["eas"]["value"] ** 2, "pressure", "Pa")
 
 
 # --- POST /v1/altimetry/pressure-settings -------------------------------------------------------------------------
