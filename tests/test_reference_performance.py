@@ -688,3 +688,41 @@ def test_schedule_moist_air_eas(client):
         row["eas"] = row["tas"] * math.sqrt(rho / ref.RHO0)
         rows.append(row)
     _compare_limited(answer, rows)
+
+
+# --- Other forms of the inputs: an IAS through a calibration table, a temperature, a QNH -------------------------
+
+#: IAS -> CAS by linear interpolation (kt): IAS 210 lies a tenth of the way from 200 -> 201 to 300 -> 298, so
+#: CAS = 201 + 0.1 * 97 = 210.7 kt (by hand).
+CALIBRATION = {"ias": [100, 200, 300], "cas": [102, 201, 298]}
+
+
+def test_drag_and_turn_from_an_ias(client):
+    case = {"mass": 22000.0, "cd0": 0.024, "polar": POLAR_K, "kind": "cas", "speed": 210.7, "H": 3048.0, "dT": -5.0,
+            "bank": 25.0}
+    body = {"weight": 22000, "wing_area": 61, "cd0": 0.024, **POLAR_K, "ias": [210, 210], "calibration": CALIBRATION,
+            "altitude": 10000, "isa_deviation": -5, "bank_angle": [25, 0]}
+    answer = post_ok(client, "/v1/drag", body)
+    _compare_drag(answer, _columns([_drag_expected(case), _drag_expected(dict(case, bank=0.0))], False))
+    turn = post_ok(client, "/v1/lift/turn", {"ias": 210, "calibration": CALIBRATION, "altitude": 10000,
+                                             "isa_deviation": -5, "bank_angle": 25})
+    _compare_turn(turn, _turn_expected("cas", 210.7, 3048.0, -5.0, "bank_angle", 25.0))
+
+
+@pytest.mark.parametrize("unit", list(UNITS["temperature"]))
+def test_speeds_turn_and_buffet_with_a_temperature_and_qnh(client, unit):
+    # OAT 27 degC and -2 degC at indicated 15 200 ft on QNH 1008 (our invented Quillon Ridge): pressure altitude
+    # 15 200 ft + H(1008 hPa); the ISA deviation follows from the OAT there.
+    H = 15200 * FT + ref.pressure_altitude(100_800.0)
+    T = [300.15, 271.15]
+    temperature = {"value": to_unit(T, "temperature", unit), "unit": unit}
+    air = {"altitude": 15200, "qnh": 1008, "temperature": temperature}
+    dT = [t - ref.std_tp(H)[0] for t in T]
+    speeds = post_ok(client, "/v1/drag/speeds", {"weight": 21000, "wing_area": 61, "cd0": 0.024, **POLAR_K,
+                                                 "height": 8000, **air})
+    _compare_speeds(speeds, _columns([_speeds_expected(21000.0, 0.024, POLAR_K, H, d, 8000 * FT) for d in dT], False))
+    turn = post_ok(client, "/v1/lift/turn", {"cas": 200, "turn_rate": 3, **air})
+    _compare_turn(turn, _columns([_turn_expected("cas", 200.0, H, d, "turn_rate", 3.0) for d in dT], False))
+    buffet = post_ok(client, "/v1/lift/buffet", {"weight": 21000, "wing_area": 61, "mach": 0.6, "buffet": TABLE,
+                                                 "margin": 1.3, **air})
+    _compare_buffet(buffet, _columns([_buffet_expected(21000.0, 0.6, H, d, 1.3) for d in dT], False))
