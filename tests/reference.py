@@ -5,7 +5,9 @@ plain and different from the service's: one point at a time, layer by layer from
 ``brentq`` root finder, the hypsometric integral by scipy's ``quad``, the Rayleigh pitot formula in the form
 NACA Report 1135 prints it. So a slip in the service's vectorised closed forms is not repeated here.
 ``tests/test_reference_oracle.py`` checks this module against ambiance, fluids and aerocalc3 (and published
-table values) before the endpoint tests rely on it.
+table values) before the endpoint tests rely on it; the later parts (the USSA 1976 property set, Hardy's saturation
+formula, the moist density, the polar's closed forms) are checked at the top of ``tests/test_reference_airdata.py``
+and ``tests/test_reference_performance.py`` (ambiance, fluids, iapws, MetPy, numeric optima, printed values).
 """
 
 from __future__ import annotations
@@ -349,7 +351,8 @@ K_BETA, K_S, K_EXP = 2.64638e-3, 245.4, 12.0
 
 
 def gravity(Z: float) -> float:
-    """Acceleration of free fall at geometric height Z [m/s2]: g0 (r0 / (r0 + Z))^2 (USSA 1976 eq. 17)."""
+    """Acceleration of free fall at geometric height Z [m/s2]: g0 (r0 / (r0 + Z))^2 (USSA 1976 eq. 17, the number
+    from memory)."""
     return G0 * (R_EARTH / (R_EARTH + Z)) ** 2
 
 
@@ -374,7 +377,8 @@ def ussa_properties(p: float, T: float, Z: float) -> dict:
 #: memory of the paper and checked against IAPWS (iapws) and MetPy in tests/test_reference_airdata.py).
 HARDY_G = (-2.8365744e3, -6.028076559e3, 1.954263612e1, -2.737830188e-2, 1.6261698e-5, 7.0229056e-10,
            -1.8680009e-13, 2.7150305)
-M_WATER = 18.01528e-3  # molar mass of water [kg/mol] (CIPM-2007 equation for moist air, Picard et al. 2008)
+#: Molar mass of water [kg/mol] (CIPM-2007 equation for moist air, Picard et al. 2008; from memory).
+M_WATER = 18.01528e-3
 
 
 def saturation_vapour_pressure(T: float) -> float:
@@ -429,7 +433,7 @@ def moist_speeds(kind: str, value: float, p: float, T: float, e: float) -> dict:
             "impact_pressure": qc, "dynamic_pressure": 0.5 * rho * tas * tas}
 
 
-# --- Total air temperature (NACA Report 1135, eq. 43: Tt / T = 1 + (k-1)/2 M^2) --------------------------------------
+# --- Total air temperature (NACA Report 1135, eq. 43 (number from memory): Tt / T = 1 + (k-1)/2 M^2) ----------------
 
 def total_air_temperature(T: float, M: float, r: float = 1.0) -> float:
     """What a probe of recovery factor r reads, T + r (Tt - T) (the recovery factor's definition, Gracey, NASA

@@ -112,7 +112,7 @@ def test_virtual_temperature_reference_against_metpy():
     w = mc.mixing_ratio(e * units.Pa, p * units.Pa)
     theirs = mc.virtual_temperature(T * units.K, w).to("K").magnitude
     assert ref.virtual_temperature(p, T, e) == pytest.approx(float(theirs), rel=1e-6)
-    # and the textbook approximation Tv ~ T (1 + 0.61 q) (Wallace & Hobbs eq. 3.60, from memory), q ~ eps e / p
+    # and the textbook approximation Tv ~ T (1 + 0.61 q) (Wallace & Hobbs 3.1.1, from memory), q ~ eps e / p
     q = ref.M_WATER / ref.M0 * e / p
     assert ref.virtual_temperature(p, T, e) == pytest.approx(T * (1 + 0.608 * q), rel=2e-4)
 
