@@ -475,7 +475,7 @@ def _moist_body(cases, extra=None):
 
 
 def _compare_moist(answer, rows, skip=("dynamic_pressure",)):
-    """As _compare_airspeed, leaving out the dynamic pressure (its own strict xfail below)."""
+    """As _compare_airspeed, leaving out the dynamic pressure (its own test below)."""
     def pick(values):
         return values if len(rows) > 1 else values[0]
 
@@ -536,11 +536,6 @@ def test_moist_tat_input_array(client):
     _compare_moist(answer, rows)
 
 
-@pytest.mark.xfail(strict=True, reason=(
-    "service bug: in moist air /v1/airspeed's dynamic_pressure is (gamma/2) p M^2 with the Mach number of dry air's "
-    "speed of sound (service/api/speeds.py Speeds.q -> physics.airspeed.dynamic_pressure), i.e. 1/2 rho_dry V^2, while "
-    "the answer's own density and EAS are the moist ones: q differs from the documented 1/2 rho V^2 (and from "
-    "1/2 rho0 EAS^2, the EAS's definition) by Tv / T - 1, 1.9 % at 35 degC and 90 % humidity"))
 def test_moist_dynamic_pressure_is_half_rho_v_squared(client):
     answer = post_ok(client, "/v1/airspeed", {"tas": {"value": 100, "unit": "m/s"}, "altitude": 0, "temperature": 35,
                                               "relative_humidity": 90, "output_units": {"pressure": "Pa",
@@ -573,9 +568,9 @@ def _compare_settings(answer, rows, units=None):
         check(answer[name], want if len(rows) > 1 else want[0], dim, units.get(dim), abs_si=1e-7)
 
 
-#: The QFE path leaves out the corners at the QNH bounds (800, 1100 hPa): a QFE typed to 1e-6 Pa may give a QNH a
-#: hair outside them (see the strict xfail below for the exact bound).
-INSIDE = [a for a in AERODROMES if 800.0 < a[1] < 1100.0]
+#: The QFE path takes every aerodrome, the corners at the QNH bounds (800, 1100 hPa) included: the QNH a QFE gives
+#: is checked against them to within 1 Pa (service.api.altimetry.QNH_CHECK_PA).
+INSIDE = AERODROMES
 
 
 @pytest.mark.parametrize(("elev", "qnh"), AERODROMES)
@@ -747,11 +742,6 @@ def test_correction_refusals(client):
     assert doc["type"] == "/problems/no-solution" and doc["indices"] == [1]
 
 
-@pytest.mark.xfail(strict=True, reason=(
-    "service bug: /v1/altimetry/pressure-settings caps the qfe input at 1100 hPa (QFE_MAX_HPA), below the QFE the "
-    "endpoint itself answers for accepted inputs at low aerodromes (elevation -2000 ft with QNH 1100 hPa gives QFE "
-    "1180.6 hPa), so that answer cannot be given back: the documented rule is that the QNH a QFE gives must lie within "
-    "800..1100 hPa, and 1100 hPa does"))
 def test_settings_qfe_of_the_lowest_aerodrome_with_the_highest_qnh_reads_back(client):
     qfe = ref.qfe_of_qnh(-2000 * FT, 110_000.0)
     assert qfe / 100.0 == pytest.approx(1180.6, abs=0.1)
@@ -760,11 +750,6 @@ def test_settings_qfe_of_the_lowest_aerodrome_with_the_highest_qnh_reads_back(cl
     check(answer["qnh"], 110_000.0, "pressure")
 
 
-@pytest.mark.xfail(strict=True, reason=(
-    "service bug: /v1/altimetry/pressure-settings refuses elevation 0 with qfe 1100 hPa, though at sea level QNH = "
-    "QFE = 1100 hPa, the documented bound of both: the QNH from the QFE (p -> H(p) -> p_std, service.physics."
-    "altimetry.qnh_from_qfe) comes out at 110000.00000000004 Pa and the bound check in service/api/altimetry.py "
-    "(qnh <= 1100 hPa) allows no rounding"))
 def test_settings_sea_level_qfe_at_the_bound(client):
     answer = post_ok(client, "/v1/altimetry/pressure-settings", {"elevation": 0, "qfe": 1100})
     check(answer["qnh"], 110_000.0, "pressure")
