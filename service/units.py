@@ -163,6 +163,25 @@ DIMENSIONS: dict[str, Dimension] = {
             Unit("kg/m2", G0, description="kilogram per square metre (weight as mass, times g0)"),
             Unit("lb/ft2", G0 * LB / FT**2, description="pound per square foot (weight as mass, times g0)"),
         )),
+        _dim("length", "m", "m", "Length (mean free path, scale height)", (
+            Unit("m", 1.0, description="metre"),
+            Unit("ft", FT, description="international foot (0.3048 m, exact)"),
+            Unit("km", 1000.0, description="kilometre"),
+        )),
+        _dim("acceleration", "m/s2", "m/s2", "Acceleration (of free fall)", (
+            Unit("m/s2", 1.0, description="metre per second squared"),
+            Unit("ft/s2", FT, description="foot per second squared"),
+        )),
+        _dim("number_density", "1/m3", "1/m3", "Number density (molecules per volume)", (
+            Unit("1/m3", 1.0, description="per cubic metre"),
+            Unit("1/cm3", 1e6, description="per cubic centimetre"),
+        )),
+        _dim("frequency", "1/s", "1/s", "Frequency (collisions per time)", (
+            Unit("1/s", 1.0, description="per second"),
+        )),
+        _dim("thermal_conductivity", "W/(m*K)", "W/(m*K)", "Thermal conductivity", (
+            Unit("W/(m*K)", 1.0, description="watt per metre kelvin"),
+        )),
     )
 }
 

@@ -405,13 +405,14 @@ def test_csv_header_units_and_dotted_names(client):
     assert r.status_code == 200 and r.mimetype == "text/csv"
     rows = list(csv.reader(io.StringIO(r.get_data(as_text=True))))
     assert rows[0] == ["input.cas [kt]", "input.altitude [ft]", "cas [kt]", "eas [kt]", "tas [kt]", "mach",
-                       "ias [kt]", "impact_pressure [hPa]", "dynamic_pressure [hPa]", "atmosphere.pressure [hPa]",
+                       "ias [kt]", "impact_pressure [hPa]", "dynamic_pressure [hPa]", "total_air_temperature [degC]",
+                       "ram_rise [K]", "atmosphere.pressure [hPa]",
                        "atmosphere.temperature [degC]", "atmosphere.density [kg/m3]",
                        "atmosphere.speed_of_sound [kt]"]
     json_doc = post(client, AIRSPEED, body).json
     assert len(rows) == 3
     assert [float(row[4]) for row in rows[1:]] == pytest.approx(json_doc["tas"]["value"])
-    assert [float(row[9]) for row in rows[1:]] == pytest.approx(json_doc["atmosphere"]["pressure"]["value"])
+    assert [float(row[11]) for row in rows[1:]] == pytest.approx(json_doc["atmosphere"]["pressure"]["value"])
     # IAS beyond the table: an empty cell (null in JSON), counted in X-Warnings
     assert rows[2][6] == "" and json_doc["ias"]["value"][1] is None
     assert r.headers["X-Warnings"] == "1"

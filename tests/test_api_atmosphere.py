@@ -27,7 +27,10 @@ def test_fl350_isa_plus_10(client):
     assert doc["warnings"] == []
     assert set(doc) == {"pressure_altitude", "geometric_altitude", "temperature", "isa_deviation", "pressure",
                         "density", "speed_of_sound", "dynamic_viscosity", "kinematic_viscosity",
-                        "pressure_ratio", "temperature_ratio", "density_ratio", "density_altitude", "warnings"}
+                        "pressure_ratio", "temperature_ratio", "density_ratio", "density_altitude", "warnings",
+                        "vapour_pressure", "virtual_temperature", "gravity", "pressure_scale_height",
+                        "number_density", "mean_particle_speed", "mean_free_path", "collision_frequency",
+                        "thermal_conductivity"}
 
 
 def test_sea_level_standard_day(client):

@@ -49,6 +49,11 @@ ENDPOINTS = {
     "/v1/drag/speeds": {"body": {"weight": 21000, "wing_area": 61, "cd0": 0.024, "induced_drag_factor": 0.0371,
                                  "altitude": 25000},
                         "quantity": "wing_area", "number": "cd0", "arrays": ("weight", "altitude")},
+    "/v1/altimetry/pressure-settings": {"body": {"elevation": 7200, "qnh": 1008},
+                                        "quantity": "elevation", "number": None, "arrays": ("elevation", "qnh")},
+    "/v1/altimetry/temperature-correction": {"body": {"elevation": 7200, "temperature": -25, "altitude": 9500},
+                                             "quantity": "altitude", "number": None,
+                                             "arrays": ("altitude", "temperature")},
 }
 PATHS = tuple(ENDPOINTS)
 
@@ -213,14 +218,16 @@ def test_number_beyond_float_range_is_422_at_the_value(client, path, name, numbe
 @pytest.mark.parametrize(("number", "below"), NUMBERS_BEYOND_FLOAT)
 def test_number_beyond_float_range_in_the_object_form_is_422(client, path, number, below):
     name = ENDPOINTS[path]["quantity"]
-    unit = {"altitude": "ft", "cas": "kt", "weight": "kg", "wing_area": "m2", "sweep_half_chord": "deg"}[name]
+    unit = {"altitude": "ft", "elevation": "ft", "cas": "kt", "weight": "kg", "wing_area": "m2",
+            "sweep_half_chord": "deg"}[name]
     body = json.dumps(with_field(path, name, {"value": "__N__", "unit": unit})).replace('"__N__"', number.decode())
     check(raw(client, path, body), 422, f"/{name}/value{below}")
 
 
 # --- The object form {value, unit} ---------------------------------------------------------------
 
-UNITS_OF = {"altitude": "ft", "cas": "kt", "weight": "kg", "wing_area": "m2", "sweep_half_chord": "deg"}
+UNITS_OF = {"altitude": "ft", "elevation": "ft", "cas": "kt", "weight": "kg", "wing_area": "m2",
+            "sweep_half_chord": "deg"}
 
 
 @pytest.mark.parametrize("path", PATHS)
@@ -325,7 +332,8 @@ def test_mutually_exclusive_inputs_are_422_at_each(client, path, extra, clashing
 
 # --- Values out of range ----------------------------------------------------------------------
 
-ALTITUDE_PATHS = [p for p in PATHS if "altitude" in ENDPOINTS[p]["body"]]
+# (the temperature correction's altitude is a minimum altitude, with the method's own bounds)
+ALTITUDE_PATHS = [p for p in PATHS if "altitude" in ENDPOINTS[p]["body"] and not p.startswith("/v1/altimetry")]
 
 
 @pytest.mark.parametrize("path", ALTITUDE_PATHS)

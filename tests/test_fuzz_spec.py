@@ -172,6 +172,22 @@ INEXPRESSIBLE = [
     # JSON Schema cannot compare two properties.
     ("range step against start and stop", lambda doc: all(p.endswith("/step") for p in _pointers(doc))
      and any(word in _messages(doc) for word in ("so the step must be", "too many steps to count"))),
+    # One validity range whatever the input form: a temperature (given, or found from a total air
+    # temperature and the speed) within +-100 K of the standard temperature at the pressure altitude;
+    # a CAS, EAS or TAS within the Mach range of `mach` at that altitude; a geometric height whose
+    # pressure level lies within the model on that day. Each limit depends on two or more inputs.
+    ("temperature against the altitude", lambda doc: "from the standard temperature" in _messages(doc)),
+    ("speed beyond the Mach range", lambda doc: "the range accepted for `mach`" in _messages(doc)),
+    ("geometric height on the day", lambda doc: "On this day the geometric height" in _messages(doc)),
+    # Water vapour: a dew point at most the temperature, a relative humidity within the saturation
+    # formula's temperature range, a vapour pressure below the static pressure at the altitude.
+    ("humidity against temperature and pressure", lambda doc: _pointers(doc) <= {"/dew_point", "/relative_humidity"}
+     and any(word in _messages(doc) for word in ("above the temperature", "saturation formula", "vapour pressure"))),
+    # Altimetry: the QNH a QFE gives with an elevation within the bounds of qnh; a minimum altitude at or
+    # above the aerodrome elevation (two inputs each).
+    ("QNH from QFE and elevation", lambda doc: _pointers(doc) == {"/qfe"} and "gives a QNH" in _messages(doc)),
+    ("minimum altitude below the aerodrome", lambda doc: _pointers(doc) == {"/altitude"}
+     and "below the aerodrome elevation" in _messages(doc)),
 ]
 
 

@@ -160,13 +160,32 @@ def quantity(draw, field, size):
     return draw(_unit_value(field, unit, size, size) if size else _unit_value(field, unit))
 
 
+#: Outside air temperatures within +-100 K of the standard temperature at every altitude of the model
+#: (whose standard temperatures span 186.9 K to 320.65 K): valid wherever they are drawn [K].
+TEMPERATURE_ANYWHERE = Quantity("temperature", minimum=220.7, maximum=286.8, bounds_unit="K")
+
+
 @st.composite
 def day(draw, size):
     """A standard day, an ISA deviation or an outside air temperature."""
     kind = draw(st.sampled_from(["standard", "isa_deviation", "temperature"]))
     if kind == "standard":
         return {}
-    return {kind: draw(quantity(SCHEMA.fields[kind], size))}
+    field = TEMPERATURE_ANYWHERE if kind == "temperature" else SCHEMA.fields[kind]
+    return {kind: draw(quantity(field, size))}
+
+
+@st.composite
+def humidity(draw, conditions: dict):
+    """Dry air, a relative humidity, or (with a temperature) a dew point below it [degC]."""
+    kind = draw(st.sampled_from(["dry", "relative_humidity", "dew_point"]))
+    if kind == "relative_humidity" and "temperature" in conditions:
+        return {"relative_humidity": draw(st.floats(0.0, 100.0))}
+    if kind == "dew_point" and "temperature" in conditions:
+        value = conditions["temperature"]["value"]
+        lowest = float(np.min(unit_table.to_si(value, "temperature", conditions["temperature"]["unit"]))) - 273.15
+        return {"dew_point": draw(st.floats(-100.0, lowest))}
+    return {}
 
 
 ALTITUDE = SCHEMA.fields["altitude"]
@@ -178,15 +197,53 @@ SIZES = st.sampled_from([0, 0, 1, 3])  # 0: scalars
 @st.composite
 def atmosphere_request(draw):
     size = draw(SIZES)
-    return {"altitude": draw(quantity(ALTITUDE, size)), **draw(day(size))}
+    conditions = draw(day(size))
+    return {"altitude": draw(quantity(ALTITUDE, size)), **conditions, **draw(humidity(conditions))}
+
+
+def _mach5_speeds(altitude: dict) -> dict[str, float]:
+    """The CAS and EAS of Mach 5 [kt] at the highest of the altitudes drawn (the lowest pressure): both depend on
+    the pressure alone (CAS on qc = p f(M); EAS = M sqrt(kappa p / rho0)), so they bound the speeds of every
+    point of the request whatever the day. TAS: 1800 kt is below Mach 5 in the coldest air the model takes."""
+    H = float(np.max(unit_table.to_si(altitude["value"], "altitude", altitude["unit"])))
+    p = ref.std_tp(H)[1]
+    return {"cas": ref.cas_of_qc(p * ref.pitot_ratio(5.0)) / KT, "eas": 5.0 * math.sqrt(ref.KAPPA * p / ref.RHO0) / KT,
+            "tas": 1800.0}
 
 
 @st.composite
 def airspeed_request(draw):
     size = draw(SIZES)
     kind = draw(st.sampled_from(["cas", "eas", "tas", "mach"]))
-    speed = (draw(st.floats(1e-6, 5.0)) if kind == "mach" else draw(quantity(SPEED, size)))
-    return {kind: speed, "altitude": draw(quantity(ALTITUDE, size)), **draw(day(size))}
+    if draw(st.booleans()):  # a total air temperature with a recovery factor: a static temperature on the day
+        return draw(tat_airspeed_request(kind, size))
+    altitude = draw(quantity(ALTITUDE, size))
+    if kind == "mach":
+        speed = draw(st.floats(1e-6, 5.0))
+    else:  # in knots, below Mach 5 at every point (a faster speed is refused as `mach` is)
+        top = 0.9 * _mach5_speeds(altitude)[kind]
+        values = st.floats(min(1e-3, top), top)
+        speed = draw(st.lists(values, min_size=size, max_size=size) if size else values)
+    conditions = draw(day(size))
+    return {kind: speed, "altitude": altitude, **conditions, **draw(humidity(conditions))}
+
+
+@st.composite
+def tat_airspeed_request(draw, kind: str, size: int):
+    """A subsonic speed at one altitude and a TAT that makes the static temperature within 75 K of standard there:
+    T = TAT / (1 + 0.2 r M^2) with r M^2 in [0, 1] lies within [TAT / 1.2, TAT], TAT = 1.1 T_std + d, |d| <= 40 K."""
+    H = draw(st.floats(-5000.0, 80_000.0))
+    T_std, p = ref.std_tp(H)
+    mach = draw(st.lists(st.floats(1e-3, 1.0), min_size=size, max_size=size) if size else st.floats(1e-3, 1.0))
+    machs = np.atleast_1d(np.asarray(mach, dtype=float))
+    speeds = {"mach": machs,  # the speed of each kind that is this Mach number at this pressure (any day)
+              "cas": np.array([ref.cas_of_qc(p * ref.pitot_ratio(m)) for m in machs]) / KT,
+              "eas": machs * math.sqrt(ref.KAPPA * p / ref.RHO0) / KT,
+              "tas": machs * math.sqrt(ref.KAPPA * ref.R * T_std) / KT * 0.9}  # a cooler day is faster in Mach
+    speed = speeds[kind].tolist() if size else float(speeds[kind][0])
+    return {kind: speed, "altitude": {"value": H, "unit": "m"},
+            "total_air_temperature": 1.1 * T_std + draw(st.floats(-40.0, 40.0)) - 273.15,
+            "recovery_factor": draw(st.floats(0.5, 1.0))}
 
 
 @st.composite
@@ -275,11 +332,12 @@ def polar(draw):
 
 
 @st.composite
-def one_speed(draw, size):
-    """A speed an aircraft flies (from 1 kt or Mach 0.01): at a speed that underflows to zero there is no turn and no
-    finite CL, a no-solution 422."""
+def one_speed(draw, size, altitude: dict):
+    """A speed an aircraft flies (from 1 kt or Mach 0.01, below Mach 5 at every altitude drawn): at a speed that
+    underflows to zero there is no turn and no finite CL, a no-solution 422."""
     kind = draw(st.sampled_from(["cas", "eas", "tas", "mach"]))
-    values = st.floats(0.01, 5.0) if kind == "mach" else st.floats(1.0, 3000.0)
+    top = 5.0 if kind == "mach" else 0.9 * _mach5_speeds(altitude)[kind]
+    values = st.floats(min(0.01 if kind == "mach" else 1.0, top), top)
     return {kind: draw(st.lists(values, min_size=size, max_size=size) if size else values)}
 
 
@@ -288,7 +346,7 @@ def drag_request(draw):
     size = draw(SIZES)
     body = {"weight": draw(st.floats(100, 600_000)), "wing_area": draw(st.floats(5, 900)), **draw(polar()),
             "altitude": draw(quantity(ALTITUDE, size)), **draw(day(size))}
-    body |= {"cl": draw(st.floats(0.01, 10))} if draw(st.booleans()) else draw(one_speed(size))
+    body |= {"cl": draw(st.floats(0.01, 10))} if draw(st.booleans()) else draw(one_speed(size, body["altitude"]))
     if draw(st.booleans()):
         body["bank_angle"] = draw(quantity(BANK, size))
     return body
@@ -307,7 +365,8 @@ def drag_speeds_request(draw):
 @st.composite
 def turn_request(draw):
     size = draw(SIZES)
-    body = {**draw(one_speed(size)), "altitude": draw(quantity(ALTITUDE, size)), **draw(day(size))}
+    altitude = draw(quantity(ALTITUDE, size))
+    body = {**draw(one_speed(size, altitude)), "altitude": altitude, **draw(day(size))}
     which = draw(st.sampled_from(["bank_angle", "load_factor", "turn_rate"]))
     body[which] = {"bank_angle": draw(quantity(BANK, size)), "load_factor": draw(st.floats(1, 1e6)),
                    "turn_rate": draw(st.floats(0, 100))}[which]
@@ -332,7 +391,25 @@ def limited_schedule_request(draw):
                                                        "altitude": draw(st.floats(-1000, 40000))}}
 
 
+@st.composite
+def pressure_settings_request(draw):
+    size = draw(SIZES)
+    return {"elevation": draw(st.lists(st.floats(-2000, 20000), min_size=size, max_size=size) if size
+                              else st.floats(-2000, 20000)),
+            "qnh": draw(st.floats(800, 1100)), "output_units": {"pressure": draw(st.sampled_from(["hPa", "inHg"]))}}
+
+
+@st.composite
+def temperature_correction_request(draw):
+    elevation = draw(st.floats(-2000, 20000))
+    isa_c = 15.0 - 0.0065 * elevation * 0.3048  # ISA at the elevation (ICAO Doc 7488/3 first layer)
+    return {"elevation": elevation, "temperature": draw(st.floats(isa_c - 99.9, isa_c + 99.9)),
+            "altitude": draw(st.lists(st.floats(max(elevation, -2000), 36000), min_size=1, max_size=3))}
+
+
 VALID = {
+    "/v1/altimetry/pressure-settings": pressure_settings_request(),
+    "/v1/altimetry/temperature-correction": temperature_correction_request(),
     "/v1/atmosphere": atmosphere_request(), "/v1/airspeed": airspeed_request(),
     "/v1/airspeed/crossover": crossover_request(), "/v1/airspeed/schedule": schedule_request(),
     "/v1/lift/solve": solve_request(), "/v1/lift/stall": stall_request(), "/v1/lift/curve": curve_request(),
@@ -364,11 +441,21 @@ def _numbers(doc, prefix=""):
         yield prefix.removesuffix(".value"), doc
 
 
+#: 422s that valid-by-field inputs may meet: limits over several inputs (a speed's Mach number, a static
+#: temperature from a TAT against the ISA-deviation limits, water vapour against the static pressure).
+RANGE_REFUSALS = ("the range accepted for `mach`", "from the standard temperature at the pressure altitude",
+                  "The vapour pressure reaches the static pressure")
+
+
 def assert_answer(response):
-    """200 with finite numbers (nulls only where warned), or a 422 no-solution problem."""
+    """200 with finite numbers (nulls only where warned), or a 422 no-solution problem, or a 422 for a
+    limit over several inputs (RANGE_REFUSALS)."""
     doc = strict(response)
     if response.status_code == 422 and doc.get("type") == "/problems/no-solution":
         assert response.mimetype == PROBLEM and doc["field"] and doc["count"] >= 1
+        return
+    if response.status_code == 422 and doc["errors"] and all(
+            any(phrase in e["message"] for phrase in RANGE_REFUSALS) for e in doc["errors"]):
         return
     assert response.status_code == 200, doc
     warned = {w["field"] for w in doc["warnings"]}

@@ -174,7 +174,7 @@ def test_qnh_single_point(client, qnh):
     H = indicated + ref.pressure_altitude(qnh * 100.0)
     answer = post_ok(client, "/v1/atmosphere", {"altitude": {"value": indicated, "unit": "m"}, "qnh": qnh,
                                                 "isa_deviation": 8.0})
-    _compare(answer, ref.air(H, 8.0))
+    _compare(answer, ref.air(H, 8.0, ref.pressure_altitude(qnh * 100.0)))  # geometric: above mean sea level
 
 
 def test_qnh_directions_and_sizes(client):
@@ -198,7 +198,7 @@ def test_qnh_in_every_pressure_unit(client, unit, array):
     answer = post_ok(client, "/v1/atmosphere", {"altitude": 3000, "qnh": {"value": value if array else value[1],
                                                                           "unit": unit}})
     H = [914.4 + ref.pressure_altitude(q) for q in qnh_pa]
-    rows = [ref.air(h) for h in H]
+    rows = [ref.air(h, 0.0, ref.pressure_altitude(q)) for h, q in zip(H, qnh_pa, strict=True)]
     for name, dim in OUTPUTS.items():
         want = [row[name] for row in rows] if array else rows[1][name]
         check(answer[name], want, dim, abs_si=ABS.get(name, 0.0))
@@ -228,7 +228,8 @@ def test_geometric_height_array_with_temperature(client):
     T = [300.0, 210.0, 260.0]
     answer = post_ok(client, "/v1/atmosphere", {"altitude": {"value": h, "unit": "m"}, "altitude_kind": "geometric",
                                                 "temperature": {"value": T, "unit": "K"}})
-    H = [ref.geopotential(x) for x in h]
+    # the exact inverse of the geometric-altitude output on that day (the deviation at the level, from T)
+    H = [ref.pressure_altitude_of_height(x, T=t) for x, t in zip(h, T, strict=True)]
     rows = [ref.air(Hp, t - ref.std_tp(Hp)[0]) for Hp, t in zip(H, T, strict=True)]
     _compare(answer, {name: [row[name] for row in rows] for name in OUTPUTS})
 

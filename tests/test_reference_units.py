@@ -65,7 +65,9 @@ def test_defaults_si_units_and_output_dimensions(catalogue):
     si = {"altitude": "m", "speed": "m/s", "temperature": "K", "temperature_difference": "K", "pressure": "Pa",
           "density": "kg/m3", "mass": "kg", "force": "N", "weight": "N", "area": "m2", "angle": "rad",
           "dynamic_viscosity": "Pa*s", "kinematic_viscosity": "m2/s", "lift_slope": "1/rad", "wing_loading": "N/m2",
-          "distance": "m", "vertical_speed": "m/s", "power": "W", "time": "s", "angular_rate": "rad/s"}
+          "distance": "m", "vertical_speed": "m/s", "power": "W", "time": "s", "angular_rate": "rad/s",
+          "length": "m", "acceleration": "m/s2", "number_density": "1/m3", "frequency": "1/s",
+          "thermal_conductivity": "W/(m*K)"}
     assert {name: e["si_unit"] for name, e in by_name.items()} == si
 
 

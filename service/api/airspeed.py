@@ -52,6 +52,11 @@ OUTPUTS = {
                                     "measures [hPa]."),
     "dynamic_pressure": ("pressure", "Dynamic pressure q = 1/2 rho V^2 = (gamma/2) p M^2 [hPa]; below qc as soon as "
                                      "compressibility matters."),
+    "total_air_temperature": ("temperature", "Total air temperature a probe of recovery factor r reads at this "
+                                             "speed, T (1 + r (gamma-1)/2 M^2) [degC] (r = `recovery_factor`, "
+                                             "default 1); the input itself when `total_air_temperature` is given."),
+    "ram_rise": ("temperature_difference", "Ram rise: the total air temperature minus the static temperature, "
+                                           "r TAS^2 / (2 cp) [K]."),
     "atmosphere": (None, "The air at the point: static pressure, temperature, density, speed of sound."),
 }
 #: The converted speeds: primary results (a point where one does not exist is a 422).
@@ -83,6 +88,10 @@ class AirspeedRequest(ComputeSchema):
     altitude = air.altitude_field(_ALTITUDE)
     isa_deviation = air.isa_deviation_field()
     temperature = air.temperature_field()
+    total_air_temperature = air.total_air_temperature_field()
+    recovery_factor = air.recovery_factor_field()
+    dew_point = air.dew_point_field()
+    relative_humidity = air.relative_humidity_field()
     calibration = calibration_field()
     outputs = outputs_field(OUTPUTS)
 
@@ -105,9 +114,12 @@ def airspeed(inputs):
 
     From exactly one of IAS (with the airspeed system's calibration table), CAS, EAS, TAS or Mach at a pressure
     altitude on a standard or off-standard day: CAS, EAS, TAS, Mach, IAS (when a calibration is given), impact and
-    dynamic pressure, and the air at the point. Compressible throughout: the isentropic pitot relation below Mach 1,
-    the Rayleigh pitot relation above. Arrays broadcast; `grid: true` takes their outer product. The example is our
-    demo type TQ-62 at 250 kt IAS at FL330 on an ISA+15 day.
+    dynamic pressure, the total air temperature and ram rise, and the air at the point. The static temperature
+    comes from an ISA deviation, an outside air temperature, or a total air temperature with the probe's recovery
+    factor (closed form from the speed given); a dew point or relative humidity makes the air moist (the density,
+    so the EAS-TAS relation, at the virtual temperature). Compressible throughout: the isentropic pitot relation
+    below Mach 1, the Rayleigh pitot relation above. Arrays broadcast; `grid: true` takes their outer product.
+    The example is our demo type TQ-62 at 250 kt IAS at FL330 on an ISA+15 day.
     """
     kind = given_speed(inputs)
     result = Result(inputs)
@@ -122,6 +134,9 @@ def airspeed(inputs):
         elif name == "ias":
             if speeds.calibration is not None:
                 result.add(name, result.null_where(name, speeds.ias, _outside_table(inputs)))
+        elif name in ("total_air_temperature", "ram_rise"):
+            tat = speeds.air.total_air_temperature(speeds.require("mach"))
+            result.add(name, tat if name == "total_air_temperature" else tat - speeds.air.T)
         else:
             result.add(name, getattr(speeds, _SOURCE[name]))
     return result.response()
@@ -233,6 +248,8 @@ class ScheduleRequest(ComputeSchema):
     isa_deviation = air.isa_deviation_field()
     temperature = air.temperature_field()
     speed_limit = limits.speed_limit_field()
+    dew_point = air.dew_point_field()
+    relative_humidity = air.relative_humidity_field()
     outputs = outputs_field(SCHEDULE_OUTPUTS)
 
 
@@ -265,7 +282,10 @@ def schedule(inputs):
                                                "airspeed relations).")
         for name in _SCHEDULE_SPEEDS:
             if inputs.wants(name):
-                result.add(name, governing if name == "governing" else getattr(flown, name))
+                values = governing if name == "governing" else getattr(flown, name)
+                if name == "eas" and state.humid:  # EAS = TAS sqrt(rho / rho0), rho of the moist air: p / (R Tv)
+                    values = values * np.sqrt(state.T / state.Tv)
+                result.add(name, values)
     if inputs.wants("crossover_altitude"):
         H = spd.crossover_altitude(cas, mach)
         missing = np.isnan(H)

@@ -186,7 +186,7 @@ def drag(inputs):
     kind = given_speed(inputs)
     if kind is None:
         point = dp.level_condition(weight, area, inputs.si("cl"), cd0, k, state.rho, n)
-        speeds = Speeds(state, "eas", point.eas)
+        speeds = Speeds(state, "eas", point.eas, given=False)
     else:
         speeds = Speeds(state, kind, inputs.si(kind), inputs.get("calibration"))
         q = lf.dynamic_pressure_from_eas(speeds.require("eas")) if kind in ("eas", "tas") else speeds.q
@@ -289,19 +289,19 @@ def speeds(inputs):
     cd0, k = _polar(inputs)
     if inputs.wants("minimum_drag"):
         md = dp.minimum_drag(weight, area, cd0, k, state.rho)
-        leaves = _speed_leaves(Speeds(state, "eas", md.eas))
+        leaves = _speed_leaves(Speeds(state, "eas", md.eas, given=False))
         result.add_tree("minimum_drag", {**leaves, "cl": Leaf(md.cl), "drag": Leaf(md.drag, "force"),
                                          "lift_to_drag": Leaf(md.lift_to_drag)})
         _warn_beyond_polar(result, inputs, "minimum_drag", leaves["mach"].si)
     if inputs.wants("minimum_power"):
         mp = dp.minimum_power(weight, area, cd0, k, state.rho)
-        leaves = _speed_leaves(Speeds(state, "eas", mp.eas))
+        leaves = _speed_leaves(Speeds(state, "eas", mp.eas, given=False))
         result.add_tree("minimum_power", {**leaves, "cl": Leaf(mp.cl), "power": Leaf(mp.power, "power"),
                                           "drag": Leaf(mp.drag, "force")})
         _warn_beyond_polar(result, inputs, "minimum_power", leaves["mach"].si)
     if inputs.wants("best_glide"):
         bg = dp.best_glide(weight, area, cd0, k, state.rho)
-        leaves = _speed_leaves(Speeds(state, "eas", bg.eas))
+        leaves = _speed_leaves(Speeds(state, "eas", bg.eas, given=False))
         tree = {**leaves, "cl": Leaf(bg.cl), "glide_ratio": Leaf(bg.glide_ratio),
                 "glide_angle": Leaf(bg.glide_angle, "angle"), "sink_rate": Leaf(bg.sink_rate, "vertical_speed")}
         if "height" in inputs:

@@ -32,6 +32,16 @@ ATMOSPHERE = _examples(
      {"altitude": {"value": [0, 3000, 6000], "unit": "m"}, "altitude_kind": "geometric", "isa_deviation": [-10, 15],
       "grid": True, "outputs": ["temperature", "pressure", "density"],
       "output_units": {"temperature": "K", "pressure": "Pa"}}),
+    ("quillon-ridge-humid", "The same hot afternoon at Quillon Ridge with a dew point of 12 degC",
+     {"altitude": 7200, "qnh": 1008, "temperature": 32, "dew_point": 12,
+      "outputs": ["density_altitude", "density", "vapour_pressure", "virtual_temperature", "geometric_altitude"]}),
+    ("humid-sea-level", "A tropical sea-level afternoon, 30 degC and 75 % relative humidity",
+     {"altitude": 0, "temperature": 30, "relative_humidity": 75,
+      "outputs": ["density", "density_altitude", "vapour_pressure", "virtual_temperature"]}),
+    ("property-set", "The U.S. Standard Atmosphere 1976 property set from sea level to 80 km, speeds in m/s",
+     {"altitude": {"value": [0, 20, 50, 80], "unit": "km"}, "altitude_kind": "geometric",
+      "outputs": ["gravity", "pressure_scale_height", "number_density", "mean_particle_speed", "mean_free_path",
+                  "collision_frequency", "thermal_conductivity"], "output_units": {"speed": "m/s"}}),
 )
 
 AIRSPEED = _examples(
@@ -46,6 +56,12 @@ AIRSPEED = _examples(
      {"tas": 410, "altitude": {"value": 280, "unit": "FL"}, "temperature": -38, "outputs": ["cas", "mach", "eas"]}),
     ("eas-grid", "A grid of EAS and altitudes",
      {"eas": [150, 200], "altitude": [0, 10000], "grid": True, "outputs": ["cas", "tas"]}),
+    ("tat-climb", "Climbing through FL240 at 250 kt CAS: the static temperature from the probe's TAT",
+     {"cas": 250, "altitude": {"value": 240, "unit": "FL"}, "total_air_temperature": -18, "recovery_factor": 0.98,
+      "dew_point": -45, "outputs": ["mach", "tas", "total_air_temperature", "ram_rise", "atmosphere"]}),
+    ("humid-approach", "140 kt CAS at 3000 ft on a 28 degC, 80 % humidity afternoon",
+     {"cas": 140, "altitude": 3000, "temperature": 28, "relative_humidity": 80,
+      "outputs": ["eas", "tas", "ram_rise", "atmosphere"]}),
 )
 
 CROSSOVER = _examples(
@@ -64,6 +80,12 @@ SCHEDULE = _examples(
     ("climb-under-250-below-10000", "The TQ-62's 290 kt / M0.76 climb with the common 250 kt below 10,000 ft",
      {"cas": 290, "mach": 0.76, "altitude": [3000, 8000, 10000, 15000, 25000, 35000], "isa_deviation": 10,
       "speed_limit": {"cas": 250, "altitude": 10000}, "outputs": ["governing", "cas", "mach", "tas"]}),
+    ("humid-low-levels", "The climb's low levels on a humid day: 28 degC at 2000 ft, dew point 20 degC",
+     {"cas": 250, "mach": 0.76, "altitude": 2000, "temperature": 28, "dew_point": 20,
+      "outputs": ["cas", "tas", "eas"]}),
+    ("humid-rh", "The same with a relative humidity of 60 %",
+     {"cas": 250, "mach": 0.76, "altitude": 2000, "temperature": 28, "relative_humidity": 60,
+      "outputs": ["cas", "tas", "eas"]}),
 )
 
 LIFT_SOLVE = _examples(
@@ -199,4 +221,19 @@ BUFFET = _examples(
     ("quillon-ridge-departure", "Climbing out of Quillon Ridge: Mach 0.5 at 16 000 ft on QNH 1008 hPa, -2 degC",
      {"weight": 23000, "wing_area": 61, "mach": 0.5, "altitude": 16000, "qnh": 1008, "temperature": -2,
       "buffet": TQ62_BUFFET, "outputs": ["cl", "load_factor_to_buffet", "bank_to_buffet", "cas", "tas"]}),
+)
+
+PRESSURE_SETTINGS = _examples(
+    ("quillon-ridge-qnh", "Quillon Ridge (7,200 ft) with QNH 1008 hPa: its QFE and pressure altitude",
+     {"elevation": 7200, "qnh": 1008}),
+    ("qfe-to-qnh-inhg", "QNH from three QFE readings in inHg at Quillon Ridge (2,195 m)",
+     {"elevation": {"value": 2195, "unit": "m"}, "qfe": {"value": [22.62, 22.79, 22.95], "unit": "inHg"}}),
+)
+
+TEMPERATURE_CORRECTION = _examples(
+    ("quillon-ridge-cold-approach", "Quillon Ridge (7,200 ft) at -25 degC: the approach's minimum altitudes",
+     {"elevation": 7200, "temperature": -25, "altitude": [9500, 8700, 7650]}),
+    ("cold-grid", "A correction table: three temperatures by four minimum altitudes, sea-level aerodrome",
+     {"elevation": 0, "temperature": [0, -20, -40], "altitude": [500, 1000, 2000, 5000], "grid": True,
+      "outputs": ["correction"]}),
 )

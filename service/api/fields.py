@@ -448,6 +448,12 @@ def named_schemas() -> dict[str, dict]:
         "description": "A physical output, in the unit output_units chose for its dimension (a weight: a force, "
                        "or a mass when output_units names `mass`).",
     }
+    schemas["InputsEcho"] = {
+        "type": "object",
+        "additionalProperties": {"oneOf": [ref("QuantityOut"), ref("NumbersOut")]},
+        "description": "The numeric inputs echoed at every point of a grid, by name: a physical input as "
+                       "QuantityOut (in the output unit of its dimension), a dimensionless one as numbers.",
+    }
     schemas["AltitudeKind"] = {"type": "string", "enum": ["pressure", "geometric"],
                                "description": "What `altitude` is: a pressure altitude or a geometric height."}
     schemas["Calibration"] = {  # api.speeds.CalibrationField
@@ -463,7 +469,7 @@ def named_schemas() -> dict[str, dict]:
     }
     schemas["OutputUnits"] = {
         "type": "object",
-        "properties": {name: ref(schema_name(name, "Unit")) | {
+        "properties": {name: _output_unit(name) | {
             "description": f"{units.DIMENSIONS[name].description}; default {units.DIMENSIONS[name].default}."}
             for name in units.OUTPUT_DIMENSIONS},
         "additionalProperties": False,
@@ -473,6 +479,15 @@ def named_schemas() -> dict[str, dict]:
                          "is named. A key that applies to no output of the answer is refused (422).",
     }
     return schemas
+
+
+def _output_unit(dimension: str) -> dict:
+    """The schema of an output_units key: the dimension's unit enum, or a const where it has one symbol only
+    (a one-value enum type in every generated client would say nothing more)."""
+    symbols = units.DIMENSIONS[dimension].symbols
+    if len(symbols) == 1:
+        return {"type": "string", "const": next(iter(symbols))}
+    return ref(schema_name(dimension, "Unit"))
 
 
 def _bounds(field: Number, lo, hi) -> dict:

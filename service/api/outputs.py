@@ -91,8 +91,8 @@ def round_significant(value, digits: int):
 
     >>> round_significant(58.999999999999986, 6), round_significant(None, 3)
     (59.0, None)
-    >>> round_significant(np.array([278385.8267716535, 1.48764e-05, 0.0, -44.342, np.nan]), 3).tolist()
-    [278000.0, 1.49e-05, 0.0, -44.3, nan]
+    >>> round_significant(np.array([278385.8267716535, 1.48764e-05, 0.0, -44.342, np.nan, 2.557977936e25]), 3).tolist()
+    [278000.0, 1.49e-05, 0.0, -44.3, nan, 2.56e+25]
     """
     if type(value) is float:
         return float(f"{value:.{digits}g}") if value - value == 0.0 else value
@@ -104,7 +104,13 @@ def round_significant(value, digits: int):
         k = np.where(exact, k, 0.0)
         scale = np.power(10.0, np.abs(k))
         rounded = np.where(k >= 0, np.round(value * scale) / scale, np.round(value / scale) * scale)
-    return np.where(exact, rounded, value)
+    rounded = np.where(exact, rounded, value)
+    # Beyond the exact powers of ten (magnitudes past about 1e22, or below 1e-7 at 17 digits, e.g. a number
+    # density of 2.5e25 per m3): decimal formatting, as one NumPy string operation over those elements only.
+    far = ~exact & np.isfinite(value) & (value != 0.0)
+    if far.any():
+        rounded[far] = np.char.mod(f"%.{digits}g", value[far]).astype(np.float64)
+    return rounded
 
 
 class Result:
@@ -116,6 +122,7 @@ class Result:
         g.points = math.prod(self.shape)  # for the access log and the points-computed metric
         self.tree: dict = {}
         self.warnings: list[dict] = []
+        self._warning_masks: dict[str, np.ndarray] = {}  # field -> the points its warning covers (Result.warn)
         self._null_masks: dict[str, object] = {}  # output -> where null_where made it null
         self._units_used: set = set()  # the output_units keys that set the unit of something written
 
@@ -148,13 +155,19 @@ class Result:
         return values
 
     def warn(self, field: str, message: str, mask=None):
-        """A warning on ``field`` at the points of ``mask`` (default: every point)."""
-        if mask is None:
-            count, indices = math.prod(self.shape), []
+        """A warning on ``field`` at the points of ``mask`` (default: every point). One entry per field: a second
+        warning on the same field (another reason) joins the first, its message appended, its points added."""
+        mask = np.ones(self.shape, dtype=bool) if mask is None else np.broadcast_to(np.asarray(mask), self.shape)
+        entry = next((w for w in self.warnings if w["field"] == field), None)
+        if entry is None:
+            self._warning_masks[field] = mask
+            entry = {"field": field, "message": message}
+            self.warnings.append(entry)
         else:
-            mask = np.broadcast_to(np.asarray(mask), self.shape) if self.shape else np.asarray(mask)
-            count, indices = int(np.count_nonzero(mask)), first_indices(mask)
-        self.warnings.append({"field": field, "message": message, "count": count, "indices": indices})
+            mask = self._warning_masks[field] = self._warning_masks[field] | mask
+            if message not in entry["message"]:
+                entry["message"] += " " + message
+        entry["count"], entry["indices"] = int(np.count_nonzero(mask)), first_indices(mask)
 
     # --- writing: one walk over the outputs, for JSON and CSV -----------------------------------------
 

@@ -60,7 +60,8 @@ def _steps(start: float, stop: float, step: float) -> tuple[float, bool]:
     if not math.isfinite(x):
         return math.inf, False
     nearest = round(x)
-    on_step = abs(x - nearest) <= TOLERANCE + 8 * EPS * abs(x)
+    # (stop differs from start: within the tolerance of step 0 is not on a step, the range is start alone)
+    on_step = nearest != 0 and abs(x - nearest) <= TOLERANCE + 8 * EPS * abs(x)
     return (nearest if on_step else math.floor(x)), on_step
 
 
@@ -143,6 +144,8 @@ def expand(raw: dict, *, limit: int, unit_allowed: bool, number=float) -> tuple[
     [0.5, 0.6, 0.7, 0.8]
     >>> expand({"start": 5, "stop": 0, "step": -2}, limit=100, unit_allowed=False)[0].tolist()
     [5.0, 3.0, 1.0]
+    >>> expand({"start": 64, "stop": 65, "step": 1e300}, limit=100, unit_allowed=False)[0].tolist()
+    [64.0]
     """
     allowed = KEYS if unit_allowed else KEYS[:3]
     errors: dict[str, list[str]] = {}

@@ -51,6 +51,15 @@ class FlagOut(ma.fields.Field):
         return {"oneOf": [{"type": "boolean"}, {"type": "array", "items": {"type": "boolean"}}]}
 
 
+class InputsOut(ma.fields.Field):
+    """The grid's echo of the numeric inputs: {name: QuantityOut or NumbersOut}. In the spec, one named
+    ``InputsEcho`` schema for every endpoint (a type per endpoint would take the generated Python client past
+    120 model classes); the description names the endpoint's inputs and their units."""
+
+    def openapi(self):
+        return ref("InputsEcho")
+
+
 def quantity_out(description: str, dimension: str, **kwargs) -> QuantityOut:
     return QuantityOut(dimension, metadata={"description": description}, **kwargs)
 
@@ -74,14 +83,10 @@ def response_schema(name: str, outputs: dict, inputs: type[ma.Schema] | None = N
     attrs["warnings"] = ma.fields.List(ma.fields.Nested(WarningSchema), required=True, metadata={
         "description": "Outputs that are null or doubtful at some points, with why and where."})
     if inputs is not None:
-        input_fields = {
-            key: (quantity_out(f"`{key}` as given, at every point, in the output unit of its dimension "
-                               f"[{unit_for(f.dimension, {})}].", f.dimension) if getattr(f, "dimension", None)
-                  else ratio_out(f"`{key}` as given, at every point [-]."))
-            for key, f in inputs._declared_fields.items() if isinstance(f, Number)
-        }
-        inputs_schema = type(name + "Inputs", (ma.Schema,), input_fields)
-        attrs["inputs"] = ma.fields.Nested(inputs_schema, metadata={
-            "description": "Only with grid: true. Every numeric input at every point, in the output units of its "
-                           "dimension, so that each point can be read on its own."})
+        echoed = [f"`{key}` [{unit_for(f.dimension, {})}]" if getattr(f, "dimension", None) else f"`{key}` [-]"
+                  for key, f in inputs._declared_fields.items() if isinstance(f, Number)]
+        attrs["inputs"] = InputsOut(metadata={
+            "description": "Only with grid: true. Every numeric input given, at every point, in the output unit of "
+                           "its dimension (default shown), so that each point can be read on its own: "
+                           + ", ".join(echoed) + "."})
     return type(name, (ma.Schema,), attrs)

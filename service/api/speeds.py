@@ -9,7 +9,7 @@ from __future__ import annotations
 import marshmallow as ma
 import numpy as np
 
-from service.api.air import Air
+from service.api.air import Air, refuse_where
 from service.api.examples import TQ62_CALIBRATION
 from service.api.fields import Number, Quantity, parse_numbers, ref
 from service.api.inputs import Inputs
@@ -19,6 +19,9 @@ from service.api.outputs import require
 from service.api.problems import invalid
 from service.api.rules import ExactlyOne, Needs, NotTogether
 from service.physics import airspeed as spd
+from service.physics import humidity as hum
+from service.physics import total_temperature as tt
+from service.physics.constants import GAMMA, RHO0
 from service.units import UnitError, canonical, from_si, to_si
 
 #: The speed inputs, in the order a request is checked for them.
@@ -27,6 +30,8 @@ KINDS = ("ias", "cas", "eas", "tas", "mach")
 SPEED_MAX_KT = 3000.0
 #: Upper bound of Mach inputs [-]: the Rayleigh pitot relation is solved and tested up to Mach 5.
 MACH_MAX = 5.0
+#: Fixed-point steps for the static temperature from a TAT with an EAS and a relative humidity.
+EAS_HUMIDITY_STEPS = 6
 
 _NAMES = {
     "ias": "Indicated airspeed (needs `calibration`)",
@@ -128,10 +133,11 @@ def given_speed(inputs: Inputs) -> str | None:
 class Speeds:
     """Every speed kind at each point, from one given speed and the Air there [SI].
 
-    ``kind`` is the given kind, ``value`` its SI values. Attributes are computed on first use.
+    ``kind`` is the given kind, ``value`` its SI values (``given``: an input of the request, checked against
+    the range of `mach`; else a speed the endpoint found). Attributes are computed on first use.
     """
 
-    def __init__(self, air: Air, kind: str, value, calibration=None):
+    def __init__(self, air: Air, kind: str, value, calibration=None, given: bool = True):
         self.air = air
         self.kind = kind
         self.calibration = calibration
@@ -145,6 +151,40 @@ class Speeds:
                 raise invalid([{"pointer": "/ias", "message": f"IAS outside the calibration table's IAS column, "
                                 f"{lo:g} to {hi:g} kt{at}; nothing is extrapolated."}])
             self.__dict__["cas"] = cas
+        self.given = given
+        if air is not None:
+            self.check(air)
+
+    def check(self, air: Air):
+        """With a total air temperature, the static temperature from it and the speed (closed form; then the
+        Air's checks); and one validity range whatever the speed's form: the Mach number of a CAS, EAS or TAS
+        within the range accepted for `mach`."""
+        if air.tat is not None:
+            air.set_temperature(self._static_temperature(air))
+        if self.given and self.kind != "mach":
+            mach = self.mach
+            refuse_where(mach > MACH_MAX, self.kind,
+                         f"This {self.kind} is beyond Mach {MACH_MAX:g} here, the range accepted for `mach`.")
+
+    def _static_temperature(self, air: Air):
+        """The static temperature from the total air temperature and the given speed [K]."""
+        r = air.recovery_factor
+        if self.kind == "tas":
+            return tt.static_temperature_from_tas(air.tat, self.tas, r)
+        if self.kind != "eas":  # the Mach number of a CAS or IAS needs the static pressure only
+            return tt.static_temperature_from_mach(air.tat, self.mach, r)
+        # EAS = M sqrt(gamma p T / (rho0 Tv)): the Mach number needs T / Tv, fixed by a dew point; with a
+        # relative humidity the vapour pressure follows the temperature (a few fixed-point steps, each
+        # shrinking the error some twenty-fold: the humidity moves the Mach number by 1 % at most).
+        dry_mach = self.eas / np.sqrt(GAMMA * air.p / RHO0)
+        if not air.humid:
+            return tt.static_temperature_from_mach(air.tat, dry_mach, r)
+        T = tt.static_temperature_from_mach(air.tat, dry_mach, r)
+        for _ in range(1 if air.dew_point is not None else EAS_HUMIDITY_STEPS):
+            e = (hum.vapour_pressure_from_dew_point(air.dew_point) if air.dew_point is not None
+                 else hum.vapour_pressure_from_relative_humidity(T, air.relative_humidity))
+            T = tt.static_temperature_from_mach(air.tat, dry_mach * np.sqrt(hum.virtual_temperature(1.0, e, air.p)), r)
+        return T
 
     @lazy
     def qc(self):
@@ -180,7 +220,10 @@ class Speeds:
 
     @lazy
     def q(self):
-        """Dynamic pressure (gamma/2) p M^2 = 1/2 rho V^2 [Pa]."""
+        """Dynamic pressure 1/2 rho V^2 [Pa]: (gamma/2) p M^2 in dry air; in moist air 1/2 rho V^2 with the moist
+        density (the Mach number is that of dry air's speed of sound, so the dry form would not hold)."""
+        if self.air.humid:
+            return 0.5 * self.air.rho * self.tas**2
         return spd.dynamic_pressure(self.mach, self.air.p)
 
     def require(self, name: str):

@@ -69,6 +69,7 @@ __all__ = [
     "geopotential_altitude",
     "kinematic_viscosity",
     "pressure_altitude",
+    "pressure_altitude_at_height",
     "pressure_level_height",
     "qnh_offset",
     "ratios",
@@ -798,16 +799,17 @@ def temperature_from_deviation(H, dT, T_std=None):
     return np.add(standard_temperature(H) if T_std is None else T_std, dT)
 
 
-def pressure_level_height(H, dT, p=None):
+def pressure_level_height(H, dT, p=None, datum=None):
     r"""Geometric height of the pressure level of pressure altitude ``H`` on a day with
-    ISA deviation ``dT``, above the standard-pressure datum.
+    ISA deviation ``dT``, above a datum: the standard-pressure level, or the level where the
+    pressure is ``datum`` (mean sea level when ``datum`` is the QNH).
 
     The hypsometric relation stretches every layer by ``(T_std + dT) / T_std``:
 
     .. math::
 
-        Z = \int_0^H \frac{T_{std}(H') + \Delta T}{T_{std}(H')}\,dH'
-          = H + \Delta T \int_0^H \frac{dH'}{T_{std}(H')}, \qquad
+        Z = \int_{H_d}^H \frac{T_{std}(H') + \Delta T}{T_{std}(H')}\,dH'
+          = H - H_d + \Delta T \int_{H_d}^H \frac{dH'}{T_{std}(H')}, \qquad
         h = \frac{r Z}{r - Z}
 
     with, per layer, :math:`\int dH/T = \ln(T_{top}/T_{bottom}) / L` (gradient) or
@@ -823,11 +825,15 @@ def pressure_level_height(H, dT, p=None):
     p : float or array_like, optional
         The standard pressure at ``H`` [Pa], when the caller has it already (from
         :func:`standard_state`): the layers are then not evaluated a second time.
+    datum : float or array_like, optional
+        Pressure at the datum [Pa], for example the QNH (whose level is mean sea level);
+        default ``P0``, the standard-pressure level. ``H_d`` is its pressure altitude.
 
     Returns
     -------
     h : np.float64 or ndarray
-        Geometric height of the pressure level above the level where ``p = P0`` [m].
+        Geometric height of the pressure level above the datum [m] (above mean sea level when
+        ``datum`` is the QNH); NaN where ``datum`` is outside the model's pressure range.
 
     Notes
     -----
@@ -836,9 +842,11 @@ def pressure_level_height(H, dT, p=None):
     deviation), and the geopotential thickness ``Z`` is converted with the same nominal
     Earth radius as the standard. The layer integrals summed from the datum are exactly the
     exponent of the standard pressure, so ``int_0^H dH'/T_std = (R / g0) ln(P0 / p_std(H))``
-    is how it is evaluated. With ``dT = 0`` the result is ``geometric_altitude(H)`` exactly.
-    The height is above the standard-pressure datum, not above mean sea level (they differ
-    unless QNH is 1013.25 hPa).
+    is how it is evaluated; from a datum of pressure ``p_d``, ``int_{H_d}^H dH'/T_std =
+    (R / g0) ln(p_d / p_std(H))``. With ``dT = 0`` and no datum the result is
+    ``geometric_altitude(H)`` exactly. Without a datum the height is above the
+    standard-pressure level, not above mean sea level (they differ unless QNH is 1013.25 hPa).
+    :func:`pressure_altitude_at_height` is the inverse.
 
     Examples
     --------
@@ -846,6 +854,8 @@ def pressure_level_height(H, dT, p=None):
     3001.42
     >>> print(f"{pressure_level_height(3_000.0, 15.0):.1f}")
     3163.3
+    >>> print(f"{pressure_level_height(3_000.0 + qnh_offset(100_000.0), 15.0, datum=100_000.0):.1f}")
+    3163.7
 
     References
     ----------
@@ -859,4 +869,123 @@ def pressure_level_height(H, dT, p=None):
     else:
         log_p = np.log(np.divide(p, P0))
     integral = np.divide(log_p, -_G0_R)
-    return geometric_altitude(H + np.multiply(dT, integral))
+    if datum is None:
+        return geometric_altitude(H + np.multiply(dT, integral))
+    # From the datum: subtract its pressure altitude and its share of the integral.
+    integral = integral + np.divide(np.log(np.divide(datum, P0)), _G0_R)
+    return geometric_altitude(H - pressure_altitude(datum) + np.multiply(dT, integral))
+
+
+#: Iteration cap of :func:`pressure_altitude_at_height` (safeguarded Newton; it converges in 3 to 6
+#: steps, bisection steps only where a Newton step leaves the bracket).
+HEIGHT_MAX_ITER = 100
+#: Convergence tolerance of that solve: a Newton step below ``HEIGHT_RTOL |H|`` or ``HEIGHT_ATOL``.
+HEIGHT_RTOL = 1e-12
+#: Absolute floor of the tolerance [m] (the residual's rounding is about 1e-10 m).
+HEIGHT_ATOL = 1e-9
+
+
+def pressure_altitude_at_height(h, dT=None, T=None, datum=None):
+    r"""Pressure altitude of the pressure level at geometric height ``h`` above a datum on an
+    off-standard day: the inverse of :func:`pressure_level_height`.
+
+    Solves for ``H``
+
+    .. math::
+
+        \frac{r\,h}{r + h} = H - H_d + \Delta T(H)\,\frac{R}{g_0}\ln\frac{p_d}{p_{std}(H)},
+        \qquad \Delta T(H) = \Delta T \ \text{or} \ T - T_{std}(H)
+
+    Parameters
+    ----------
+    h : float or array_like
+        Geometric height above the datum [m].
+    dT : float or array_like, optional
+        ISA deviation, constant from the datum up [K].
+    T : float or array_like, optional
+        Instead of ``dT``: the temperature at the pressure level sought [K]; the deviation is
+        then ``T - T_std(H)`` at that level, as when the forward relation is given ``T``.
+        Neither: a standard day.
+    datum : float or array_like, optional
+        Pressure at the datum [Pa] (the QNH for a height above mean sea level); default
+        ``P0``.
+
+    Returns
+    -------
+    H : np.float64 or ndarray
+        Pressure altitude (geopotential) [m]; NaN where it would lie outside
+        [``H_MIN``, ``H_MAX``] or the datum outside the model's pressure range.
+
+    Notes
+    -----
+    The right-hand side is :func:`pressure_level_height`'s geopotential thickness ``Z``, so
+    ``pressure_level_height(pressure_altitude_at_height(h, dT), dT) == h`` to rounding, and with
+    ``T`` given the same holds with ``dT = T - standard_temperature(H)``. It increases
+    monotonically with ``H`` (its derivative is ``T / T_std`` for a given deviation, and
+    ``T / T_std - L (R/g0) ln(p_d / p_std)`` for a given temperature, positive in the model's
+    range for deviations within +-100 K), so the root is unique. Newton's method runs on all
+    points at once inside the bracket [``H_MIN``, ``H_MAX``], bisecting where a step would leave
+    it; points not converged after ``HEIGHT_MAX_ITER`` steps are NaN. On a standard day without
+    a datum this is :func:`geopotential_altitude`.
+
+    Examples
+    --------
+    >>> print(f"{pressure_altitude_at_height(3163.28, 15.0):.2f}")
+    3000.00
+    >>> H = pressure_altitude_at_height(10_000.0, 20.0)
+    >>> print(f"{H:.1f} {pressure_level_height(H, 20.0):.6f}")
+    9263.1 10000.000000
+
+    References
+    ----------
+    .. [1] ICAO Doc 7488/3 (1993), hydrostatic equation; U.S. Standard Atmosphere 1976, eqs. 18
+       and 33.
+    """
+    if dT is not None and T is not None:
+        raise ValueError("give at most one of dT and T")
+    given_T = T is not None
+    arrays = [np.asarray(h, dtype=np.float64),
+              np.asarray(0.0 if dT is None and T is None else (T if given_T else dT), dtype=np.float64),
+              np.asarray(P0 if datum is None else datum, dtype=np.float64)]
+    h, deviation, p_d = np.broadcast_arrays(*arrays)
+    shape = h.shape
+    h, deviation, p_d = (x.reshape(-1).copy() for x in (h, deviation, p_d))
+    Z_target = geopotential_altitude(h)
+    H_d = pressure_altitude(p_d) if datum is not None else np.zeros_like(h)
+    log_p_d = np.log(p_d)
+
+    def residual(H):
+        T_std, p = standard_state(H)
+        integral = (log_p_d - np.log(p)) / _G0_R  # int_{H_d}^{H} dH' / T_std  [m/K]
+        dev = deviation - T_std if given_T else deviation
+        slope = 1.0 + dev / T_std
+        if given_T:
+            layer = np.clip(np.searchsorted(_HB, H, side="right") - 1, 0, len(_HB) - 1)
+            slope = slope - _L.take(layer) * integral
+        return H - H_d + dev * integral - Z_target, slope
+
+    lo = np.full_like(h, H_MIN)
+    hi = np.full_like(h, H_MAX)
+    f_lo, _ = residual(lo)
+    f_hi, _ = residual(hi)
+    slack = np.maximum(HEIGHT_RTOL * np.abs(Z_target), HEIGHT_ATOL)  # rounding at the range's ends
+    outside = ~((f_lo <= slack) & (f_hi >= -slack))  # also NaN inputs
+    # Start from the standard-day relation, inside the bracket.
+    H = np.clip(Z_target + np.where(np.isfinite(H_d), H_d, 0.0), H_MIN, H_MAX)
+    H[outside] = 0.0
+    done = outside.copy()
+    for _ in range(HEIGHT_MAX_ITER):
+        f, slope = residual(H)
+        lo = np.where(f < 0.0, H, lo)
+        hi = np.where(f > 0.0, H, hi)
+        H_next = H - f / slope
+        bisect = ~((H_next >= lo) & (H_next <= hi))
+        H_next = np.where(bisect, 0.5 * (lo + hi), H_next)
+        H_next = np.where(f == 0.0, H, H_next)
+        step = np.abs(H_next - H)
+        H = np.where(done, H, H_next)
+        done |= step <= np.maximum(HEIGHT_RTOL * np.abs(H), HEIGHT_ATOL)
+        if done.all():
+            break
+    H[outside | ~done] = np.nan
+    return H[0] if not shape else H.reshape(shape)

@@ -84,6 +84,9 @@ SOLVE_OUTPUTS = {
     "pressure_altitude": ("altitude", "Pressure altitude [ft]."),
     "density_altitude": ("altitude", "Density altitude [ft]; null (with a warning) outside the model's range."),
     "density": ("density", "Air density [kg/m3]."),
+    "total_air_temperature": ("temperature", "Total air temperature a probe of recovery factor r reads at this "
+                                             "speed, T (1 + r (gamma-1)/2 M^2) [degC]."),
+    "ram_rise": ("temperature_difference", "Ram rise: the total air temperature minus the static temperature [K]."),
     "angle_of_attack": ("angle", "With `wing`: the angle of attack that gives this CL on the linear lift curve "
                                  "[deg]; null (with a warning) at Mach 1 or above."),
     "beyond_stall": (None, "With `wing.cl_max`: true where CL is above CLmax (the wing would be stalled)."),
@@ -196,7 +199,7 @@ class Solution:
             self.q = lf.required_dynamic_pressure(self.W, self.n, self.S, self.cl)
             eas = require("eas", lf.eas_from_dynamic_pressure(self.q), "the lift equation has no finite speed here.")
             self.air = air.air(inputs)
-            self.speeds = Speeds(self.air, "eas", eas)
+            self.speeds = Speeds(self.air, "eas", eas, given=False)
         else:
             self.air = air.air(inputs)
             self.speeds = Speeds(self.air, kind, inputs.si(kind), inputs.get("calibration"))
@@ -282,6 +285,8 @@ _OUTPUTS = {
     "density": lambda s: s.air.rho,
     "angle_of_attack": Solution.angle_of_attack,
     "beyond_stall": lambda s: s.cl > block(s.inputs, "wing", "cl_max"),
+    "total_air_temperature": lambda s: s.air.total_air_temperature(s.speeds.mach),
+    "ram_rise": lambda s: s.air.total_air_temperature(s.speeds.mach) - s.air.T,
 }
 
 

@@ -171,7 +171,7 @@ def _stall_eas(inputs: Inputs, state: Air, n):
     else:
         air.check_altitude_range(H_ref, "reference/altitude")
     # CAS -> EAS depends on the static pressure only, so the standard day at the reference altitude serves.
-    ref_eas = Speeds(Air(H_ref), "cas", block(inputs, "reference", "stall_speed")).eas
+    ref_eas = Speeds(Air(H_ref), "cas", block(inputs, "reference", "stall_speed"), given=False).eas
     ref_eas = require("stall", ref_eas, "the reference stall speed has no EAS at its altitude.")
     W_ref = block(inputs, "reference", "weight")
     return lf.scale_stall_eas(ref_eas, W, W_ref), lf.scale_stall_eas(ref_eas, W, W_ref, n)
@@ -205,12 +205,12 @@ def stall(inputs):
     n = load_factor(inputs)
     vs_1g, vs_n = _stall_eas(inputs, state, n)
     if inputs.wants("stall"):
-        values = _speed_values(Speeds(state, "eas", vs_n), "stall")
+        values = _speed_values(Speeds(state, "eas", vs_n, given=False), "stall")
         result.add_tree("stall", {key: Leaf(*value) for key, value in values.items()})
     factors = inputs.get("speed_factors")
     if factors is not None and inputs.wants("multiples"):
         k = factors.reshape((-1,) + (1,) * len(result.shape))
-        values = _speed_values(Speeds(state, "eas", k * vs_n), "multiples")  # one row per factor
+        values = _speed_values(Speeds(state, "eas", k * vs_n, given=False), "multiples")  # one row per factor
         fractions = lf.cl_fraction(factors)
         result.add_tree("multiples", [
             {"factor": Leaf(factors[i]), **{key: Leaf(rows[i], dim) for key, (rows, dim) in values.items()},
