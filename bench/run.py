@@ -340,7 +340,7 @@ def throughput_bodies(n: int) -> dict[str, dict]:
         "/v1/lift/solve": {"solve_for": "cl", "weight": np.linspace(15000, 23000, n).tolist(), "wing_area": 61,
                            "mach": 0.6, "altitude": np.linspace(5000, 35000, n).tolist(), "isa_deviation": 5},
         "/v1/lift/stall": {"weight": np.linspace(15000, 23000, n).tolist(), "wing_area": 61, "cl_max": 1.6,
-                           "altitude": 3000, "bank_angle": 30, "speed_factors": [1.13, 1.3], "cas": 180},
+                           "altitude": 3000, "bank_angle": 30, "speed_factors": [1.3], "cas": 180},  # 2 rows a point
         "/v1/lift/curve": {"aspect_ratio": 11, "sweep_half_chord": 0, "mach": np.linspace(0.1, 0.65, n).tolist(),
                            "airfoil_lift_slope": 6.0, "cl": 0.8, "cl_max": 1.6},
     }
