@@ -951,6 +951,14 @@ def pressure_altitude_at_height(h, dT=None, T=None, datum=None):
     shape = h.shape
     h, deviation, p_d = (x.reshape(-1).copy() for x in (h, deviation, p_d))
     Z_target = geopotential_altitude(h)
+    if datum is None and not given_T and not deviation.any():
+        # A standard day from the standard datum: the root is the geopotential altitude itself, where the
+        # iteration below starts and stops at once (its residual there is exactly 0), clipped to the range
+        # within the slack; the same numbers without evaluating the atmosphere three times.
+        slack = np.maximum(HEIGHT_RTOL * np.abs(Z_target), HEIGHT_ATOL)
+        H = np.clip(Z_target + 0.0, H_MIN, H_MAX)  # + 0.0 as below: -0.0 becomes 0.0
+        H[~((H_MIN - Z_target <= slack) & (H_MAX - Z_target >= -slack))] = np.nan
+        return H[0] if not shape else H.reshape(shape)
     H_d = pressure_altitude(p_d) if datum is not None else np.zeros_like(h)
     log_p_d = np.log(p_d)
 
