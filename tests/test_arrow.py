@@ -127,7 +127,7 @@ def test_header_is_the_csv_header(name):
 # --- Arrow and Parquet answers of every compute endpoint, value for value against JSON ---------------
 
 from service.api import examples  # noqa: E402
-from tests.helpers import count_calls, post  # noqa: E402
+from tests.helpers import assert_problem, count_calls, post  # noqa: E402
 from tests.test_bulk import BULK  # noqa: E402
 
 ARROW = arrow.ARROW_STREAM
@@ -309,3 +309,21 @@ def test_columns_converted_as_sent_are_the_same_bytes(client, monkeypatch, path,
     columns = outputs.Result.columns
     monkeypatch.setattr(outputs.Result, "columns", lambda self, later=False: columns(self))
     assert post(client, path, body, {"Accept": ARROW}).data == sent.data
+
+
+@pytest.mark.parametrize("extra", [{"significant_digits": 4}, {"output_units": {"altitude": "m", "speed": "km/h"}}])
+def test_columns_rounded_or_in_other_units_as_sent_are_the_same_bytes(client, monkeypatch, extra):
+    body = BULK["/v1/airspeed"](50) | extra
+    sent = post(client, "/v1/airspeed", body, {"Accept": ARROW})
+    assert sent.status_code == 200, sent.get_data(as_text=True)[:300]
+    columns = outputs.Result.columns
+    monkeypatch.setattr(outputs.Result, "columns", lambda self, later=False: columns(self))
+    assert post(client, "/v1/airspeed", body, {"Accept": ARROW}).data == sent.data
+
+
+def test_a_column_is_checked_in_its_unit_before_the_stream_begins(client):
+    """A wing area of 3.4e307 m2 is finite, but not in ft2: a 422 before any byte, as for JSON."""
+    body = {"solve_for": "wing_area", "cl": [0.5, 1e-306], "weight": 21000, "mach": 0.6, "altitude": 35000}
+    assert post(client, "/v1/lift/solve", body, {"Accept": ARROW}).status_code == 200
+    response = post(client, "/v1/lift/solve", body | {"output_units": {"area": "ft2"}}, {"Accept": ARROW})
+    assert "wing_area is not a finite number here" in assert_problem(response, 422, "/wing_area")["detail"]

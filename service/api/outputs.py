@@ -335,20 +335,45 @@ class Result:
 
         def column(prefix, check):
             def visit(path, leaf):
-                value, unit = self._leaf(prefix + path, leaf, check, json=False)
-                values = np.atleast_1d(value)
                 null = self._null_mask(path) if check else None
                 si = leaf.si
-                if (later and values is not si and values.dtype == np.float64 and type(si) is np.ndarray
-                        and si.dtype == np.float64 and si.shape == self.shape and si.flags.c_contiguous):
-                    columns.append(Column(prefix + path, unit, si, null, partial(self._values, prefix + path, leaf)))
-                else:
-                    columns.append(Column(prefix + path, unit, values, null))
+                if (later and type(si) is np.ndarray and si.dtype == np.float64 and si.shape == self.shape
+                        and si.flags.c_contiguous):
+                    unit = self._checked_unmade(prefix + path, leaf, check)
+                    if unit is not False:
+                        make = partial(self._values, prefix + path, leaf)
+                        columns.append(Column(prefix + path, unit, si, null, make))
+                        return
+                value, unit = self._leaf(prefix + path, leaf, check, json=False)
+                columns.append(Column(prefix + path, unit, np.atleast_1d(value), null))
             return visit
 
         self._walk(self._input_leaves(), "", column("input.", False))
         self._walk(self.tree, "", column("", True))
         return columns
+
+    def _checked_unmade(self, path: str, leaf: Leaf, check: bool):
+        """The unit of a column to be made later (its values are other numbers than its SI array: converted,
+        rounded or as given), noted as used, once its values are known to be finite where they must be (else
+        the 422 of :meth:`_check_finite`); False when the column is its SI array as it is (nothing to make).
+
+        Finite SI values whose largest magnitude stays finite through the conversion give finite values in
+        the unit (and rounding keeps a number finite): one reduction instead of a conversion. Otherwise (a NaN
+        under a null, a huge value) the values are made, checked and let go."""
+        unit = None if leaf.dimension is None else unit_for(leaf.dimension, self.inputs.output_units)
+        as_given = leaf.given is not None and leaf.given_unit == unit
+        u = None if unit is None or as_given else units.lookup(leaf.dimension, unit)
+        converts = u is not None and (u.factor != 1.0 or u.offset != 0.0)
+        if not (converts or as_given or self.inputs.significant_digits is not None):
+            return False
+        if unit is not None:
+            self._units_used.add(chosen_by(leaf.dimension, self.inputs.output_units))
+        if check:
+            si = leaf.si
+            bound = max(si.max(), -si.min()) if si.size else 0.0
+            if not (np.isfinite(bound) and (not converts or np.isfinite((bound + abs(u.offset)) / u.factor))):
+                self._leaf(path, leaf, check, json=False, rounded=False)
+        return unit
 
     def _values(self, path: str, leaf: Leaf) -> np.ndarray:
         """A column's values in the caller's unit, once more (checked already by :meth:`columns`)."""
