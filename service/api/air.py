@@ -339,21 +339,21 @@ class Air:
     def thermal_conductivity(self):
         return props.thermal_conductivity(self.T)
 
-    @property
+    @lazy
     def number_density(self):
         return props.number_density(self.p, self.T)
 
-    @property
+    @lazy
     def mean_particle_speed(self):
         return props.mean_particle_speed(self.T)
 
-    @property
+    @lazy
     def mean_free_path(self):
-        return props.mean_free_path(self.p, self.T)
+        return props.mean_free_path(self.p, self.T, self.number_density)  # each evaluated once, reused
 
     @property
     def collision_frequency(self):
-        return props.collision_frequency(self.p, self.T)
+        return props.collision_frequency(self.p, self.T, self.mean_particle_speed, self.mean_free_path)
 
     @property
     def pressure_scale_height(self):

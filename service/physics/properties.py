@@ -160,7 +160,7 @@ def mean_particle_speed(T):
     return np.sqrt(np.multiply(T, 8.0 * _SPECIFIC_R / math.pi))
 
 
-def mean_free_path(p, T):
+def mean_free_path(p, T, n=None):
     r"""Mean distance a molecule travels between collisions.
 
     .. math:: L = \frac{1}{\sqrt{2}\,\pi\,\sigma^2\,n}
@@ -171,6 +171,8 @@ def mean_free_path(p, T):
         Static pressure [Pa].
     T : float or array_like
         Temperature [K].
+    n : float or array_like, optional
+        The number density at ``p`` and ``T`` when the caller has it already (:func:`number_density`).
 
     Returns
     -------
@@ -191,10 +193,10 @@ def mean_free_path(p, T):
     ----------
     .. [1] U.S. Standard Atmosphere 1976, eq. 55.
     """
-    return np.reciprocal(np.multiply(number_density(p, T), _CROSS_SECTION))
+    return np.reciprocal(np.multiply(number_density(p, T) if n is None else n, _CROSS_SECTION))
 
 
-def collision_frequency(p, T):
+def collision_frequency(p, T, speed=None, path=None):
     r"""Mean number of collisions per second of one molecule: mean speed over mean free path.
 
     .. math:: \nu = \frac{\bar V}{L} = 4 N_A \sigma^2 \sqrt{\frac{\pi}{R^* M_0}}\,\frac{p}{\sqrt{T}}
@@ -205,6 +207,8 @@ def collision_frequency(p, T):
         Static pressure [Pa].
     T : float or array_like
         Temperature [K].
+    speed, path : float or array_like, optional
+        The mean particle speed and mean free path at ``p`` and ``T`` when the caller has them already.
 
     Returns
     -------
@@ -224,7 +228,7 @@ def collision_frequency(p, T):
     ----------
     .. [1] U.S. Standard Atmosphere 1976, eq. 56.
     """
-    return np.divide(mean_particle_speed(T), mean_free_path(p, T))
+    return np.divide(mean_particle_speed(T) if speed is None else speed, mean_free_path(p, T) if path is None else path)
 
 
 def pressure_scale_height(T, g):
