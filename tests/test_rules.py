@@ -12,14 +12,18 @@ from hypothesis import strategies as st
 
 from service.api.airspeed import AirspeedRequest, CrossoverRequest, ScheduleRequest
 from service.api.atmosphere import AtmosphereRequest
+from service.api.drag import DragRequest, DragSpeedsRequest
 from service.api.fields import Value, named_schemas
 from service.api.lift.curve import LiftCurveRequest
 from service.api.lift.solve import UNKNOWNS, LiftSolveRequest, LiftWingSchema
+from service.api.lift.buffet import BuffetRequest
 from service.api.lift.stall import LiftStallRequest
+from service.api.lift.turn import TurnRequest
 from service.api.rules import NotTogether, RuleSchema, schema_rules
 
 SCHEMAS = [AtmosphereRequest, AirspeedRequest, CrossoverRequest, ScheduleRequest, LiftSolveRequest,
-           LiftStallRequest, LiftCurveRequest, LiftWingSchema]
+           LiftStallRequest, LiftCurveRequest, LiftWingSchema, TurnRequest, BuffetRequest, DragRequest,
+           DragSpeedsRequest]
 
 
 def _value(unit):
