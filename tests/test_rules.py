@@ -14,9 +14,9 @@ from service.api.airspeed import AirspeedRequest, CrossoverRequest, ScheduleRequ
 from service.api.atmosphere import AtmosphereRequest
 from service.api.drag import DragRequest, DragSpeedsRequest
 from service.api.fields import Value, named_schemas
+from service.api.lift.buffet import BuffetRequest
 from service.api.lift.curve import LiftCurveRequest
 from service.api.lift.solve import UNKNOWNS, LiftSolveRequest, LiftWingSchema
-from service.api.lift.buffet import BuffetRequest
 from service.api.lift.stall import LiftStallRequest
 from service.api.lift.turn import TurnRequest
 from service.api.rules import NotTogether, RuleSchema, schema_rules
