@@ -19,8 +19,10 @@ default), and a Quantity is a ``fields.Value`` (``.unit`` is the unit given).
 
 from __future__ import annotations
 
+import copy
 import functools
 import itertools
+import json
 from collections.abc import Callable
 
 import marshmallow as ma
@@ -301,6 +303,8 @@ class _Loaded:
 
 #: A value that meets no condition on a field's value.
 _OTHER = _Loaded()
+#: Jointly's published alternatives, by the rules' own specs (a schema per process, several schemas alike).
+_JOINT_SPECS: dict[str, dict] = {}
 
 
 class Jointly(Rule):
@@ -342,6 +346,12 @@ class Jointly(Rule):
         return atoms
 
     def spec(self):
+        key = json.dumps([rule.spec() for rule in self.rules], sort_keys=True)  # the same rules, the same table
+        if key not in _JOINT_SPECS:
+            _JOINT_SPECS[key] = self._spec()
+        return copy.deepcopy(_JOINT_SPECS[key])
+
+    def _spec(self):
         atoms = self._atoms()
         allowed, free = set(), set()
         for bits in itertools.product((0, 1), repeat=len(atoms)):
