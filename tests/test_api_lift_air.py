@@ -112,6 +112,19 @@ def test_moist_turn_at_an_eas(client):
     assert value(doc, "radius") == pytest.approx(tas ** 2 / (G0 * math.tan(math.radians(30))), rel=2e-4)
 
 
+def test_moist_altitude_solve_at_a_mach_number(client):
+    # p = W / ((gamma/2) M^2 S CL): the pressure altitude needs neither temperature nor humidity; the density there
+    # is the moist one (MetPy) at the ISA+10 temperature of that altitude.
+    mach, cl = 0.45, 0.6
+    doc = post(client, SOLVE, {"solve_for": "altitude", "weight": W_KG, "wing_area": S, "cl": cl, "mach": mach,
+                               "isa_deviation": 10, "relative_humidity": 60,
+                               "outputs": ["pressure_altitude", "density"], "output_units": {"altitude": "m"}}).json
+    H = ref.pressure_altitude(W_KG * G0 / (0.5 * ref.KAPPA * mach ** 2 * S * cl))
+    assert value(doc, "pressure_altitude") == pytest.approx(H, abs=1e-3)
+    t_c = ref.std_tp(H)[0] + 10.0 - 273.15
+    assert value(doc, "density") == pytest.approx(metpy_density(H, t_c, rh=60.0), rel=1e-4)
+
+
 def test_humidity_changes_no_buffet_margin(client):
     # At a given Mach number CL = W / ((gamma/2) p M^2 S): the static pressure alone, dry or moist.
     body = {"weight": W_KG, "wing_area": S, "mach": 0.5, "altitude": 5000, "temperature": 25, "buffet": TQ62_BUFFET}
@@ -238,13 +251,14 @@ def test_tat_drag_at_a_cl(client):
 
 # --- refusals, each with its pointer --------------------------------------------------------------------------
 
-_SOLVE_ALT = {"solve_for": "altitude", "weight": W_KG, "wing_area": S, "cl": 0.6, "mach": 0.45}
+_SOLVE_ALT = {"solve_for": "altitude", "weight": W_KG, "wing_area": S, "cl": 0.6, "tas": 260}
 _POLAR = {"weight": W_KG, "wing_area": S, "cd0": 0.024, "induced_drag_factor": 0.0371}
 
 
 @pytest.mark.parametrize(("path", "body", "pointer", "why"), [
-    (SOLVE, {**_SOLVE_ALT, "dew_point": -20}, "/dew_point", "Solving for altitude takes dry air"),
-    (SOLVE, {**_SOLVE_ALT, "relative_humidity": 50}, "/relative_humidity", "Solving for altitude takes dry air"),
+    (SOLVE, {**_SOLVE_ALT, "dew_point": -20}, "/dew_point", "Solving for altitude from a TAS takes dry air"),
+    (SOLVE, {**_SOLVE_ALT, "relative_humidity": 50}, "/relative_humidity",
+     "Solving for altitude from a TAS takes dry air"),
     (STALL, {"weight": 22000, "wing_area": S, "cl_max": 1.6, "altitude": 5000, "total_air_temperature": 20},
      "/total_air_temperature", "give that speed"),
     (DRAG_SPEEDS, {**_POLAR, "altitude": 5000, "total_air_temperature": 20}, "/total_air_temperature",
@@ -282,6 +296,8 @@ def test_the_spec_states_the_refusals(client):
         return jsonschema.Draft202012Validator({**schemas[name], "components": spec["components"]}).is_valid(body)
 
     assert not valid("LiftSolveRequest", {**_SOLVE_ALT, "dew_point": -20})
+    at_mach = {key: v for key, v in _SOLVE_ALT.items() if key != "tas"} | {"mach": 0.45}
+    assert valid("LiftSolveRequest", {**at_mach, "dew_point": -20})  # from the pressure alone: humidity applies
     assert valid("LiftSolveRequest", {**_SOLVE_ALT, "total_air_temperature": -12})
     assert not valid("LiftStallRequest", {"weight": 22000, "wing_area": S, "cl_max": 1.6, "altitude": 5000,
                                           "total_air_temperature": 20})

@@ -43,7 +43,7 @@ from service.api.lift.common import (
 )
 from service.api.masks import any_true
 from service.api.outputs import Result, require
-from service.api.rules import Cases, Given, Never, NoneOf, RuleSchema
+from service.api.rules import Cases, Given, Jointly, Never, NoneOf, RuleSchema
 from service.api.schemas import FlagOut, LabelOut, response_schema
 from service.api.speeds import (
     CALIBRATION_NEEDS_IAS,
@@ -101,10 +101,10 @@ GIVEN_BY = {"cl": ("cl",), "weight": ("weight",), "wing_area": ("wing_area",),
 
 
 def _dry_for_altitude(name: str) -> str:
-    """Why an altitude solve takes no humidity (the message on ``name``, the field given)."""
-    return ("Solving for altitude takes dry air: with a TAS the pressure altitude follows from the density the lift "
+    """Why an altitude solve from a TAS takes no humidity (the message on ``name``, the field given)."""
+    return ("Solving for altitude from a TAS takes dry air: the pressure altitude follows from the density the lift "
             "needs through the dry-air gas law, which is not inverted for moist air at an altitude still unknown. "
-            f"Leave out {name}.")
+            f"Leave out {name}, or give a Mach number or CAS (the altitude then follows from the pressure alone).")
 
 
 def _solve_case(unknown: str):
@@ -120,7 +120,7 @@ def _solve_case(unknown: str):
                    "does not fix the altitude. Give a Mach number, TAS or CAS instead."}),
                   Never(Given("altitude_kind", value={"altitude_kind": "geometric"}), "altitude_kind",
                         "Solving for altitude gives a pressure altitude; leave out altitude_kind."),
-                  NoneOf(*air.HUMIDITY_FIELDS, message=_dry_for_altitude)]
+                  Jointly(*(Never(Given("tas", name), name, _dry_for_altitude(name)) for name in air.HUMIDITY_FIELDS))]
     needed = tuple(name for name in LIFT_INPUTS if name != unknown)
     return needed, f"Missing: needed to solve for {unknown}.", tuple(rules)
 
@@ -329,10 +329,12 @@ def solve(inputs):
     inputs, with every related quantity filled in: lift, weight, load factor and level-turn bank angle, CL, wing
     area and loading, dynamic pressure, CAS, EAS, TAS, Mach, pressure and density altitude, density, and with a
     `wing` block the angle of attack. Solving for altitude: with a Mach number the pressure altitude follows from
-    p = n W / ((gamma/2) M^2 S CL); with a TAS from the density (and the ISA deviation); with a CAS or IAS by a
-    root find (sensitive to the inputs, with a warning); with an EAS it has no answer, since q = 1/2 rho0 EAS^2 at
-    every altitude. The solved-for value must exist at every point (else a 422); other values that do not exist
-    are null with a warning. Arrays broadcast; `grid: true` takes their outer product.
+    p = n W / ((gamma/2) M^2 S CL); with a TAS from the density (and the ISA deviation, the temperature or the
+    TAT; dry air); with a CAS or IAS by a root find (sensitive to the inputs, with a warning); with an EAS it has
+    no answer, since q = 1/2 rho0 EAS^2 at every altitude. A dew point or relative humidity makes the air moist
+    (the density at the virtual temperature); a total air temperature gives the static temperature from the speed
+    given or found (closed form). The solved-for value must exist at every point (else a 422); other values that
+    do not exist are null with a warning. Arrays broadcast; `grid: true` takes their outer product.
     """
     result = Result(inputs)
     solution = Solution(inputs, result)
