@@ -85,12 +85,14 @@ class Altitude(Quantity):
         fl = Unit("FL")
         return [
             _KindRange(self, name),
-            *grouped(ALTITUDE, Never(Given(name, KIND_FIELD, value={name: fl, KIND_FIELD: "geometric"}), KIND_FIELD,
-                  "A flight level is a pressure altitude, never a geometric height."),
-            Never(Given(name, QNH_FIELD, value={name: fl}), QNH_FIELD,
-                  "A flight level is a pressure altitude: it takes no QNH. Give the altitude in ft or m."),
-            Never(Given(all_of=(_GEOMETRIC, Given(QNH_FIELD))), QNH_FIELD,
-                  "QNH corrects an indicated altitude; it does not apply to a geometric height.")),
+            *grouped(
+                ALTITUDE,
+                Never(Given(name, KIND_FIELD, value={name: fl, KIND_FIELD: "geometric"}), KIND_FIELD,
+                      "A flight level is a pressure altitude, never a geometric height."),
+                Never(Given(name, QNH_FIELD, value={name: fl}), QNH_FIELD,
+                      "A flight level is a pressure altitude: it takes no QNH. Give the altitude in ft or m."),
+                Never(Given(all_of=(_GEOMETRIC, Given(QNH_FIELD))), QNH_FIELD,
+                      "QNH corrects an indicated altitude; it does not apply to a geometric height.")),
         ]
 
 
@@ -181,7 +183,8 @@ def relative_humidity_field() -> Number:
 
 def total_air_temperature_field() -> Quantity:
     return Quantity("temperature", minimum=TEMPERATURE_MIN_C, maximum=TEMPERATURE_MAX_C, rules=grouped(
-        TEMPERATURE, *(NotTogether("total_air_temperature", other, message="Give one of temperature, isa_deviation or "
+        TEMPERATURE,
+        *(NotTogether("total_air_temperature", other, message="Give one of temperature, isa_deviation or "
                       "total_air_temperature.") for other in ("temperature", "isa_deviation")),
         Never(Given("total_air_temperature", "altitude_kind", value={"altitude_kind": "geometric"}),
               "total_air_temperature", "A total air temperature gives the static temperature through the Mach "
