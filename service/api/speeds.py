@@ -159,7 +159,7 @@ class Speeds:
         """With a total air temperature, the static temperature from it and the speed (closed form; then the
         Air's checks); and one validity range whatever the speed's form: the Mach number of a CAS, EAS or TAS
         within the range accepted for `mach`."""
-        if air.tat is not None:
+        if air.needs_temperature:  # the first speed at this air: later ones (found from it) take its temperature
             air.set_temperature(self._static_temperature(air))
         if self.given and self.kind != "mach":
             mach = self.mach
