@@ -119,6 +119,20 @@ def test_one_json_access_line_per_request(client, capsys):
     assert (third["status"], third["request_id"]) == (422, "log-3")
 
 
+def test_a_streamed_answer_is_logged_once_sent(client, capsys):
+    # An answer with arrays is streamed: its access line (and duration) is taken when the server closes it,
+    # after the last byte, not when the view returns.
+    capsys.readouterr()
+    response = client.post("/v1/atmosphere", data=json.dumps(THREE_POINTS), content_type="application/json",
+                           headers={"X-Request-ID": "log-s"})
+    assert response.is_streamed
+    assert capsys.readouterr().out.strip() == ""
+    response.get_data()
+    response.close()
+    lines = [json.loads(line) for line in capsys.readouterr().out.splitlines() if line.strip()]
+    assert [(line["request_id"], line["status"], line["points"]) for line in lines] == [("log-s", 200, 3)]
+
+
 def test_keys_never_reach_the_log(keyed, capsys):
     capsys.readouterr()
     post(keyed, "/v1/atmosphere", ONE_POINT, headers={"Authorization": f"Bearer {KEY_OLD}"})
