@@ -17,7 +17,17 @@ from service import config as settings
 from service import create_app
 from service.api import request_hooks
 from service.cli import spec_text
-from tests.helpers import assert_problem, post
+from tests.helpers import assert_problem
+from tests.helpers import post as post_open
+
+
+def post(client, path, body, headers=None):
+    """POST and read the answer whole, then close it as a server does once it is sent (a streamed answer's access
+    line and metrics are taken then)."""
+    response = post_open(client, path, body, headers)
+    response.get_data()
+    response.close()
+    return response
 
 KEY_OLD = "old-key-0123456789abcdef"
 KEY_NEW = "new-key-fedcba9876543210"
