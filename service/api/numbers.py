@@ -16,16 +16,22 @@ from service.api.masks import MAX_REPORTED
 _NUMBER_TYPES = {int, float}
 
 
-def _element_error(items: list, message_for) -> dict:
-    """Error messages keyed by index for the offending elements (error path only)."""
-    errors = {}
+def first_bad(items, message_for) -> list[tuple[int, str]]:
+    """(index, message) of the first items (at most MAX_REPORTED) that ``message_for`` finds a fault in
+    (the error path only: a Python loop is fine there)."""
+    found = []
     for index, item in enumerate(items):
         message = message_for(item)
         if message:
-            errors[index] = [message]
-            if len(errors) >= MAX_REPORTED:
+            found.append((index, message))
+            if len(found) >= MAX_REPORTED:
                 break
-    return errors
+    return found
+
+
+def _element_error(items: list) -> dict:
+    """Error messages keyed by index for the elements of ``items`` that are not finite numbers."""
+    return {index: [message] for index, message in first_bad(items, _describe_bad)}
 
 
 def _describe_bad(item) -> str | None:
@@ -71,13 +77,13 @@ def parse_numbers(raw, *, allow_array: bool = True):
         if not raw:
             raise ma.ValidationError("Empty array: give at least one number.")
         if not set(map(type, raw)) <= _NUMBER_TYPES:
-            raise ma.ValidationError(_element_error(raw, _describe_bad))
+            raise ma.ValidationError(_element_error(raw))
         try:
             array = np.array(raw, dtype=np.float64)
         except OverflowError:
-            raise ma.ValidationError(_element_error(raw, _describe_bad)) from None
+            raise ma.ValidationError(_element_error(raw)) from None
         if not np.isfinite(array).all():
-            raise ma.ValidationError(_element_error(raw, _describe_bad))
+            raise ma.ValidationError(_element_error(raw))
         return array, True
     message = _describe_bad(raw) or "Not a number."
     if allow_array and message == "Not a number.":

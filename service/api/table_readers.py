@@ -19,6 +19,7 @@ import pyarrow as pa
 import pyarrow.csv as pa_csv
 
 from service.api.masks import MAX_REPORTED
+from service.api.numbers import first_bad
 from service.api.problems import Problem, echo, invalid, pointer
 
 #: At most this many cells of one column are listed.
@@ -81,16 +82,20 @@ def read_csv(body: bytes, max_points: int):
     return headers, [_csv_numbers(column) for column in table.columns], table.num_rows
 
 
+def _numeric(kind: pa.DataType) -> bool:
+    """The Arrow types a column of numbers may have: integers and floating point."""
+    return pa.types.is_integer(kind) or pa.types.is_floating(kind)
+
+
 def _first_line(err: Exception) -> str:
     return str(err).strip().splitlines()[0] if str(err).strip() else type(err).__name__
 
 
 def _csv_numbers(column: pa.ChunkedArray) -> tuple[np.ndarray | None, list[tuple[int, str]]]:
     """(float64 values, []) for a column of finite numbers; else (None, [(row, message), ...])."""
-    kind = column.type
-    if (pa.types.is_integer(kind) or pa.types.is_floating(kind)) and column.null_count == 0:
+    if _numeric(column.type) and column.null_count == 0:
         return _finite(np.array(column.to_numpy(), dtype=np.float64))
-    return None, _bad_cells(column)
+    return None, first_bad(column.to_pylist(), _cell_message)  # the first cells that are not finite numbers
 
 
 def _finite(values: np.ndarray) -> tuple[np.ndarray | None, list[tuple[int, str]]]:
@@ -100,18 +105,6 @@ def _finite(values: np.ndarray) -> tuple[np.ndarray | None, list[tuple[int, str]
     rows = np.flatnonzero(bad)[:MAX_CELL_ERRORS]
     return None, [(int(row), "Not a number: NaN." if np.isnan(values[row])
                    else "Number out of the floating-point range.") for row in rows]
-
-
-def _bad_cells(column: pa.ChunkedArray) -> list[tuple[int, str]]:
-    """The first cells of a column that are not finite numbers (the error path: a Python loop is fine)."""
-    found = []
-    for row, cell in enumerate(column.to_pylist()):
-        message = _cell_message(cell)
-        if message:
-            found.append((row, message))
-            if len(found) >= MAX_CELL_ERRORS:
-                break
-    return found
 
 
 def _cell_message(cell) -> str | None:
@@ -135,11 +128,6 @@ def _cell_message(cell) -> str | None:
 
 
 # --- Arrow ------------------------------------------------------------------------------------------
-
-def _numeric(kind: pa.DataType) -> bool:
-    """The Arrow types a column of numbers may have: integers and floating point."""
-    return pa.types.is_integer(kind) or pa.types.is_floating(kind)
-
 
 def _message_header(metadata: bytes) -> tuple[int, int, bool]:
     """(header type, record batch length, compressed) from an IPC message's flatbuffer metadata.
