@@ -3,7 +3,7 @@
 Arrays are checked with one pass of C-level work (``set(map(type, ...))`` and ``np.isfinite``), never a
 Python call per element: booleans, strings, nulls and nested arrays are refused with a pointer to the first
 offending elements; numbers beyond the float range (1e400) are refused the same way. The request fields
-(api.fields) and the tables in a request (api.lift.buffet, api.speeds) read their numbers here.
+(api.fields) and the tables inside a request (the calibration, the buffet boundary) read their numbers here.
 """
 
 from __future__ import annotations
