@@ -73,6 +73,21 @@ BULK = {
         "speed_factors": [1.13, 1.23, 1.3],
         "cas": 180,
     },
+    # The static temperature from a TAT at the speed the lift gives (EAS with a relative humidity: the fixed-point
+    # steps), and at the margin's CAS with a dew point.
+    "/v1/lift/solve#tat-humid": lambda n: {
+        "solve_for": "speed",
+        "weight": np.linspace(15000, 23000, n).tolist(),
+        "wing_area": 61, "cl": 1.2,
+        "altitude": np.linspace(0, 10000, n).tolist(),
+        "total_air_temperature": 15, "recovery_factor": 0.98, "relative_humidity": 60,
+    },
+    "/v1/lift/stall#tat-humid": lambda n: {
+        "weight": np.linspace(15000, 23000, n).tolist(),
+        "wing_area": 61, "cl_max": 1.6,
+        "altitude": np.linspace(0, 10000, n).tolist(),
+        "cas": 180, "total_air_temperature": 20, "dew_point": 5,
+    },
     "/v1/lift/curve": lambda n: {
         "aspect_ratio": np.linspace(4, 14, n).tolist(),
         "sweep_half_chord": 25,
@@ -86,6 +101,12 @@ BULK = {
         "wing_area": 61, "cd0": 0.024, "aspect_ratio": 11, "oswald_efficiency": 0.78,
         "cas": np.linspace(160, 250, n).tolist(),
         "altitude": 10000, "bank_angle": 20,
+    },
+    "/v1/drag#tat-cl": lambda n: {
+        "weight": np.linspace(15000, 23000, n).tolist(),
+        "wing_area": 61, "cd0": 0.024, "aspect_ratio": 11, "oswald_efficiency": 0.78,
+        "cl": np.linspace(0.4, 0.9, n).tolist(),
+        "altitude": 10000, "total_air_temperature": 5, "dew_point": -10,
     },
     "/v1/drag/speeds": lambda n: {
         "weight": np.linspace(15000, 23000, n).tolist(),

@@ -17,7 +17,7 @@ from service.api.inputs import Inputs
 from service.api.lazy import lazy
 from service.api.masks import any_true, first_indices
 from service.api.problems import invalid
-from service.api.rules import Given, Needs, Never, NotTogether, Rule, Unit
+from service.api.rules import Given, Needs, Never, NotTogether, Rule, Unit, grouped
 from service.physics import atmosphere as atm
 from service.physics import humidity as hum
 from service.physics import properties as props
@@ -41,6 +41,9 @@ QNH_MIN_HPA, QNH_MAX_HPA = 800.0, 1100.0
 GEOMETRIC_MIN, GEOMETRIC_MAX = float(atm.geometric_altitude(H_MIN)), float(atm.geometric_altitude(H_MAX))
 
 KIND_FIELD, QNH_FIELD = "altitude_kind", "qnh"
+#: The groups of the rules over the forms of the temperature and of the altitude (api.rules.grouped): each
+#: published as one list of alternatives.
+TEMPERATURE, ALTITUDE = "temperature", "altitude"
 _GEOMETRIC = Given(KIND_FIELD, value={KIND_FIELD: "geometric"})
 
 
@@ -82,12 +85,14 @@ class Altitude(Quantity):
         fl = Unit("FL")
         return [
             _KindRange(self, name),
-            Never(Given(name, KIND_FIELD, value={name: fl, KIND_FIELD: "geometric"}), KIND_FIELD,
-                  "A flight level is a pressure altitude, never a geometric height."),
-            Never(Given(name, QNH_FIELD, value={name: fl}), QNH_FIELD,
-                  "A flight level is a pressure altitude: it takes no QNH. Give the altitude in ft or m."),
-            Never(Given(all_of=(_GEOMETRIC, Given(QNH_FIELD))), QNH_FIELD,
-                  "QNH corrects an indicated altitude; it does not apply to a geometric height."),
+            *grouped(
+                ALTITUDE,
+                Never(Given(name, KIND_FIELD, value={name: fl, KIND_FIELD: "geometric"}), KIND_FIELD,
+                      "A flight level is a pressure altitude, never a geometric height."),
+                Never(Given(name, QNH_FIELD, value={name: fl}), QNH_FIELD,
+                      "A flight level is a pressure altitude: it takes no QNH. Give the altitude in ft or m."),
+                Never(Given(all_of=(_GEOMETRIC, Given(QNH_FIELD))), QNH_FIELD,
+                      "QNH corrects an indicated altitude; it does not apply to a geometric height.")),
         ]
 
 
@@ -120,8 +125,9 @@ def isa_deviation_field() -> Quantity:
 
 
 def temperature_field() -> Quantity:
-    return Quantity("temperature", minimum=TEMPERATURE_MIN_C, maximum=TEMPERATURE_MAX_C, rules=(NotTogether(
-        "temperature", "isa_deviation", message="Give either isa_deviation or temperature, not both."),), metadata={
+    return Quantity("temperature", minimum=TEMPERATURE_MIN_C, maximum=TEMPERATURE_MAX_C, rules=grouped(
+        TEMPERATURE, NotTogether("temperature", "isa_deviation",
+                                 message="Give either isa_deviation or temperature, not both.")), metadata={
         "description": "Outside (static) air temperature at the point [degC]. Not with `isa_deviation`.",
         "example": 32})
 
@@ -176,7 +182,8 @@ def relative_humidity_field() -> Number:
 
 
 def total_air_temperature_field() -> Quantity:
-    return Quantity("temperature", minimum=TEMPERATURE_MIN_C, maximum=TEMPERATURE_MAX_C, rules=(
+    return Quantity("temperature", minimum=TEMPERATURE_MIN_C, maximum=TEMPERATURE_MAX_C, rules=grouped(
+        TEMPERATURE,
         *(NotTogether("total_air_temperature", other, message="Give one of temperature, isa_deviation or "
                       "total_air_temperature.") for other in ("temperature", "isa_deviation")),
         Never(Given("total_air_temperature", "altitude_kind", value={"altitude_kind": "geometric"}),
@@ -189,10 +196,10 @@ def total_air_temperature_field() -> Quantity:
 
 
 def recovery_factor_field() -> Number:
-    return Number(minimum=RECOVERY_FACTOR_MIN, maximum=RECOVERY_FACTOR_MAX, rules=(Needs(
+    return Number(minimum=RECOVERY_FACTOR_MIN, maximum=RECOVERY_FACTOR_MAX, rules=grouped(TEMPERATURE, Needs(
         "recovery_factor", "total_air_temperature", messages={
             "recovery_factor": "A recovery factor belongs to a total air temperature: give total_air_temperature "
-                               "or leave it out."}),), metadata={
+                               "or leave it out."})), metadata={
         "description": "Recovery factor r of the total-temperature probe [-], 0.5 to 1: the fraction of the ram "
                        "rise it reads. Default 1. Only with `total_air_temperature`.", "example": 0.98})
 
@@ -219,6 +226,11 @@ class Air:
         self.dew_point, self.relative_humidity = dew_point, relative_humidity
         self.datum = datum
         self.tat, self.recovery_factor = tat, (1.0 if recovery_factor is None else recovery_factor)
+
+    @property
+    def needs_temperature(self) -> bool:
+        """Whether the static temperature still waits for a speed (a total air temperature given, not yet used)."""
+        return self.tat is not None and "_T" not in self.__dict__
 
     @property
     def humid(self) -> bool:

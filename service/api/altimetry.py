@@ -2,6 +2,8 @@
 
 from __future__ import annotations
 
+import math
+
 import numpy as np
 
 from service.api import air, examples
@@ -13,6 +15,7 @@ from service.api.rules import ExactlyOne, Given, Never, Unit
 from service.api.schemas import response_schema
 from service.physics import altimetry as alt
 from service.physics.constants import LAYER_BASES
+from service.units import to_si
 
 blp = Blueprint("altimetry", __name__, url_prefix="/v1/altimetry", description=(
     "Aerodrome altimetry: the pressure settings QNH and QFE by the standard-atmosphere reduction, and the ICAO "
@@ -21,8 +24,16 @@ blp = Blueprint("altimetry", __name__, url_prefix="/v1/altimetry", description=(
 
 #: Bounds of an aerodrome elevation [ft]: beyond the lowest and the highest aerodromes in use.
 ELEVATION_MIN_FT, ELEVATION_MAX_FT = -2_000.0, 20_000.0
-#: Bounds of QFE [hPa]: down to the pressure at the highest aerodrome with the lowest QNH.
-QFE_MIN_HPA, QFE_MAX_HPA = 350.0, 1_100.0
+#: Bounds of QFE [hPa], whole hPa outward: from the pressure at the highest aerodrome with the lowest QNH to that
+#: at the lowest aerodrome with the highest QNH (every QFE the endpoint answers can be given back).
+QFE_MIN_HPA = math.floor(float(alt.qfe_from_qnh(to_si(ELEVATION_MAX_FT, "altitude", "ft"),
+                                                 to_si(air.QNH_MIN_HPA, "pressure", "hPa"))) / 100.0)
+QFE_MAX_HPA = math.ceil(float(alt.qfe_from_qnh(to_si(ELEVATION_MIN_FT, "altitude", "ft"),
+                                               to_si(air.QNH_MAX_HPA, "pressure", "hPa"))) / 100.0)
+#: The QNH a QFE gives is checked against the bounds of `qnh` to this tolerance [Pa], a hundredth of the 1 hPa
+#: resolution of a setting: the reduction there and back (p -> H -> p) rounds (a QFE at sea level of exactly
+#: 1100 hPa gives 1100.0000000000004 hPa), and a QFE worked out elsewhere to the last digit agrees to about 1e-9.
+QNH_CHECK_PA = 1.0
 #: Highest minimum altitude the temperature correction takes [ft]: the method holds in the first layer
 #: of the ISA (below 11 km, 36 089 ft).
 CORRECTION_ALTITUDE_MAX_FT = 36_000.0
@@ -94,7 +105,7 @@ def pressure_settings(inputs):
         qfe = inputs.si("qfe")
         H = alt.pressure_altitude_of_aerodrome(elevation, qfe=qfe)
         qnh = alt.qnh_from_qfe(elevation, qfe)
-        low, high = air.QNH_MIN_HPA * 100.0, air.QNH_MAX_HPA * 100.0
+        low, high = air.QNH_MIN_HPA * 100.0 - QNH_CHECK_PA, air.QNH_MAX_HPA * 100.0 + QNH_CHECK_PA
         air.refuse_where(~((qnh >= low) & (qnh <= high)), "qfe",
                          f"With this elevation the QFE gives a QNH outside {air.QNH_MIN_HPA:g} to "
                          f"{air.QNH_MAX_HPA:g} hPa, beyond any sea-level pressure observed: check both.")

@@ -62,8 +62,11 @@ class ErrorItemSchema(ma.Schema):
 
 
 class WarningSchema(ma.Schema):
-    field = ma.fields.String(required=True, metadata={"description": "The output field concerned."})
-    message = ma.fields.String(required=True, metadata={"description": "Why some values are null or doubtful."})
+    """One entry per output field: when a field is null or doubtful for several reasons, one entry gives them all."""
+
+    field = ma.fields.String(required=True, metadata={"description": "The output field concerned (one entry each)."})
+    message = ma.fields.String(required=True, metadata={
+        "description": "Why some values are null or doubtful (every reason, when there are several)."})
     count = ma.fields.Integer(required=True, metadata={"description": "How many points are concerned."})
     indices = ma.fields.List(ma.fields.Integer(), required=True, metadata={
         "description": "The first (up to ten) indices of the points concerned."})

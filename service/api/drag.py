@@ -21,7 +21,7 @@ from service.api.lift.common import (
 )
 from service.api.masks import any_true
 from service.api.outputs import Leaf, Result
-from service.api.rules import ExactlyOne, Needs
+from service.api.rules import ExactlyOne, Needs, NoneOf
 from service.api.schemas import quantity_out, ratio_out, response_schema
 from service.api.speeds import (
     CALIBRATION_NEEDS_IAS,
@@ -157,6 +157,10 @@ class DragRequest(_PolarInputs, ComputeSchema):
     temperature = air.temperature_field()
     qnh = air.qnh_field()
     altitude_kind = air.altitude_kind_field()
+    total_air_temperature = air.total_air_temperature_field()
+    recovery_factor = air.recovery_factor_field()
+    dew_point = air.dew_point_field()
+    relative_humidity = air.relative_humidity_field()
     load_factor = LOAD_FACTOR
     bank_angle = BANK_ANGLE
     outputs = outputs_field(DRAG_OUTPUTS)
@@ -185,7 +189,11 @@ def drag(inputs):
     cd0, k = _polar(inputs)
     kind = given_speed(inputs)
     if kind is None:
-        point = dp.level_condition(weight, area, inputs.si("cl"), cd0, k, state.rho, n)
+        cl = inputs.si("cl")
+        if state.needs_temperature:  # the static temperature from the TAT at the EAS the lift gives (no density)
+            eas = lf.eas_from_dynamic_pressure(lf.required_dynamic_pressure(weight, n, area, cl))
+            Speeds(state, "eas", eas, given=False)
+        point = dp.level_condition(weight, area, cl, cd0, k, state.rho, n)
         speeds = Speeds(state, "eas", point.eas, given=False)
     else:
         speeds = Speeds(state, kind, inputs.si(kind), inputs.get("calibration"))
@@ -210,9 +218,15 @@ def drag(inputs):
 SPEEDS_OUTPUTS = ("minimum_drag", "minimum_power", "best_glide")
 
 
+#: Why /v1/drag/speeds takes no total air temperature (the message on the field given).
+NO_TAT_FOR_FOUND_SPEEDS = (
+    "A total air temperature gives the static temperature through the speed it was read at, and this endpoint finds "
+    "its speeds (three conditions, each at its own speed, all at one air): give temperature or isa_deviation.")
+
+
 class DragSpeedsRequest(_PolarInputs, ComputeSchema):
     OUTPUTS = SPEEDS_OUTPUTS
-    RULES = POLAR_RULES
+    RULES = (*POLAR_RULES, NoneOf("total_air_temperature", "recovery_factor", message=NO_TAT_FOR_FOUND_SPEEDS))
 
     weight = weight_field("Weight", required=True)
     wing_area = wing_area_field()
@@ -222,6 +236,10 @@ class DragSpeedsRequest(_PolarInputs, ComputeSchema):
     temperature = air.temperature_field()
     qnh = air.qnh_field()
     altitude_kind = air.altitude_kind_field()
+    total_air_temperature = air.total_air_temperature_field()
+    recovery_factor = air.recovery_factor_field()
+    dew_point = air.dew_point_field()
+    relative_humidity = air.relative_humidity_field()
     height = Quantity("altitude", minimum=0.0, exclusive_minimum=True, maximum=HEIGHT_MAX_FT, metadata={
         "description": "Optional: height to lose in a glide [ft]; `best_glide` then gives the still-air glide "
                        "distance from it.", "example": 25000})

@@ -119,6 +119,7 @@ class Result:
         g.points = math.prod(self.shape)  # for the access log and the points-computed metric
         self.tree: dict = {}
         self.warnings: list[dict] = []
+        self._warning_masks: dict[str, np.ndarray] = {}  # field -> the points its warning covers (Result.warn)
         self._null_masks: dict[str, object] = {}  # output -> where null_where made it null
         self._units_used: set = set()  # the output_units keys that set the unit of something written
 
@@ -151,13 +152,19 @@ class Result:
         return values
 
     def warn(self, field: str, message: str, mask=None):
-        """A warning on ``field`` at the points of ``mask`` (default: every point)."""
-        if mask is None:
-            count, indices = math.prod(self.shape), []
+        """A warning on ``field`` at the points of ``mask`` (default: every point). One entry per field: a second
+        warning on the same field (another reason) joins the first, its message appended, its points added."""
+        mask = np.ones(self.shape, dtype=bool) if mask is None else np.broadcast_to(np.asarray(mask), self.shape)
+        entry = next((w for w in self.warnings if w["field"] == field), None)
+        if entry is None:
+            self._warning_masks[field] = mask
+            entry = {"field": field, "message": message}
+            self.warnings.append(entry)
         else:
-            mask = np.broadcast_to(np.asarray(mask), self.shape) if self.shape else np.asarray(mask)
-            count, indices = int(np.count_nonzero(mask)), first_indices(mask)
-        self.warnings.append({"field": field, "message": message, "count": count, "indices": indices})
+            mask = self._warning_masks[field] = self._warning_masks[field] | mask
+            if message not in entry["message"]:
+                entry["message"] += " " + message
+        entry["count"], entry["indices"] = int(np.count_nonzero(mask)), first_indices(mask)
 
     # --- writing: one walk over the outputs, for JSON and CSV -----------------------------------------
 

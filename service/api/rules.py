@@ -19,6 +19,10 @@ default), and a Quantity is a ``fields.Value`` (``.unit`` is the unit given).
 
 from __future__ import annotations
 
+import copy
+import functools
+import itertools
+import json
 from collections.abc import Callable
 
 import marshmallow as ma
@@ -105,6 +109,8 @@ class Rule:
     """
 
     names: tuple[str, ...] = ()
+    #: Rules of one group (same name) that apply to a schema are published together (:class:`Jointly`).
+    group: str | None = None
 
     def spec(self) -> dict:
         raise NotImplementedError
@@ -178,6 +184,30 @@ class Needs(Rule):
     def check(self, data):
         if self.names[0] in data and not data.keys() >= self.needed:
             return self.messages
+        return HOLDS
+
+
+class NeedsAny(Rule):
+    """Where ``name`` is given, so is at least one of ``alternatives``; else ``message`` on ``name``.
+
+    >>> rule = NeedsAny("total_air_temperature", ("cas", "mach"), message="Give the speed.")
+    >>> rule.spec()["then"]
+    {'anyOf': [{'required': ['cas']}, {'required': ['mach']}]}
+    >>> rule.check({"total_air_temperature": 250.0})
+    {'total_air_temperature': 'Give the speed.'}
+    >>> rule.check({"total_air_temperature": 250.0, "mach": 0.5})
+    {}
+    """
+
+    def __init__(self, name: str, alternatives: tuple[str, ...], *, message: str):
+        self.names, self.alternatives, self.message = (name, *alternatives), frozenset(alternatives), message
+
+    def spec(self):
+        return {"if": _required(self.names[:1]), "then": {"anyOf": [_required([name]) for name in self.names[1:]]}}
+
+    def check(self, data):
+        if self.names[0] in data and data.keys().isdisjoint(self.alternatives):
+            return {self.names[0]: self.message}
         return HOLDS
 
 
@@ -257,14 +287,145 @@ class Cases(Rule):
         return errors
 
 
+def grouped(group: str, *rules: Rule) -> tuple[Rule, ...]:
+    """``rules``, marked as members of ``group`` (published as one :class:`Jointly` where several apply)."""
+    for rule in rules:
+        rule.group = group
+    return rules
+
+
+class _Loaded:
+    """A loaded value as a check sees it, for :class:`Jointly`'s table: its ``unit`` (a Unit condition)."""
+
+    def __init__(self, unit=None):
+        self.unit = unit
+
+
+#: A value that meets no condition on a field's value.
+_OTHER = _Loaded()
+#: Jointly's published alternatives, by the rules' own specs (a schema per process, several schemas alike).
+_JOINT_SPECS: dict[str, dict] = {}
+
+
+class Jointly(Rule):
+    """Several rules over a few shared fields, checked one by one (their own messages) and published as ONE
+    ``anyOf``: the combinations of the fields they allow, as few as the table of their checks reduces to.
+
+    Published separately, rules that share fields multiply in a request generator that expands the schema's
+    ``allOf`` into its alternatives (schemathesis gives up past about a hundred); together they count once.
+    The alternatives follow from the checks themselves (each combination of the fields given, and of the
+    values the rules' conditions name, run through every check), so the spec and the 422 cannot disagree.
+
+    >>> rule = Jointly(NotTogether("temperature", "isa_deviation"),
+    ...                Needs("recovery_factor", "temperature", messages={"recovery_factor": "Needs it."}))
+    >>> rule.spec()["anyOf"]  # doctest: +NORMALIZE_WHITESPACE
+    [{'not': {'anyOf': [{'required': ['temperature']}, {'required': ['recovery_factor']}]}},
+     {'required': ['temperature'], 'not': {'required': ['isa_deviation']}}]
+    >>> rule.check({"recovery_factor": 1.0})
+    {'recovery_factor': 'Needs it.'}
+    """
+
+    def __init__(self, *rules: Rule):
+        self.rules = rules
+        self.names = tuple(dict.fromkeys(name for rule in rules for name in rule.names))
+
+    def check(self, data):
+        errors: dict = {}
+        for rule in self.rules:
+            for key, message in rule.check(data).items():
+                errors.setdefault(key, message)
+        return errors
+
+    def _atoms(self) -> list[tuple[str, object]]:
+        """(field, None): the field is given; (field, value): it is given with that value (Never's conditions)."""
+        atoms: list[tuple[str, object]] = [(name, None) for name in self.names]
+        for rule in self.rules:
+            for name, value in getattr(getattr(rule, "when", None), "value", {}).items():
+                if (name, value) not in atoms:
+                    atoms.append((name, value))
+        return atoms
+
+    def spec(self):
+        key = json.dumps([rule.spec() for rule in self.rules], sort_keys=True)  # the same rules, the same table
+        if key not in _JOINT_SPECS:
+            _JOINT_SPECS[key] = self._spec()
+        return copy.deepcopy(_JOINT_SPECS[key])
+
+    def _spec(self):
+        atoms = self._atoms()
+        allowed, free = set(), set()
+        for bits in itertools.product((0, 1), repeat=len(atoms)):
+            data, possible = {}, True
+            for (name, value), bit in zip(atoms, bits, strict=True):
+                if value is None and bit:
+                    data.setdefault(name, _OTHER)
+                elif value is not None and bit:
+                    possible = possible and bits[atoms.index((name, None))] == 1
+                    data[name] = _Loaded(value) if isinstance(value, Unit) else value
+            if not possible:
+                free.add(bits)  # a value without its field: no request gives it
+            elif not self.check(data):
+                allowed.add(bits)
+        return {"anyOf": [self._term(atoms, term) for term in _cover(allowed, free)]}
+
+    @staticmethod
+    def _term(atoms, term) -> dict:
+        given = [name for (name, value), bit in zip(atoms, term, strict=True) if value is None and bit == 1]
+        absent = [name for (name, value), bit in zip(atoms, term, strict=True) if value is None and bit == 0]
+        parts = [_required(given)] if given else []
+        if absent:
+            parts.append(NoneOf(*absent).spec())
+        for (name, value), bit in zip(atoms, term, strict=True):
+            if value is not None and bit is not None:
+                condition = Given(name, value={name: value}).schema()
+                parts.append(condition if bit else {"not": condition})
+        if len(parts) == 2 and "not" in parts[1] and len(parts[1]) == 1 and given:  # {required, not}: one object
+            return {**parts[0], **parts[1]}
+        return parts[0] if len(parts) == 1 else {"allOf": parts}
+
+
+def _cover(allowed: set, free: set) -> list[tuple]:
+    """Terms (tuples of 0, 1 or None: either) that cover every combination in ``allowed``, nothing outside
+    ``allowed | free``, and no combination twice (so that a generator expanding them draws no alternative
+    twice): the leaves of the smallest decision tree over the atoms (each split on the atom that gives the
+    fewest terms)."""
+    size = len(next(iter(allowed | free)))
+
+    @functools.cache
+    def tree(fixed: tuple) -> tuple:
+        inside = [bits for bits in itertools.product((0, 1), repeat=size)
+                  if all(f is None or f == b for f, b in zip(fixed, bits, strict=True))]
+        if not any(bits in allowed for bits in inside):
+            return ()
+        if all(bits in allowed or bits in free for bits in inside):
+            return (fixed,)
+        return min((tree(fixed[:i] + (0,) + fixed[i + 1:]) + tree(fixed[:i] + (1,) + fixed[i + 1:])
+                    for i in range(size) if fixed[i] is None), key=len)
+
+    return sorted(tree((None,) * size), key=str)
+
+
 # --- the schema that checks them -------------------------------------------------------------------
 
 def schema_rules(schema: ma.Schema) -> list[Rule]:
-    """Every rule that applies to ``schema``: its fields' rules in field order, then its ``RULES``."""
+    """Every rule that applies to ``schema``: its fields' rules in field order, then its ``RULES``; the rules
+    of one group (two or more) as one :class:`Jointly` in the place of the first."""
     fields = schema.fields
     rules = [rule for name, field in fields.items() for rule in field_rules(field, field.data_key or name)]
     rules.extend(getattr(schema, "RULES", ()))
-    return [rule for rule in rules if all(name in fields for name in rule.names)]
+    rules = [rule for rule in rules if all(name in fields for name in rule.names)]
+    groups: dict[str, list[Rule]] = {}
+    for rule in rules:
+        if rule.group is not None:
+            groups.setdefault(rule.group, []).append(rule)
+    out = []
+    for rule in rules:
+        members = groups.get(rule.group, ()) if rule.group is not None else ()
+        if len(members) < 2:
+            out.append(rule)
+        elif rule is members[0]:
+            out.append(Jointly(*members))
+    return out
 
 
 def field_rules(field, name: str) -> list[Rule]:

@@ -22,7 +22,7 @@ from service.api.lift.common import (
 )
 from service.api.masks import any_true, first_indices
 from service.api.outputs import Leaf, Result, require
-from service.api.rules import Either, Given
+from service.api.rules import Either, Given, NeedsAny
 from service.api.schemas import quantity_out, ratio_out, response_schema
 from service.api.speeds import (
     AT_MOST_ONE_SPEED,
@@ -89,6 +89,8 @@ class LiftStallRequest(ComputeSchema):
         AT_MOST_ONE_SPEED, CALIBRATION_NEEDS_IAS, IAS_NEEDS_CALIBRATION,
         output_needs("multiples", Given("speed_factors"), "`speed_factors`"),
         output_needs("margin", Given(any_of=KINDS), "a speed (ias, cas, eas, tas or mach)"),
+        NeedsAny("total_air_temperature", KINDS, message="A total air temperature gives the static temperature "
+                 "through the speed it was read at: give that speed (one of ias, cas, eas, tas, mach)."),
     )
 
     weight = weight_field("Weight", required=True)
@@ -104,6 +106,10 @@ class LiftStallRequest(ComputeSchema):
     altitude, isa_deviation, temperature, qnh, altitude_kind = air.air_fields(
         "Altitude [ft]: a pressure altitude (FL allowed), or the indicated altitude with `qnh`, or a geometric height "
         "with `altitude_kind: geometric`.")
+    total_air_temperature = air.total_air_temperature_field()
+    recovery_factor = air.recovery_factor_field()
+    dew_point = air.dew_point_field()
+    relative_humidity = air.relative_humidity_field()
     load_factor = LOAD_FACTOR
     bank_angle = BANK_ANGLE
     speed_factors = SpeedFactors(metadata={
@@ -187,11 +193,16 @@ def stall(inputs):
     the altitude and temperature: from the weight, wing area and CLmax, or from a flight-manual reference stall
     speed (CAS at a weight and altitude) scaled by sqrt(W / W_ref). `speed_factors` give multiples of it (applied
     to the EAS, with CL/CLmax = 1/k^2). With a speed of any kind, `margin` gives the load factor at which that
-    speed is the stall speed, the steepest level turn there, and CL/CLmax. Arrays broadcast; `grid: true` takes
-    their outer product.
+    speed is the stall speed, the steepest level turn there, and CL/CLmax. A dew point or relative humidity makes
+    the air moist (the density, so the TAS of each EAS, at the virtual temperature); a total air temperature read
+    at the given speed gives the static temperature. Arrays broadcast; `grid: true` takes their outer product.
     """
     result = Result(inputs)
     state = air.air(inputs)
+    kind = given_speed(inputs)
+    # the given speed first: with a total air temperature, the static temperature follows from it
+    given = (Speeds(state, kind, inputs.si(kind), inputs.get("calibration"))
+             if kind is not None and (inputs.wants("margin") or state.tat is not None) else None)
     n = load_factor(inputs)
     vs_1g, vs_n = _stall_eas(inputs, state, n)
     if inputs.wants("stall"):
@@ -208,10 +219,8 @@ def stall(inputs):
             for i in range(factors.size)])
         if any_true(factors < 1.0):
             result.warn("multiples", "A speed factor below 1 is below the stall speed: CL/CLmax is above 1 there.")
-    kind = given_speed(inputs)
-    if kind is not None and inputs.wants("margin"):
-        eas = Speeds(state, kind, inputs.si(kind), inputs.get("calibration")).eas
-        eas = require("margin", eas, f"the {kind} given has no EAS here.")
+    if given is not None and inputs.wants("margin"):
+        eas = require("margin", given.eas, f"the {kind} given has no EAS here.")
         stall_n = lf.stall_load_factor(eas, vs_1g)
         fraction = lf.cl_fraction(eas / vs_n)
         if any_true(fraction > 1.0):
