@@ -84,7 +84,7 @@ for _schema in GENERATION_SPEC["components"]["schemas"].values():
 
 
 def _is_range_ref(node) -> bool:
-    """A reference to a named range form (``<Dim>Range``, ``NumberRange``: api.fields.named_schemas)."""
+    """A reference to a named range form (``<Dim>Range``, ``NumberRange``: api.field_schemas.named_schemas)."""
     return isinstance(node, dict) and node.get("$ref", "").endswith("Range")
 
 

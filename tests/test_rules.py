@@ -14,7 +14,8 @@ from hypothesis import strategies as st
 from service.api.airspeed import AirspeedRequest, CrossoverRequest, ScheduleRequest
 from service.api.atmosphere import AtmosphereRequest
 from service.api.drag import DragRequest, DragSpeedsRequest
-from service.api.fields import Value, named_schemas
+from service.api.field_schemas import named_schemas
+from service.api.fields import Value
 from service.api.lift.buffet import BuffetRequest
 from service.api.lift.curve import LiftCurveRequest
 from service.api.lift.solve import UNKNOWNS, LiftSolveRequest, LiftWingSchema
@@ -67,7 +68,7 @@ def _fields(rule):
 @functools.cache
 def _schema_and_validator(schema_class):
     schema = schema_class()
-    # the rules refer to the dimensions' named types (api.fields.named_schemas): resolved from the same root
+    # the rules refer to the dimensions' named types (api.field_schemas.named_schemas): resolved from the same root
     return schema, jsonschema.Draft202012Validator({"allOf": [rule.spec() for rule in schema_rules(schema)],
                                                     "components": {"schemas": named_schemas()}})
 

@@ -12,9 +12,9 @@ from apispec.ext.marshmallow import MarshmallowPlugin as _MarshmallowPlugin
 from apispec.ext.marshmallow.common import resolve_schema_instance
 from apispec.ext.marshmallow.openapi import OpenAPIConverter
 
-from service.api import fields, problems
-from service.api.inputs import BodyParser
+from service.api import field_schemas, fields, problems
 from service.api.problems import PROBLEM_MEDIA_TYPE
+from service.api.request_body import BodyParser
 from service.api.rules import schema_rules
 from service.api.spec import JSON_MEDIA_TYPE
 from service.api.spec import complete as complete_spec
@@ -135,7 +135,7 @@ class Api(flask_smorest.Api):
         self._spec_dict = None
         super().init_app(app, spec_kwargs={"marshmallow_plugin": MarshmallowPlugin(), **(spec_kwargs or {})})
         self.ma_plugin.converter.add_attribute_function(fields.field_to_properties)
-        for name, component in fields.named_schemas().items():  # the dimensions' types the fields refer to
+        for name, component in field_schemas.named_schemas().items():  # the dimensions' types the fields refer to
             self.spec.components.schema(name, component=component)
         self.spec.components.schema("Warning", schema=WarningSchema)
         problems.register(app)

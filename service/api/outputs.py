@@ -1,4 +1,5 @@
-"""Writing a compute answer: unit conversion, warnings, JSON (orjson), CSV, or Arrow and Parquet (api.arrow).
+"""Writing a compute answer: unit conversion, warnings, JSON (orjson), CSV (api.formats), or Arrow and Parquet
+(api.arrow).
 
 An endpoint fills a :class:`Result` with SI arrays; the Result converts each to the
 caller's unit once and serialises the arrays directly (orjson's NumPy support), so the
@@ -14,18 +15,16 @@ from typing import NamedTuple
 
 import numpy as np
 import orjson
-from flask import Response, g, request
-from werkzeug.datastructures import MIMEAccept
+from flask import Response, g
 
 from service import units
-from service.api import arrow
+from service.api import arrow, formats
 from service.api.arrow import Column
 from service.api.inputs import Inputs
 from service.api.masks import any_true, first_indices
-from service.api.problems import Problem, echo, invalid, pointer
+from service.api.problems import Problem, invalid, pointer
 
 _JSON_OPTIONS = orjson.OPT_SERIALIZE_NUMPY
-CSV_MEDIA_TYPE = "text/csv"
 
 
 class Leaf(NamedTuple):
@@ -387,18 +386,8 @@ class Result:
         return np.logical_or.reduce(masks) if len(masks) > 1 else masks[0]
 
     def csv_response(self) -> Response:
-        """Inputs first (``input.<name> [unit]``), then every output under its dotted name."""
-        columns = self.columns()
-        header = ",".join(_csv_text(arrow.header(c.name, c.unit)) for c in columns).encode()
-        values = [c.values for c in columns]
-        # The rows are written by orjson as one JSON array of arrays ([[1.0,2.5],[...]]), in C: strip the outer
-        # brackets, turn "],[" into line breaks and null (NaN) into an empty cell. No number or label holds
-        # any of those byte sequences.
-        if all(v.dtype.kind == "f" for v in values):
-            text = orjson.dumps(np.column_stack(values) if values else np.empty((0, 0)), option=_JSON_OPTIONS)
-        else:
-            text = orjson.dumps(list(zip(*(v.tolist() for v in values), strict=False)))
-        body = header + b"\r\n" + text[2:-2].replace(b"],[", b"\r\n").replace(b"null", b"") + b"\r\n"
+        """Inputs first (``input.<name> [unit]``), then every output under its dotted name (api.formats)."""
+        body = formats.csv_body(self.columns())
         return self._with_warning_count(Response(body, status=200, content_type="text/csv; charset=utf-8"))
 
     def columnar_response(self, media_type: str) -> Response:
@@ -418,8 +407,8 @@ class Result:
     def response(self) -> Response:
         """The answer in the format the client accepts (JSON unless another is preferred); a 422 when an
         ``output_units`` key applies to nothing written (nothing is silently ignored)."""
-        media_type = answer_media_type()
-        if media_type == CSV_MEDIA_TYPE:
+        media_type = formats.answer_media_type()
+        if media_type == formats.CSV:
             response = self.csv_response()
         elif media_type in arrow.WRITERS:
             response = self.columnar_response(media_type)
@@ -438,44 +427,3 @@ class Result:
 #: How the 422 for an unused output_units key names the dimension.
 _A_DIMENSION = {"mass": "a mass or a weight", "force": "a force or a weight",
                 "altitude": "an altitude", "angle": "an angle", "area": "an area"}
-
-
-def _csv_text(name: str) -> str:
-    return f'"{name}"' if ("," in name or '"' in name) else name
-
-
-#: Accept headers that mean JSON, answered without parsing (curl, browsers' fetch, most clients).
-_JSON_ACCEPTS = frozenset({"", "*/*", "application/json", "application/json, */*", "application/problem+json"})
-
-#: The answer's media types, JSON first (the default for */*).
-ANSWER_MEDIA_TYPES = ("application/json", CSV_MEDIA_TYPE, arrow.ARROW_STREAM, arrow.PARQUET)
-
-
-
-def _without_utf8(value: str) -> str:
-    """An Accept entry without a ``charset=utf-8`` parameter: every answer is UTF-8, so it is met."""
-    main, *params = (part.strip() for part in value.split(";"))
-    kept = [p for p in params if p.replace(" ", "").lower() != "charset=utf-8"]
-    return "; ".join([main, *kept])
-
-
-def answer_media_type() -> str:
-    """The answer's media type: the client's preferred one of ANSWER_MEDIA_TYPES; 406 if it accepts none.
-
-    The header is parsed by werkzeug (parameters, q-values, wildcards, lists); ``charset=utf-8`` is
-    dropped from each entry first (werkzeug matches parameters exactly, and the text answers are UTF-8).
-    """
-    header = request.environ.get("HTTP_ACCEPT")
-    if header is None or header in _JSON_ACCEPTS:  # the common cases, without parsing the header
-        return ANSWER_MEDIA_TYPES[0]
-    accept = request.accept_mimetypes
-    if not accept:
-        return ANSWER_MEDIA_TYPES[0]
-    accept = MIMEAccept([(_without_utf8(value), quality) for value, quality in accept])
-    best = accept.best_match(ANSWER_MEDIA_TYPES)
-    if best is None:
-        offered = ", ".join(ANSWER_MEDIA_TYPES)
-        raise Problem("not-acceptable", f"This endpoint answers {offered} (text in UTF-8); Accept was "
-                                        f"{echo(request.headers.get('Accept'))}.",
-                      extra={"acceptable": list(ANSWER_MEDIA_TYPES)})
-    return best

@@ -28,13 +28,12 @@ import math
 
 import numpy as np
 
-from .constants import EARTH_RADIUS, G0
+from .constants import EARTH_RADIUS, G0, M0
 
 __all__ = [
     "AVOGADRO",
     "COLLISION_DIAMETER",
     "GAS_CONSTANT",
-    "MOLAR_MASS",
     "collision_frequency",
     "gravity",
     "mean_free_path",
@@ -48,8 +47,6 @@ __all__ = [
 AVOGADRO = 6.022169e23
 #: Universal gas constant [J/(mol K)] (U.S. Standard Atmosphere 1976, table 2: 8.31432e3 J/(kmol K)).
 GAS_CONSTANT = 8.31432
-#: Mean molar mass of sea-level air [kg/mol] (U.S. Standard Atmosphere 1976, table 2: 28.9644 kg/kmol).
-MOLAR_MASS = 28.9644e-3
 #: Effective collision diameter of an air molecule [m] (U.S. Standard Atmosphere 1976, table 2).
 COLLISION_DIAMETER = 3.65e-10
 #: Coefficient of the thermal-conductivity law [W/(m K^1.5)] (U.S. Standard Atmosphere 1976, eq. 53).
@@ -60,7 +57,7 @@ CONDUCTIVITY_S = 245.4
 CONDUCTIVITY_EXPONENT = 12.0
 
 _CROSS_SECTION = math.sqrt(2.0) * math.pi * COLLISION_DIAMETER**2  # sqrt(2) pi sigma^2 [m^2]
-_SPECIFIC_R = GAS_CONSTANT / MOLAR_MASS  # R* / M0 [J/(kg K)]
+_SPECIFIC_R = GAS_CONSTANT / M0  # R* / M0 [J/(kg K)]
 
 
 def gravity(h):
