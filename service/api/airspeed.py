@@ -11,7 +11,7 @@ from service.api import speed_limit as limits
 from service.api.base import COMPUTE_PROBLEMS, Blueprint
 from service.api.inputs import ComputeSchema, outputs_field
 from service.api.masks import any_true, first_indices
-from service.api.outputs import Leaf, Result, no_solution, unit_for
+from service.api.outputs import Leaf, Result
 from service.api.rules import Given, OutputNeeds
 from service.api.schemas import LabelOut, quantity_out, response_schema
 from service.api.speeds import (
@@ -24,6 +24,7 @@ from service.api.speeds import (
     one_speed,
     speed_field,
 )
+from service.api.values import no_solution, unit_for
 from service.physics import airspeed as spd
 from service.physics import atmosphere as atm
 from service.physics.constants import FT, H_MAX, H_MIN, P0

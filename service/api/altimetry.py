@@ -10,9 +10,10 @@ from service.api import air, examples
 from service.api.base import COMPUTE_PROBLEMS, Blueprint
 from service.api.fields import Quantity
 from service.api.inputs import ComputeSchema, outputs_field
-from service.api.outputs import Result, require
+from service.api.outputs import Result
 from service.api.rules import ExactlyOne, Given, Never, Unit
 from service.api.schemas import response_schema
+from service.api.values import require
 from service.physics import altimetry as alt
 from service.physics.constants import LAYER_BASES
 from service.units import to_si

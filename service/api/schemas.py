@@ -8,7 +8,7 @@ import marshmallow as ma
 from service.api.base import WarningSchema
 from service.api.field_schemas import ref, schema_name
 from service.api.fields import Number
-from service.api.outputs import unit_for
+from service.api.values import unit_for
 
 
 class QuantityOut(ma.fields.Field):

@@ -15,9 +15,9 @@ from service.api.fields import Number, Quantity, parse_numbers, ref
 from service.api.inputs import Inputs
 from service.api.lazy import lazy
 from service.api.masks import any_true, first_indices
-from service.api.outputs import require
 from service.api.problems import invalid
 from service.api.rules import ExactlyOne, Needs, NotTogether
+from service.api.values import require
 from service.physics import airspeed as spd
 from service.physics import humidity as hum
 from service.physics import total_temperature as tt

@@ -42,7 +42,7 @@ from service.api.lift.common import (
     wing_area_field,
 )
 from service.api.masks import any_true
-from service.api.outputs import Result, require
+from service.api.outputs import Result
 from service.api.rules import Cases, Given, Jointly, Never, NoneOf, RuleSchema
 from service.api.schemas import FlagOut, LabelOut, response_schema
 from service.api.speeds import (
@@ -56,6 +56,7 @@ from service.api.speeds import (
     one_speed,
     speed_field,
 )
+from service.api.values import require
 from service.physics import atmosphere as atm
 from service.physics import lift as lf
 from service.physics import total_temperature as tt

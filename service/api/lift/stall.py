@@ -21,7 +21,7 @@ from service.api.lift.common import (
     wing_area_field,
 )
 from service.api.masks import any_true, first_indices
-from service.api.outputs import Leaf, Result, require
+from service.api.outputs import Leaf, Result
 from service.api.rules import Either, Given, NeedsAny
 from service.api.schemas import quantity_out, ratio_out, response_schema
 from service.api.speeds import (
@@ -36,6 +36,7 @@ from service.api.speeds import (
     mach_field,
     speed_field,
 )
+from service.api.values import require
 from service.physics import lift as lf
 
 #: The most speed factors one stall request may ask for (each multiplies the size of the answer).
