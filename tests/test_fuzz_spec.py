@@ -60,7 +60,7 @@ SPEC = create_app({"TESTING": True}).test_client().get("/openapi.json").json
 #: whole published schema (valid_by_spec), and is positive data only if it passes.
 #: The alternatives of a request schema multiply (schemathesis expands the allOf into its cases, and gives up
 #: past about a hundred: seven independent pairs of exclusive fields are already too many, whatever the form
-#: of each rule): the lift and drag requests, with the air's altitude, temperature (api.rules.Jointly: one
+#: of each rule): the lift and drag requests, with the air's altitude, temperature (api.rule_schema.Jointly: one
 #: list of alternatives), humidity and speed each a choice, have one choice too many. Their dew point and
 #: relative humidity are generated without their rule (a request giving both is not valid by the spec).
 _HUMIDITY = NotTogether(*HUMIDITY_FIELDS).spec()

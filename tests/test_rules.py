@@ -21,7 +21,8 @@ from service.api.lift.curve import LiftCurveRequest
 from service.api.lift.solve import UNKNOWNS, LiftSolveRequest, LiftWingSchema
 from service.api.lift.stall import LiftStallRequest
 from service.api.lift.turn import TurnRequest
-from service.api.rules import Jointly, NotTogether, RuleSchema, _cover, schema_rules
+from service.api.rule_schema import Jointly, RuleSchema, _cover, schema_rules
+from service.api.rules import NotTogether
 
 SCHEMAS = [AtmosphereRequest, AirspeedRequest, CrossoverRequest, ScheduleRequest, LiftSolveRequest,
            LiftStallRequest, LiftCurveRequest, LiftWingSchema, TurnRequest, BuffetRequest, DragRequest,
@@ -93,7 +94,7 @@ def test_a_rule_applies_only_where_its_fields_are():
 @settings(max_examples=200, deadline=None)
 @given(size=st.integers(1, 4), data=st.data())
 def test_jointly_alternatives_cover_the_allowed_combinations_once(size, data):
-    """rules._cover: every allowed combination by exactly one term (disjoint, for generators that expand them),
+    """rule_schema._cover: every allowed combination by exactly one term (disjoint, for generators that expand them),
     nothing forbidden (don't-care combinations may be either)."""
     combos = list(itertools.product((0, 1), repeat=size))
     kinds = data.draw(st.lists(st.sampled_from(["allowed", "forbidden", "free"]), min_size=len(combos),

@@ -15,7 +15,7 @@ from apispec.ext.marshmallow.openapi import OpenAPIConverter
 from service.api import field_schemas, fields, problems
 from service.api.problems import PROBLEM_MEDIA_TYPE
 from service.api.request_body import BodyParser
-from service.api.rules import schema_rules
+from service.api.rule_schema import schema_rules
 from service.api.spec import JSON_MEDIA_TYPE
 from service.api.spec import complete as complete_spec
 

@@ -10,7 +10,7 @@ import numpy as np
 
 from service.api.fields import Number, OutputUnits, Value
 from service.api.problems import invalid, pointer
-from service.api.rules import RuleSchema
+from service.api.rule_schema import RuleSchema
 
 
 class StrictBoolean(ma.fields.Boolean):

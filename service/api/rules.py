@@ -19,13 +19,7 @@ default), and a Quantity is a ``fields.Value`` (``.unit`` is the unit given).
 
 from __future__ import annotations
 
-import copy
-import functools
-import itertools
-import json
 from collections.abc import Callable
-
-import marshmallow as ma
 
 Message = str | Callable[..., str] | dict
 
@@ -37,7 +31,7 @@ def _say(message: Message, *args) -> str:
     return message(*args) if callable(message) else message
 
 
-def _required(names) -> dict:
+def all_required(names) -> dict:
     return {"required": list(names)}
 
 
@@ -55,12 +49,12 @@ class Given:
         self.needs = frozenset((*names, *self.inside, *(n for c in all_of for n in c.needs)))
 
     def schema(self) -> dict:
-        schema = _required(self.names) if self.names else {}
+        schema = all_required(self.names) if self.names else {}
         if self.inside or self.value:
             schema["properties"] = {**{k: c.schema() for k, c in self.inside.items()},
                                     **{k: _value_schema(v) for k, v in self.value.items()}}
         if self.any_of:
-            schema["anyOf"] = [_required([name]) for name in self.any_of]
+            schema["anyOf"] = [all_required([name]) for name in self.any_of]
         if self.all_of:
             schema["allOf"] = [c.schema() for c in self.all_of]
         return schema
@@ -129,8 +123,8 @@ class NotTogether(Rule):
 
     def spec(self) -> dict:
         if len(self.names) == 2:
-            return {"not": _required(self.names)}
-        return {"oneOf": [NoneOf(*self.names).spec(), *(_required([name]) for name in self.names)]}
+            return {"not": all_required(self.names)}
+        return {"oneOf": [NoneOf(*self.names).spec(), *(all_required([name]) for name in self.names)]}
 
     def check(self, data):
         if len(data.keys() & self.name_set) < 2:
@@ -147,7 +141,7 @@ class ExactlyOne(NotTogether):
         self.missing = missing
 
     def spec(self):
-        return {"oneOf": [_required([name]) for name in self.names]}
+        return {"oneOf": [all_required([name]) for name in self.names]}
 
     def check(self, data):
         if data.keys().isdisjoint(self.name_set):
@@ -163,8 +157,8 @@ class NoneOf(Rule):
 
     def spec(self):
         if len(self.names) == 1:
-            return {"not": _required(self.names)}
-        return {"not": {"anyOf": [_required([name]) for name in self.names]}}
+            return {"not": all_required(self.names)}
+        return {"not": {"anyOf": [all_required([name]) for name in self.names]}}
 
     def check(self, data):
         if data.keys().isdisjoint(self.names):
@@ -179,7 +173,7 @@ class Needs(Rule):
         self.names, self.needed, self.messages = (name, *needed), frozenset(needed), messages
 
     def spec(self):
-        return {"if": _required(self.names[:1]), "then": _required(self.names[1:])}
+        return {"if": all_required(self.names[:1]), "then": all_required(self.names[1:])}
 
     def check(self, data):
         if self.names[0] in data and not data.keys() >= self.needed:
@@ -203,7 +197,8 @@ class NeedsAny(Rule):
         self.names, self.alternatives, self.message = (name, *alternatives), frozenset(alternatives), message
 
     def spec(self):
-        return {"if": _required(self.names[:1]), "then": {"anyOf": [_required([name]) for name in self.names[1:]]}}
+        return {"if": all_required(self.names[:1]),
+                "then": {"anyOf": [all_required([name]) for name in self.names[1:]]}}
 
     def check(self, data):
         if self.names[0] in data and data.keys().isdisjoint(self.alternatives):
@@ -253,8 +248,8 @@ class Either(Rule):
         self.names = (*first, *second)
 
     def spec(self):
-        return {"oneOf": [{**_required(self.first), **NoneOf(*self.second).spec()},
-                          {**_required(self.second), **NoneOf(*self.first).spec()}]}
+        return {"oneOf": [{**all_required(self.first), **NoneOf(*self.second).spec()},
+                          {**all_required(self.second), **NoneOf(*self.first).spec()}]}
 
     def check(self, data):
         if any(name in data for name in self.second):
@@ -292,163 +287,3 @@ def grouped(group: str, *rules: Rule) -> tuple[Rule, ...]:
     for rule in rules:
         rule.group = group
     return rules
-
-
-class _Loaded:
-    """A loaded value as a check sees it, for :class:`Jointly`'s table: its ``unit`` (a Unit condition)."""
-
-    def __init__(self, unit=None):
-        self.unit = unit
-
-
-#: A value that meets no condition on a field's value.
-_OTHER = _Loaded()
-#: Jointly's published alternatives, by the rules' own specs (a schema per process, several schemas alike).
-_JOINT_SPECS: dict[str, dict] = {}
-
-
-class Jointly(Rule):
-    """Several rules over a few shared fields, checked one by one (their own messages) and published as ONE
-    ``anyOf``: the combinations of the fields they allow, as few as the table of their checks reduces to.
-
-    Published separately, rules that share fields multiply in a request generator that expands the schema's
-    ``allOf`` into its alternatives (schemathesis gives up past about a hundred); together they count once.
-    The alternatives follow from the checks themselves (each combination of the fields given, and of the
-    values the rules' conditions name, run through every check), so the spec and the 422 cannot disagree.
-
-    >>> rule = Jointly(NotTogether("temperature", "isa_deviation"),
-    ...                Needs("recovery_factor", "temperature", messages={"recovery_factor": "Needs it."}))
-    >>> rule.spec()["anyOf"]  # doctest: +NORMALIZE_WHITESPACE
-    [{'not': {'anyOf': [{'required': ['temperature']}, {'required': ['recovery_factor']}]}},
-     {'required': ['temperature'], 'not': {'required': ['isa_deviation']}}]
-    >>> rule.check({"recovery_factor": 1.0})
-    {'recovery_factor': 'Needs it.'}
-    """
-
-    def __init__(self, *rules: Rule):
-        self.rules = rules
-        self.names = tuple(dict.fromkeys(name for rule in rules for name in rule.names))
-
-    def check(self, data):
-        errors: dict = {}
-        for rule in self.rules:
-            for key, message in rule.check(data).items():
-                errors.setdefault(key, message)
-        return errors
-
-    def _atoms(self) -> list[tuple[str, object]]:
-        """(field, None): the field is given; (field, value): it is given with that value (Never's conditions)."""
-        atoms: list[tuple[str, object]] = [(name, None) for name in self.names]
-        for rule in self.rules:
-            for name, value in getattr(getattr(rule, "when", None), "value", {}).items():
-                if (name, value) not in atoms:
-                    atoms.append((name, value))
-        return atoms
-
-    def spec(self):
-        key = json.dumps([rule.spec() for rule in self.rules], sort_keys=True)  # the same rules, the same table
-        if key not in _JOINT_SPECS:
-            _JOINT_SPECS[key] = self._spec()
-        return copy.deepcopy(_JOINT_SPECS[key])
-
-    def _spec(self):
-        atoms = self._atoms()
-        allowed, free = set(), set()
-        for bits in itertools.product((0, 1), repeat=len(atoms)):
-            data, possible = {}, True
-            for (name, value), bit in zip(atoms, bits, strict=True):
-                if value is None and bit:
-                    data.setdefault(name, _OTHER)
-                elif value is not None and bit:
-                    possible = possible and bits[atoms.index((name, None))] == 1
-                    data[name] = _Loaded(value) if isinstance(value, Unit) else value
-            if not possible:
-                free.add(bits)  # a value without its field: no request gives it
-            elif not self.check(data):
-                allowed.add(bits)
-        return {"anyOf": [self._term(atoms, term) for term in _cover(allowed, free)]}
-
-    @staticmethod
-    def _term(atoms, term) -> dict:
-        given = [name for (name, value), bit in zip(atoms, term, strict=True) if value is None and bit == 1]
-        absent = [name for (name, value), bit in zip(atoms, term, strict=True) if value is None and bit == 0]
-        parts = [_required(given)] if given else []
-        if absent:
-            parts.append(NoneOf(*absent).spec())
-        for (name, value), bit in zip(atoms, term, strict=True):
-            if value is not None and bit is not None:
-                condition = Given(name, value={name: value}).schema()
-                parts.append(condition if bit else {"not": condition})
-        if len(parts) == 2 and "not" in parts[1] and len(parts[1]) == 1 and given:  # {required, not}: one object
-            return {**parts[0], **parts[1]}
-        return parts[0] if len(parts) == 1 else {"allOf": parts}
-
-
-def _cover(allowed: set, free: set) -> list[tuple]:
-    """Terms (tuples of 0, 1 or None: either) that cover every combination in ``allowed``, nothing outside
-    ``allowed | free``, and no combination twice (so that a generator expanding them draws no alternative
-    twice): the leaves of the smallest decision tree over the atoms (each split on the atom that gives the
-    fewest terms)."""
-    size = len(next(iter(allowed | free)))
-
-    @functools.cache
-    def tree(fixed: tuple) -> tuple:
-        inside = [bits for bits in itertools.product((0, 1), repeat=size)
-                  if all(f is None or f == b for f, b in zip(fixed, bits, strict=True))]
-        if not any(bits in allowed for bits in inside):
-            return ()
-        if all(bits in allowed or bits in free for bits in inside):
-            return (fixed,)
-        return min((tree(fixed[:i] + (0,) + fixed[i + 1:]) + tree(fixed[:i] + (1,) + fixed[i + 1:])
-                    for i in range(size) if fixed[i] is None), key=len)
-
-    return sorted(tree((None,) * size), key=str)
-
-
-# --- the schema that checks them -------------------------------------------------------------------
-
-def schema_rules(schema: ma.Schema) -> list[Rule]:
-    """Every rule that applies to ``schema``: its fields' rules in field order, then its ``RULES``; the rules
-    of one group (two or more) as one :class:`Jointly` in the place of the first."""
-    fields = schema.fields
-    rules = [rule for name, field in fields.items() for rule in field_rules(field, field.data_key or name)]
-    rules.extend(getattr(schema, "RULES", ()))
-    rules = [rule for rule in rules if all(name in fields for name in rule.names)]
-    groups: dict[str, list[Rule]] = {}
-    for rule in rules:
-        if rule.group is not None:
-            groups.setdefault(rule.group, []).append(rule)
-    out = []
-    for rule in rules:
-        members = groups.get(rule.group, ()) if rule.group is not None else ()
-        if len(members) < 2:
-            out.append(rule)
-        elif rule is members[0]:
-            out.append(Jointly(*members))
-    return out
-
-
-def field_rules(field, name: str) -> list[Rule]:
-    """The rules a field carries (``rules_for(name)``: a Number's ``rules=``, an Altitude's own)."""
-    rules_for = getattr(field, "rules_for", None)
-    return list(rules_for(name)) if rules_for is not None else []
-
-
-class RuleSchema(ma.Schema):
-    """A schema that checks its rules (:func:`schema_rules`) once its fields have loaded."""
-
-    @ma.validates_schema
-    def _check_rules(self, data, **kwargs):
-        checks = self.__dict__.get("_checks")
-        if checks is None:  # once per schema instance; a rule the fields check themselves has check None
-            checks = self.__dict__["_checks"] = [rule.check for rule in schema_rules(self) if rule.check]
-        errors: dict = {}
-        for check in checks:
-            for key, message in check(data).items():
-                if isinstance(message, dict):  # {index: message} of a list field (outputs)
-                    for index, text in message.items():
-                        errors.setdefault(key, {}).setdefault(index, [text])
-                else:
-                    errors.setdefault(key, [message])
-        if errors:
-            raise ma.ValidationError(errors)

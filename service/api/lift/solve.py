@@ -43,7 +43,8 @@ from service.api.lift.common import (
 )
 from service.api.masks import any_true
 from service.api.outputs import Result
-from service.api.rules import Cases, Given, Jointly, Never, NoneOf, RuleSchema
+from service.api.rule_schema import Jointly, RuleSchema
+from service.api.rules import Cases, Given, Never, NoneOf
 from service.api.schemas import FlagOut, LabelOut, response_schema
 from service.api.speeds import (
     CALIBRATION_NEEDS_IAS,
