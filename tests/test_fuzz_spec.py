@@ -24,7 +24,7 @@ from hypothesis import HealthCheck, settings
 from schemathesis.checks import negative_data_rejection, positive_data_acceptance
 
 from service import create_app
-from service.api.air import HUMIDITY_FIELDS
+from service.api.air_fields import HUMIDITY_FIELDS
 from service.api.drag import ONE_FLIGHT_CONDITION
 from service.api.rules import NotTogether
 from service.api.speeds import AT_MOST_ONE_SPEED

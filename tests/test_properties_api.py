@@ -26,7 +26,7 @@ from hypothesis import strategies as st
 
 from service import create_app
 from service import units as unit_table
-from service.api import air
+from service.api import air_fields
 from service.api.fields import Quantity
 from service.api.problems import flatten_messages
 from tests import reference as ref
@@ -55,10 +55,10 @@ def strict(response) -> dict:
 # --- The Quantity field -----------------------------------------------------------------------------
 
 FIELDS = {
-    "altitude": air.altitude_field("Altitude", required=False),
-    "isa_deviation": air.isa_deviation_field(),
-    "temperature": air.temperature_field(),
-    "qnh": air.qnh_field(),
+    "altitude": air_fields.altitude_field("Altitude", required=False),
+    "isa_deviation": air_fields.isa_deviation_field(),
+    "temperature": air_fields.temperature_field(),
+    "qnh": air_fields.qnh_field(),
     "speed": Quantity("speed", minimum=0.0, exclusive_minimum=True, maximum=3000.0),
     "bank": Quantity("angle", minimum=0.0, maximum=90.0, exclusive_maximum=True),
 }

@@ -7,7 +7,7 @@ from __future__ import annotations
 
 import marshmallow as ma
 
-from service.api import air, examples
+from service.api import air, air_fields, examples
 from service.api.base import COMPUTE_PROBLEMS, Blueprint
 from service.api.fields import Number, Quantity
 from service.api.inputs import ComputeSchema, outputs_field
@@ -152,15 +152,15 @@ class DragRequest(_PolarInputs, ComputeSchema):
     cl = Number(minimum=0.0, exclusive_minimum=True, maximum=10.0, metadata={
         "description": "Lift coefficient CL [-]. " + _ONE_POINT, "example": [0.3, 0.5, 0.8]})
     calibration = calibration_field()
-    altitude = air.altitude_field(_ALTITUDE)
-    isa_deviation = air.isa_deviation_field()
-    temperature = air.temperature_field()
-    qnh = air.qnh_field()
-    altitude_kind = air.altitude_kind_field()
-    total_air_temperature = air.total_air_temperature_field()
-    recovery_factor = air.recovery_factor_field()
-    dew_point = air.dew_point_field()
-    relative_humidity = air.relative_humidity_field()
+    altitude = air_fields.altitude_field(_ALTITUDE)
+    isa_deviation = air_fields.isa_deviation_field()
+    temperature = air_fields.temperature_field()
+    qnh = air_fields.qnh_field()
+    altitude_kind = air_fields.altitude_kind_field()
+    total_air_temperature = air_fields.total_air_temperature_field()
+    recovery_factor = air_fields.recovery_factor_field()
+    dew_point = air_fields.dew_point_field()
+    relative_humidity = air_fields.relative_humidity_field()
     load_factor = LOAD_FACTOR
     bank_angle = BANK_ANGLE
     outputs = outputs_field(DRAG_OUTPUTS)
@@ -231,15 +231,15 @@ class DragSpeedsRequest(_PolarInputs, ComputeSchema):
     weight = weight_field("Weight", required=True)
     wing_area = wing_area_field()
     wing_area.required = True  # the shared field factories make optional fields
-    altitude = air.altitude_field(_ALTITUDE)
-    isa_deviation = air.isa_deviation_field()
-    temperature = air.temperature_field()
-    qnh = air.qnh_field()
-    altitude_kind = air.altitude_kind_field()
-    total_air_temperature = air.total_air_temperature_field()
-    recovery_factor = air.recovery_factor_field()
-    dew_point = air.dew_point_field()
-    relative_humidity = air.relative_humidity_field()
+    altitude = air_fields.altitude_field(_ALTITUDE)
+    isa_deviation = air_fields.isa_deviation_field()
+    temperature = air_fields.temperature_field()
+    qnh = air_fields.qnh_field()
+    altitude_kind = air_fields.altitude_kind_field()
+    total_air_temperature = air_fields.total_air_temperature_field()
+    recovery_factor = air_fields.recovery_factor_field()
+    dew_point = air_fields.dew_point_field()
+    relative_humidity = air_fields.relative_humidity_field()
     height = Quantity("altitude", minimum=0.0, exclusive_minimum=True, maximum=HEIGHT_MAX_FT, metadata={
         "description": "Optional: height to lose in a glide [ft]; `best_glide` then gives the still-air glide "
                        "distance from it.", "example": 25000})

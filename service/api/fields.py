@@ -310,6 +310,6 @@ def field_to_properties(self, field, ret):
         return number_schema(field)
     if isinstance(field, OutputUnits):
         return ref("OutputUnits")
-    if field.metadata.get("title") == "AltitudeKind":  # api.air.altitude_kind_field: one named enum
+    if field.metadata.get("title") == "AltitudeKind":  # api.air_fields.altitude_kind_field: one named enum
         return ref("AltitudeKind")
     return {}

@@ -6,7 +6,7 @@ from __future__ import annotations
 import marshmallow as ma
 import numpy as np
 
-from service.api import air, examples
+from service.api import air, air_fields, examples
 from service.api.base import COMPUTE_PROBLEMS
 from service.api.fields import Number, parse_numbers
 from service.api.inputs import ComputeSchema, outputs_field
@@ -97,15 +97,15 @@ class BuffetRequest(ComputeSchema):
     wing_area.required = True  # the shared field factories make optional fields
     mach = mach_field("Inside the `buffet` table's Mach range (nothing is extrapolated).")
     mach.required = True
-    altitude = air.altitude_field(_ALTITUDE)
-    isa_deviation = air.isa_deviation_field()
-    temperature = air.temperature_field()
-    qnh = air.qnh_field()
-    altitude_kind = air.altitude_kind_field()
-    total_air_temperature = air.total_air_temperature_field()
-    recovery_factor = air.recovery_factor_field()
-    dew_point = air.dew_point_field()
-    relative_humidity = air.relative_humidity_field()
+    altitude = air_fields.altitude_field(_ALTITUDE)
+    isa_deviation = air_fields.isa_deviation_field()
+    temperature = air_fields.temperature_field()
+    qnh = air_fields.qnh_field()
+    altitude_kind = air_fields.altitude_kind_field()
+    total_air_temperature = air_fields.total_air_temperature_field()
+    recovery_factor = air_fields.recovery_factor_field()
+    dew_point = air_fields.dew_point_field()
+    relative_humidity = air_fields.relative_humidity_field()
     buffet = BuffetTableField(required=True, metadata={
         "description": "The type's 1 g buffet-onset boundary from its flight manual: CL against Mach, linear "
                        "between rows. A Mach number outside the table is refused (nothing is extrapolated).",

@@ -11,7 +11,7 @@ from functools import partial
 import marshmallow as ma
 import numpy as np
 
-from service.api import air, examples
+from service.api import air, air_fields, examples
 from service.api.base import COMPUTE_PROBLEMS
 from service.api.examples import TQ62_WING
 from service.api.fields import Number
@@ -122,7 +122,8 @@ def _solve_case(unknown: str):
                    "does not fix the altitude. Give a Mach number, TAS or CAS instead."}),
                   Never(Given("altitude_kind", value={"altitude_kind": "geometric"}), "altitude_kind",
                         "Solving for altitude gives a pressure altitude; leave out altitude_kind."),
-                  Jointly(*(Never(Given("tas", name), name, _dry_for_altitude(name)) for name in air.HUMIDITY_FIELDS))]
+                  Jointly(*(Never(Given("tas", name), name, _dry_for_altitude(name))
+                            for name in air_fields.HUMIDITY_FIELDS))]
     needed = tuple(name for name in LIFT_INPUTS if name != unknown)
     return needed, f"Missing: needed to solve for {unknown}.", tuple(rules)
 
@@ -169,13 +170,13 @@ class LiftSolveRequest(ComputeSchema):
     tas = speed_field("tas", _SPEED_NOTE)
     mach = mach_field(_SPEED_NOTE)
     calibration = calibration_field()
-    altitude, isa_deviation, temperature, qnh, altitude_kind = air.air_fields(
+    altitude, isa_deviation, temperature, qnh, altitude_kind = air_fields.air_fields(
         "Altitude [ft]: a pressure altitude (FL allowed), or the indicated altitude with `qnh`, or a geometric height "
         "with `altitude_kind: geometric`. Required unless solving for altitude.", required=False)
-    total_air_temperature = air.total_air_temperature_field()
-    recovery_factor = air.recovery_factor_field()
-    dew_point = air.dew_point_field()
-    relative_humidity = air.relative_humidity_field()
+    total_air_temperature = air_fields.total_air_temperature_field()
+    recovery_factor = air_fields.recovery_factor_field()
+    dew_point = air_fields.dew_point_field()
+    relative_humidity = air_fields.relative_humidity_field()
     load_factor = LOAD_FACTOR
     bank_angle = BANK_ANGLE
     wing = ma.fields.Nested(LiftWingSchema, metadata={

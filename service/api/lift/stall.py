@@ -4,7 +4,7 @@ from __future__ import annotations
 
 import marshmallow as ma
 
-from service.api import air, examples, ranges
+from service.api import air, air_fields, examples, ranges
 from service.api.air import Air
 from service.api.base import COMPUTE_PROBLEMS
 from service.api.fields import Number, Quantity, parse_numbers
@@ -73,8 +73,8 @@ class StallReferenceSchema(ma.Schema):
         "description": "The 1 g stall speed as a calibrated airspeed (CAS), as the flight manual gives it [kt].",
         "example": 108})
     weight = weight_field("The weight at which `stall_speed` holds", required=True, example=22000)
-    altitude = air.altitude_field("Pressure altitude at which `stall_speed` holds [ft] (FL allowed); default the "
-                                  "request's pressure altitude.", required=False, example=0)
+    altitude = air_fields.altitude_field("Pressure altitude at which `stall_speed` holds [ft] (FL allowed); default "
+                                         "the request's pressure altitude.", required=False, example=0)
 
 
 STALL_OUTPUTS = ("stall", "multiples", "margin")
@@ -104,13 +104,13 @@ class LiftStallRequest(ComputeSchema):
                        "at its altitude, scaled by sqrt(weight / reference weight). Arrays here broadcast against "
                        "the points (length 1 or the number of points).",
         "example": {"stall_speed": 108, "weight": 22000, "altitude": 0}})
-    altitude, isa_deviation, temperature, qnh, altitude_kind = air.air_fields(
+    altitude, isa_deviation, temperature, qnh, altitude_kind = air_fields.air_fields(
         "Altitude [ft]: a pressure altitude (FL allowed), or the indicated altitude with `qnh`, or a geometric height "
         "with `altitude_kind: geometric`.")
-    total_air_temperature = air.total_air_temperature_field()
-    recovery_factor = air.recovery_factor_field()
-    dew_point = air.dew_point_field()
-    relative_humidity = air.relative_humidity_field()
+    total_air_temperature = air_fields.total_air_temperature_field()
+    recovery_factor = air_fields.recovery_factor_field()
+    dew_point = air_fields.dew_point_field()
+    relative_humidity = air_fields.relative_humidity_field()
     load_factor = LOAD_FACTOR
     bank_angle = BANK_ANGLE
     speed_factors = SpeedFactors(metadata={

@@ -2,7 +2,7 @@
 
 from __future__ import annotations
 
-from service.api import air, examples
+from service.api import air, air_fields, examples
 from service.api.base import COMPUTE_PROBLEMS
 from service.api.fields import Number, Quantity
 from service.api.inputs import ComputeSchema, outputs_field
@@ -57,15 +57,15 @@ class TurnRequest(ComputeSchema):
     tas = speed_field("tas", _ONE_SPEED)
     mach = mach_field(_ONE_SPEED)
     calibration = calibration_field()
-    altitude = air.altitude_field(_ALTITUDE)
-    isa_deviation = air.isa_deviation_field()
-    temperature = air.temperature_field()
-    qnh = air.qnh_field()
-    altitude_kind = air.altitude_kind_field()
-    total_air_temperature = air.total_air_temperature_field()
-    recovery_factor = air.recovery_factor_field()
-    dew_point = air.dew_point_field()
-    relative_humidity = air.relative_humidity_field()
+    altitude = air_fields.altitude_field(_ALTITUDE)
+    isa_deviation = air_fields.isa_deviation_field()
+    temperature = air_fields.temperature_field()
+    qnh = air_fields.qnh_field()
+    altitude_kind = air_fields.altitude_kind_field()
+    total_air_temperature = air_fields.total_air_temperature_field()
+    recovery_factor = air_fields.recovery_factor_field()
+    dew_point = air_fields.dew_point_field()
+    relative_humidity = air_fields.relative_humidity_field()
     bank_angle = BANK_ANGLE
     load_factor = Number(minimum=1.0, metadata={
         "description": "Load factor n of the level turn [-], at least 1. " + _ONE_TURN, "example": 1.5})
