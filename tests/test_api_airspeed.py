@@ -489,6 +489,9 @@ def test_crossover_outside_the_model_is_a_no_solution_422(client):
     assert "above it at points [2], so the CAS is the lower speed at every altitude" in doc["detail"]
     one = assert_problem(post(client, CROSSOVER, {"cas": 600, "mach": 0.5}), 422)
     assert "points" not in one["detail"] and "below it, so the Mach number is the lower speed" in one["detail"]
+    # The no-solution wording (README, errors): where, for arrays; nothing of points for one point.
+    assert doc["detail"].startswith("No crossover_altitude at 2 point(s), first indices [0, 2]: the CAS and ")
+    assert one["detail"].startswith("No crossover_altitude: the CAS and ")
 
 
 @pytest.mark.parametrize(("body", "pointer"), [

@@ -327,3 +327,27 @@ def test_a_column_is_checked_in_its_unit_before_the_stream_begins(client):
     assert post(client, "/v1/lift/solve", body, {"Accept": ARROW}).status_code == 200
     response = post(client, "/v1/lift/solve", body | {"output_units": {"area": "ft2"}}, {"Accept": ARROW})
     assert "wing_area is not a finite number here" in assert_problem(response, 422, "/wing_area")["detail"]
+
+
+@pytest.mark.parametrize("accept", ["application/json", "text/csv", ARROW, arrow.PARQUET])
+def test_an_unforeseen_non_finite_output_is_a_422_in_every_format(client, monkeypatch, accept):
+    # The safety net of outputs.Result (README, errors): an output that is not finite where no null_where made it
+    # null is a no-solution 422, in tables as in JSON, never an empty cell or an Arrow NaN. No valid input makes
+    # the turn relations overflow, so the physics the endpoint calls is replaced by one that does; the call is
+    # counted, so that a change in what the endpoint calls fails here rather than passing without the check.
+    from service.api.lift import turn as turn_api
+
+    real, calls = turn_api.level_turn, []
+
+    def overflowing(*args, **kwargs):
+        calls.append(1)
+        turn = real(*args, **kwargs)
+        return turn._replace(turn_rate=np.where(np.arange(np.size(turn.turn_rate)) == 1, np.inf,
+                                                turn.turn_rate).reshape(np.shape(turn.turn_rate)))
+
+    monkeypatch.setattr(turn_api, "level_turn", overflowing)
+    response = post(client, "/v1/lift/turn", {"tas": [150, 200], "bank_angle": 30, "altitude": 5000},
+                    {"Accept": accept})
+    assert calls and response.status_code == 422, response.status_code
+    doc = response.get_json()
+    assert doc["type"] == "/problems/no-solution" and doc["field"] == "turn_rate" and doc["indices"] == [1]

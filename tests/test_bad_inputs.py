@@ -469,3 +469,12 @@ def test_body_over_the_byte_limit_is_413():
     client = create_app({"TESTING": True, "QBAR_MAX_BODY_BYTES": 1024}).test_client()
     body = json.dumps({"altitude": [1000.0] * 500})
     check(raw(client, "/v1/atmosphere", body), 413)
+
+
+@pytest.mark.parametrize("depth", [2_000, 100_000])
+def test_nesting_deeper_than_the_parsers_take_is_a_422_that_says_so(client, depth):
+    # orjson's depth limit (and the standard library's recursion limit past it) end in the same 422, word for word.
+    body = '{"altitude": ' + "[" * depth + "]" * depth + ', "isa_deviation": 0}'
+    doc = assert_problem(client.post("/v1/atmosphere", data=body, content_type="application/json"), 422, "")
+    assert doc["errors"] == [{"pointer": "", "message": "The body nests arrays or objects deeper than 1024 levels; "
+                                                        "qbar's inputs nest three levels at most."}]

@@ -7,7 +7,7 @@ import pytest
 from hypothesis import given
 from hypothesis import strategies as st
 
-from service.api.fields import Number, OutputUnits, Quantity
+from service.api.fields import Number, OutputUnits, Quantity, trade_name
 from service.api.inputs import ComputeSchema
 from service.api.problems import flatten_messages
 from tests.helpers import count_calls
@@ -83,6 +83,45 @@ def test_refused_with_pointer(raw, pointer, text):
     assert text.lower() in errors[pointer].lower()
 
 
+@pytest.mark.parametrize(("item", "message"), [
+    ("1", "Not a number: a string."),
+    ({}, "Not a number: an object."),
+    (None, "Not a number: null."),
+    (True, "Not a number: a boolean."),
+    ([1], "Nested arrays are not accepted: give a flat array of numbers."),
+    (10**400, "Number out of the floating-point range."),
+])
+def test_element_messages_word_for_word(item, message):
+    # The messages are sentences a client shows as they are: capital first letter, full stop.
+    assert errors_of(altitude=[1.0, item]) == [{"pointer": "/altitude/1", "message": message}]
+
+
+def test_at_most_ten_bad_elements_are_reported():
+    # The contract of every list of offenders (README, errors): the first ten, in order.
+    errors = errors_of(altitude=["x"] * 12)
+    assert [e["pointer"] for e in errors] == [f"/altitude/{i}" for i in range(10)]
+
+
+class Bounded(ma.Schema):
+    count = Number(minimum=1, maximum=9)
+    fraction = Number(minimum=0, maximum=1, exclusive_minimum=True, exclusive_maximum=True)
+    speed = Quantity("speed", minimum=0, maximum=600, exclusive_minimum=True)
+
+
+@pytest.mark.parametrize(("body", "message"), [
+    ({"count": 0}, "Must be at least 1 and at most 9."),
+    ({"count": [5, 10]}, "Must be at least 1 and at most 9."),
+    ({"fraction": 1}, "Must be above 0 and below 1."),
+    ({"speed": 0}, "Must be above 0 kt and at most 600 kt."),
+    ({"speed": {"value": 400, "unit": "m/s"}}, "Must be above 0 m/s and at most 308.666666667 m/s."),
+])
+def test_range_messages_word_for_word(body, message):
+    # 600 kt = 600 * 1852 / 3600 m/s = 308.666... m/s (the knot is 1852 m per hour, exact), shown to 12 digits.
+    with pytest.raises(ma.ValidationError) as err:
+        Bounded().load(body)
+    assert [e["message"] for e in flatten_messages(err.value.messages)] == [message]
+
+
 def test_range_checks_point_at_elements():
     errors = errors_of(speed=[100, 0, -5, 20])
     assert [e["pointer"] for e in errors] == ["/speed/1", "/speed/2"]
@@ -102,7 +141,8 @@ def test_output_units():
     assert load(output_units={"altitude": "m"})["output_units"] == {"altitude": "m"}
     errors = errors_of(output_units={"altitude": "yd", "colour": "red"})
     assert {e["pointer"] for e in errors} == {"/output_units/altitude", "/output_units/colour"}
-    assert errors_of(output_units=["m"])[0]["pointer"] == "/output_units"
+    assert errors_of(output_units=["m"]) == [{"pointer": "/output_units",
+                                              "message": "Give an object of {dimension: unit}."}]
 
 
 def test_no_python_call_per_element():
@@ -158,3 +198,28 @@ def test_lean_field_loop_loads_as_marshmallow_does(body):
         return "data", {k: (v.si.tolist(), v.unit) if hasattr(v, "si") else v for k, v in loaded.data.items()}
 
     assert outcome() == outcome(partial=())
+
+
+@pytest.mark.parametrize(("description", "name", "words"), [
+    ("Pressure altitude [ft] (FL allowed): the level.", "altitude", "the pressure altitude (altitude)"),
+    ("Density ratio sigma = rho / rho0 [-].", "density_ratio", "the density ratio sigma (density_ratio)"),
+    ("Wing area, the reference of CL [m2].", "wing_area", "the wing area"),
+    ("Oswald efficiency. Between 0 and 1.", "oswald", "the oswald efficiency (oswald)"),
+    ("ISA deviation: OAT minus the standard temperature.", "isa_deviation", "the ISA deviation (isa_deviation)"),
+    ("Mach number [-].", "mach", "the Mach number (mach)"),
+    ("CLmax of the clean wing [-].", "cl_max", "the CLmax of the clean wing (cl_max)"),
+    ("The weight (mass or force).", "weight", "the weight"),
+])
+def test_trade_names_in_the_words_of_the_description(description, name, words):
+    # The wording of "Missing: ..." (fields.what_to_give): the description up to its first " [", " (", " = ",
+    # ", ", ". " or ": "; a first word keeps its capital when the rest of it is not all lower case (QNH, CLmax)
+    # or it is a name (Mach); the field's name in brackets unless the words already say it.
+    assert trade_name(ma.fields.Field(metadata={"description": description}), name) == words
+
+
+def test_ends_are_published_as_the_short_decimals_they_stand_for():
+    # -100 degC to 100 degC is -148 degF to 212 degF (t/degF = 1.8 t/degC + 32, exact): the ends are published and
+    # checked as those numbers, not as the floats a few units in the last place away that the conversion gives.
+    field = Quantity("temperature", minimum=-100.0, maximum=100.0, bounds_unit="degC")
+    assert tuple(field.bounds["degF"]) == (-148.0, 212.0)
+    assert tuple(field.bounds["degC"]) == (-100.0, 100.0)

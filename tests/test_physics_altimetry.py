@@ -87,8 +87,9 @@ def test_pressure_altitude_of_aerodrome_agrees_both_ways():
     qfe = alt.qfe_from_qnh(elevation, qnh)
     assert alt.pressure_altitude_of_aerodrome(elevation, qnh=qnh) == pytest.approx(
         alt.pressure_altitude_of_aerodrome(elevation, qfe=qfe), abs=1e-8)
-    with pytest.raises(ValueError):
-        alt.pressure_altitude_of_aerodrome(elevation)
+    for neither_or_both in ({}, {"qnh": qnh, "qfe": qfe}):
+        with pytest.raises(ValueError, match="^give exactly one of qnh and qfe$"):
+            alt.pressure_altitude_of_aerodrome(elevation, **neither_or_both)
 
 
 @SETTINGS
@@ -162,6 +163,14 @@ def test_correction_solves_the_doc_8168_equation(height, elevation, t_c, shape):
     dT = t_c - (15.0 - 0.0065 * elevation)
     expected = (-dT / -0.0065) * np.log(1.0 + (-0.0065 * (h + dH)) / (288.15 - 0.0065 * elevation))
     np.testing.assert_allclose(dH, expected, rtol=0.0, atol=1e-9)
+
+
+@pytest.mark.parametrize("t_k", [0.5, 100.0, 223.15, 323.15])
+def test_no_height_needs_no_correction_at_any_temperature(t_k):
+    # Doc 8168's equation at h = 0: dH = (-dT / L0) ln(1 + L0 dH / T_std) has the root dH = 0 whatever the
+    # deviation, down to the coldest temperature above 0 K (the equation's domain).
+    assert alt.temperature_correction(0.0, 500.0, t_k) == 0.0
+    np.testing.assert_array_equal(alt.temperature_correction(np.zeros(2), 500.0, t_k), [0.0, 0.0])
 
 
 def test_warm_day_gives_a_negative_correction_and_standard_day_none():

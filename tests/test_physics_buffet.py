@@ -121,7 +121,8 @@ def test_already_beyond_buffet_and_outside_the_atmosphere():
         ([0.7, 0.5], [0.9, 0.8], "strictly increasing"),
         ([0.5, 0.7], [0.9, -0.1], "positive"),
         ([0.5, float("nan")], [0.9, 0.8], "finite"),
-        ([[0.5, 0.7]], [0.9, 0.8], "1-D"),
+        ([[0.5, 0.7]], [0.9, 0.8], "^buffet table mach must be 1-D, got 2 dimensions$"),
+        ([0.5, 0.7], [[0.9, 0.8]], "^buffet table cl must be 1-D, got 2 dimensions$"),
     ],
 )
 def test_table_checks(mach, cl, message):

@@ -14,9 +14,53 @@ import numpy as np
 import pytest
 
 from service.physics import airspeed as asp
+from service.physics import altimetry, buffet, drag, humidity, lift, properties, schedule, turn, wing
 from service.physics import atmosphere as atm
-from service.physics import drag, lift, wing
+from service.physics import total_temperature as tat
 from tests import reference as ref
+
+
+# Keyword-only arguments and fixed tables, as functions of the arguments the test varies.
+def turn_by_bank(tas, bank_angle):
+    return turn.level_turn(tas, bank_angle=bank_angle)
+
+
+def turn_by_load_factor(tas, load_factor):
+    return turn.level_turn(tas, load_factor=load_factor)
+
+
+def turn_by_rate(tas, turn_rate):
+    return turn.level_turn(tas, turn_rate=turn_rate)
+
+
+def aerodrome_by_qnh(elevation, qnh):
+    return altimetry.pressure_altitude_of_aerodrome(elevation, qnh=qnh)
+
+
+def aerodrome_by_qfe(elevation, qfe):
+    return altimetry.pressure_altitude_of_aerodrome(elevation, qfe=qfe)
+
+
+CALIBRATION_IAS, CALIBRATION_CAS = (50, 100), (52, 101)  # a calibration table of whole numbers [m/s]
+
+
+def cas_by_calibration(ias):
+    return asp.ias_to_cas(ias, CALIBRATION_IAS, CALIBRATION_CAS)
+
+
+def ias_by_calibration(cas):
+    return asp.cas_to_ias(cas, CALIBRATION_IAS, CALIBRATION_CAS)
+
+
+BUFFET_MACH, BUFFET_CL = (1, 2), (2, 1)  # a table of whole numbers: Mach 1 to 2, CL 2 to 1
+
+
+def buffet_cl_at(mach):
+    return buffet.buffet_cl(mach, BUFFET_MACH, BUFFET_CL)
+
+
+def buffet_margins_at(weight, wing_area, mach, p, margin):
+    return buffet.buffet_margins(weight, wing_area, mach, p, BUFFET_MACH, BUFFET_CL, margin)
 
 #: (function, integral arguments): every public relation with arguments that are whole numbers.
 INTEGRAL = [
@@ -47,6 +91,24 @@ INTEGRAL = [
     (drag.flight_condition, (200000, 60, 5000, 90, 1, 1)), (drag.level_condition, (200000, 60, 1, 1, 1, 1)),
     (drag.minimum_drag, (200000, 60, 1, 1, 1)), (drag.minimum_power, (200000, 60, 1, 1, 1)),
     (drag.best_glide, (200000, 60, 1, 1, 1)),
+    (humidity.saturation_vapour_pressure, (293,)), (humidity.vapour_pressure_from_dew_point, (283,)),
+    (humidity.vapour_pressure_from_relative_humidity, (293, 1)), (humidity.virtual_temperature, (303, 4245, 101325)),
+    (humidity.moist_air_density, (101325, 303, 4245)),
+    (tat.total_air_temperature, (216, 1)), (tat.total_air_temperature, (216, 1, 1)),
+    (tat.static_temperature_from_mach, (244, 1)), (tat.static_temperature_from_mach, (244, 1, 1)),
+    (tat.ram_rise, (250,)), (tat.ram_rise, (250, 1)), (tat.static_temperature_from_tas, (250, 250)),
+    (tat.static_temperature_from_tas, (250, 250, 1)),
+    (properties.gravity, (10000,)), (properties.number_density, (101325, 288)),
+    (properties.mean_particle_speed, (288,)),
+    (properties.mean_free_path, (101325, 288)), (properties.collision_frequency, (101325, 288)),
+    (properties.pressure_scale_height, (288, 10)), (properties.thermal_conductivity, (288,)),
+    (altimetry.qfe_from_qnh, (500, 101325)), (altimetry.qnh_from_qfe, (500, 95000)),
+    (altimetry.aerodrome_isa_deviation, (500, 280)), (altimetry.temperature_correction, (300, 0, 263)),
+    (aerodrome_by_qnh, (500, 101325)), (aerodrome_by_qfe, (500, 95000)),
+    (turn_by_bank, (100, 1)), (turn_by_load_factor, (100, 2)), (turn_by_rate, (100, 1)),
+    (buffet_cl_at, (1,)), (buffet_margins_at, (200000, 60, 1, 30000, 1)),
+    (schedule.limited_speed_schedule, (150, 1, 30000, 250, 1000, 128, 3048)),
+    (cas_by_calibration, (75,)), (ias_by_calibration, (75,)),
 ]
 
 
@@ -67,7 +129,8 @@ def test_int_inputs_give_the_float_results(fn, args):
         got = _flat(fn(*given))
         assert len(got) == len(expected)
         for g, e in zip(got, expected, strict=True):
-            assert g.dtype == np.float64, (fn.__name__, g.dtype)
+            # float64, or what the float arguments give (an index: schedule's governing)
+            assert g.dtype == e.dtype and e.dtype in (np.float64, np.int64), (fn.__name__, g.dtype, e.dtype)
             np.testing.assert_allclose(g.reshape(-1), np.broadcast_to(e, g.shape).reshape(-1), rtol=1e-15)
 
 
@@ -91,6 +154,10 @@ NO_VALUE = [
     (wing.lift_slope, (8.0, 0.0, 1.0, 1.0)), (wing.lift_slope, (8.0, 0.0, 1.5, 1.0)),
     (drag.minimum_drag_cl, (-0.02, 0.04)), (drag.minimum_power_cl, (0.02, -0.04)),
     (drag.max_lift_to_drag, (-0.02, 0.04)),
+    (lift.bank_from_load_factor, (0.0,)),  # 1 / n divides by zero where the value does not exist
+    (lift.pressure_altitude_for_cas, (1.0e5, math.inf)),  # no altitude for an infinite speed
+    (drag.lift_to_drag, (0.0, 0.0, 0.04)),  # CL / CD = 0 / 0
+    (asp.mach_from_impact_pressure, (1000.0, 0.0)),  # no Mach number without a static pressure
 ]
 
 
@@ -101,6 +168,31 @@ def test_no_value_is_a_quiet_nan(fn, args):
         single = fn(*args)
         array = fn(*(np.array([a, a]) for a in args))
     assert np.isnan(single) and np.all(np.isnan(array)), (single, array)
+
+
+#: (function, arguments at the edge of its closed form, output, the limit the closed form gives there): infinite
+#: values come quietly too (no RuntimeWarning), on both paths.
+LIMITS = [
+    (drag.induced_drag_factor, (0.0, 0.8), None, math.inf),  # k = 1 / (pi A e), A -> 0
+    (drag.lift_to_drag, (1.0, -0.04, 0.04), None, math.inf),  # CL / (CD0 + k CL^2), the denominator 0
+    (drag.minimum_power_cl, (0.02, 0.0), None, math.inf),  # sqrt(3 CD0 / k), k -> 0
+    (drag.max_lift_to_drag, (0.0, 0.04), None, math.inf),  # 1 / (2 sqrt(CD0 k)), CD0 -> 0
+    (drag.flight_condition, (200000.0, 60.0, 0.0, 0.0, 0.02, 0.04), "cl", math.inf),  # CL = n W / (q S), q = 0
+    (drag.flight_condition, (1e300, 60.0, 1e-300, 1.0, 0.02, 0.04), "cl", math.inf),  # beyond the float range
+    # gamma = arctan(1 / (L/D)): an infinite CD0 gives L/D = 0, a vertical glide
+    (drag.best_glide, (200000.0, 60.0, math.inf, 0.04, 1.2), "glide_angle", math.pi / 2),
+]
+
+
+@pytest.mark.parametrize(("fn", "args", "field", "limit"), LIMITS, ids=[f"{f.__name__}{a}" for f, a, _, _ in LIMITS])
+def test_limits_are_quiet(fn, args, field, limit):
+    with warnings.catch_warnings():
+        warnings.simplefilter("error")
+        single = fn(*args)
+        array = fn(*(np.array([a, a]) for a in args))
+    if field is not None:
+        single, array = getattr(single, field), getattr(array, field)
+    assert single == limit and np.all(array == limit), (single, array)
 
 
 def test_documented_defaults():

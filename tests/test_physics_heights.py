@@ -51,6 +51,46 @@ def test_inverse_matches_the_numerical_hypsometric_integral(h, dT):
     assert hypsometric_height(H, dT) == pytest.approx(h, abs=1e-5)
 
 
+#: The seven layers of the standard atmosphere to 84 852 m: base [m], base temperature [K], lapse rate [K/m]
+#: (the layer bases and gradients of ICAO Doc 7488/3 and the U.S. Standard Atmosphere 1976, typed here; each base
+#: temperature follows from 288.15 K and the gradients below it).
+LAYERS_7488 = ((0.0, 288.15, -0.0065), (11_000.0, 216.65, 0.0), (20_000.0, 216.65, 0.0010),
+               (32_000.0, 228.65, 0.0028), (47_000.0, 270.65, 0.0), (51_000.0, 270.65, -0.0028),
+               (71_000.0, 214.65, -0.0020))
+
+
+def textbook_T_all_layers(H):
+    """Standard temperature at any pressure altitude of the model, from LAYERS_7488."""
+    bases = np.array([layer[0] for layer in LAYERS_7488])
+    i = np.clip(np.searchsorted(bases, H, side="right") - 1, 0, len(bases) - 1)
+    base, T_base, lapse = (np.array(column)[i] for column in zip(*LAYERS_7488, strict=True))
+    return T_base + lapse * (H - base)
+
+
+def height_of_level_at_temperature(H_top, T, n=400_001):
+    """Geometric height of the pressure level H_top when the temperature there is T: the deviation
+    T - T_std(H_top), constant down to the datum (sea-level standard pressure), integrated as above."""
+    dT = T - float(textbook_T_all_layers(np.float64(H_top)))
+    H = np.linspace(0.0, H_top, n)
+    Z = np.trapezoid((textbook_T_all_layers(H) + dT) / textbook_T_all_layers(H), H)
+    return R_EARTH * Z / (R_EARTH - Z)
+
+
+# (pressure altitude [m], temperature there [K]): near the datum (where ln(p_d / p) vanishes), in the
+# troposphere, and in the upper layers of the mesosphere (negative lapse rates).
+LEVELS_AT_TEMPERATURE = [(-4.0, 277.0), (-0.5624, 323.86), (5.0, 250.0), (10_000.0, 250.0), (55_000.0, 240.0),
+                         (60_000.0, 260.0), (65_000.0, 230.0), (70_000.0, 200.0)]
+
+
+@pytest.mark.parametrize(("H", "T"), LEVELS_AT_TEMPERATURE)
+def test_inverse_with_the_temperature_at_the_level_matches_the_integral(H, T):
+    # Largest difference seen: 3.6e-13 relative (the trapezoid over all seven layers).
+    h = height_of_level_at_temperature(H, T)
+    assert close(atm.pressure_altitude_at_height(h, T=T), H)
+    np.testing.assert_allclose(atm.pressure_altitude_at_height(np.array([h, h]), T=np.array([T, T])), [H, H],
+                               rtol=1e-9, atol=1e-6)
+
+
 def test_worked_example_from_the_issue():
     # 10 000 m geometric on an ISA+20 day: the pressure level is at 9 263.07 m pressure altitude
     # (by the integral above), where the standard-day relation gave 9 984.3 m; the density there

@@ -71,6 +71,14 @@ def test_limit_above_the_schedule_does_not_govern():
     np.testing.assert_allclose(s.cas[:6] / KT, 240.0, rtol=1e-13)
 
 
+def test_limit_equal_to_the_schedule_does_not_govern():
+    # The docstring's rule: the limit governs where it is below the scheduled CAS. A 250 kt schedule under the
+    # 250 kt limit flies its own CAS, labelled so, at the same speed.
+    s = _flown(cas_kt=250.0)
+    assert [GOVERNING[i] for i in s.governing[:6]] == ["cas"] * 6
+    np.testing.assert_allclose(s.cas[:6] / KT, 250.0, rtol=1e-13)
+
+
 def test_without_a_limit_altitude_in_reach_it_is_the_plain_schedule():
     # A limit below the lowest level applies nowhere: the same speeds as without it.
     s = _flown(limit_ft=-1_000.0)

@@ -43,6 +43,18 @@ def test_static_from_tas_matches_aerocalc3(tas_kt, indicated_c, r):
     assert tt.static_temperature_from_tas(indicated_c + 273.15, tas_kt * KT, r) == pytest.approx(expected, abs=5e-5)
 
 
+def test_default_recovery_factor_is_one():
+    # The docstrings' default r = 1 (a probe that recovers the whole rise), against aerocalc3 with r = 1:
+    # mach2temp and tas2temp as above.
+    assert tt.static_temperature_from_mach(250.0, 0.8) == pytest.approx(
+        ac.mach2temp(0.8, 250.0 - 273.15, 1.0, temp_units="C") + 273.15, abs=1e-9)
+    assert tt.static_temperature_from_tas(250.0, 250.0) == pytest.approx(
+        ac.tas2temp(250.0 / KT, 250.0 - 273.15, 1.0, speed_units="kt", temp_units="C") + 273.15, abs=5e-5)
+    # NACA Report 1135, eq. 43 with r = 1: TAT = T (1 + 0.2 M^2); V^2 / (2 cp) with cp = 1004.685 J/(kg K)
+    assert tt.total_air_temperature(216.65, 0.8) == pytest.approx(216.65 * (1.0 + 0.2 * 0.64), rel=1e-15)
+    assert tt.ram_rise(250.0) == pytest.approx(250.0**2 / (2.0 * 1004.685), rel=1e-6)
+
+
 @pytest.mark.parametrize("shape", SHAPES.values(), ids=SHAPES)
 def test_stagnation_ratio_naca_1135(shape):
     # NACA Report 1135, eq. 43: T0 / T = 1 + (gamma - 1)/2 M^2; its table I at M = 0.8 gives

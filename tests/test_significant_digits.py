@@ -5,6 +5,7 @@ import json
 import numpy as np
 import pytest
 
+from service.api.outputs import round_significant
 from tests.helpers import assert_problem, count_calls, post
 
 ATM = "/v1/atmosphere"
@@ -69,3 +70,9 @@ def test_rounding_is_vectorised(client):
 
     post(client, ATM, {"altitude": [0, 1], "isa_deviation": 5, "significant_digits": 4})  # warm caches
     assert calls(20_000) == calls(20)
+
+
+@pytest.mark.parametrize("value", [None, "cl", True, 7, np.array([1, 2]), np.array(["cas", "mach"]), [1.23456]])
+def test_what_is_not_a_float_is_written_as_it_is(value):
+    # Labels (solved_for, governing), flags, whole numbers and nulls are not rounded (outputs.round_significant).
+    assert round_significant(value, 2) is value

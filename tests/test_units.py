@@ -201,3 +201,9 @@ def test_the_top_of_the_atmosphere_in_feet_and_flight_levels():
     # 84 852 m / 0.3048 m/ft = 278 385.826 771 653 5... ft (exact definition of the foot, NIST SP 811)
     assert units.bound_in("altitude", "ft", 84852.0, upper=True) == pytest.approx(278385.8267716535, rel=1e-15)
     assert units.bound_in("altitude", "FL", 84852.0, upper=True) == pytest.approx(2783.858267716535, rel=1e-15)
+    # An end is inclusive unless asked (the default, exclusive=False). 100 degC = 373.15 K is the SI value of
+    # several floats in degF (212 - 6e-14 to 212 + 3e-14), so there the two kinds of end differ.
+    for upper in (True, False):
+        inclusive = units.bound_in("temperature", "degF", 373.15, upper=upper)
+        assert inclusive == units.bound_in("temperature", "degF", 373.15, upper=upper, exclusive=False)
+        assert inclusive != units.bound_in("temperature", "degF", 373.15, upper=upper, exclusive=True)
