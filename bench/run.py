@@ -12,7 +12,8 @@
 3. Single-point POST /v1/airspeed throughput through gunicorn against a bare Flask endpoint that returns a
    constant JSON object, same gunicorn settings, same load (wrk, one thread, in its own process).
 4. Peak resident memory of one worker serving the largest valid requests (a 200,000-point lift grid as
-   JSON and as Arrow; the 200,000-point stall request with the most speed factors, the widest answer).
+   JSON and as Arrow; the widest answers: the stall request with the most speed factors and the most points
+   the limit then allows, and 200,000 /v1/drag/speeds points, the most columns per point).
 5. Per compute endpoint, one gunicorn worker: points per second for a 100,000-point request (JSON and
    Arrow answers) and single-point requests per second (wrk): the figures the README's capacity section
    turns into pods.
@@ -295,17 +296,36 @@ def bench_memory(quick: bool) -> dict:
             "private_idle_mb": as_json["private_idle_mb"]}
 
 
-def bench_memory_widest(quick: bool) -> dict:
-    """The widest valid answer: 200,000 stall points, each with every multiple of the stall speed that
-    speed_factors allows (MAX_SPEED_FACTORS), as Arrow (JSON would be over twice the size)."""
-    from service.api.lift.stall import MAX_SPEED_FACTORS
+#: The widest answer per point at the point limit: 200,000 drag/speeds points (29 columns with the inputs).
+DRAG_SPEEDS_WIDEST = {
+    "weight": np.linspace(15000, 23000, 200_000).tolist(), "wing_area": 61, "cd0": 0.024,
+    "induced_drag_factor": 0.0371, "altitude": np.linspace(0, 20000, 200_000).tolist(), "height": 5000,
+}
 
-    n = 20_000 if quick else 200_000
-    body = {"weight": np.linspace(15000, 23000, n).tolist(), "wing_area": 61, "cl_max": 1.6, "altitude": 3000,
-            "bank_angle": 30, "speed_factors": np.linspace(1.05, 2.0, MAX_SPEED_FACTORS).round(4).tolist(),
-            "cas": 180}
-    result = _peak_memory("/v1/lift/stall", body, {"Accept": ARROW})
-    return result | {"points": n, "factors": MAX_SPEED_FACTORS}
+
+def bench_memory_widest(quick: bool) -> dict:
+    """The widest valid answers, as JSON and as Arrow: as many stall points as the point limit allows with every
+    multiple of the stall speed that speed_factors allows (MAX_SPEED_FACTORS), each factor counting a row per
+    point (points x (1 + factors) <= QBAR_MAX_POINTS: 9,523 points); and 200,000 /v1/drag/speeds points, the
+    endpoint with the most columns per point (29)."""
+    from service.api.lift.stall import MAX_SPEED_FACTORS
+    from service.config import SETTINGS
+
+    n = SETTINGS["QBAR_MAX_POINTS"][0] // (1 + MAX_SPEED_FACTORS)
+    stall = {"weight": np.linspace(15000, 23000, n).tolist(), "wing_area": 61, "cl_max": 1.6, "altitude": 3000,
+             "bank_angle": 30, "speed_factors": np.linspace(1.05, 2.0, MAX_SPEED_FACTORS).round(4).tolist(),
+             "cas": 180}
+    out = {"stall_points": n, "factors": MAX_SPEED_FACTORS}
+    for name, path, body in (("stall", "/v1/lift/stall", stall),
+                             ("drag_speeds", "/v1/drag/speeds", DRAG_SPEEDS_WIDEST)):
+        as_json = _peak_memory(path, body)
+        as_arrow = _peak_memory(path, body, {"Accept": ARROW})
+        out |= {f"{name}_json_peak_mb": as_json["peak_mb"], f"{name}_json_private_peak_mb": as_json["private_peak_mb"],
+                f"{name}_json_bytes": as_json["answer_bytes"], f"{name}_arrow_peak_mb": as_arrow["peak_mb"],
+                f"{name}_arrow_private_peak_mb": as_arrow["private_peak_mb"],
+                f"{name}_arrow_bytes": as_arrow["answer_bytes"], "idle_mb": as_json["idle_mb"]}
+    out["peak_mb"] = max(v for k, v in out.items() if k.endswith("_peak_mb") and "private" not in k)
+    return out
 
 
 #: One 100,000-point request per compute endpoint (default outputs), for points per second.
@@ -320,7 +340,7 @@ def throughput_bodies(n: int) -> dict[str, dict]:
         "/v1/lift/solve": {"solve_for": "cl", "weight": np.linspace(15000, 23000, n).tolist(), "wing_area": 61,
                            "mach": 0.6, "altitude": np.linspace(5000, 35000, n).tolist(), "isa_deviation": 5},
         "/v1/lift/stall": {"weight": np.linspace(15000, 23000, n).tolist(), "wing_area": 61, "cl_max": 1.6,
-                           "altitude": 3000, "bank_angle": 30, "speed_factors": [1.13, 1.3], "cas": 180},
+                           "altitude": 3000, "bank_angle": 30, "speed_factors": [1.3], "cas": 180},  # 2 rows a point
         "/v1/lift/curve": {"aspect_ratio": 11, "sweep_half_chord": 0, "mach": np.linspace(0.1, 0.65, n).tolist(),
                            "airfoil_lift_slope": 6.0, "cl": 0.8, "cl_max": 1.6},
     }
@@ -384,7 +404,7 @@ def main(argv=None) -> int:
                          "ratio", "{:.2f}"),
         "memory": ("memory", "peak worker memory, 200k-point lift grid, JSON or Arrow [MB]", bench_memory,
                    "peak_mb", "{:.0f}"),
-        "memory_widest": ("memory", "peak worker memory, 200k stall points x 20 speed factors, Arrow [MB]",
+        "memory_widest": ("memory", "peak worker memory, widest answers, JSON or Arrow [MB]",
                           bench_memory_widest, "peak_mb", "{:.0f}"),
         "throughput": ("throughput", "points/s per worker, slowest endpoint, JSON", bench_throughput,
                        "min_points_per_s_json", "{:.3g}"),

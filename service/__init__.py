@@ -15,14 +15,16 @@ from service.version import __version__
 
 CAUTION = (
     "CAUTION: qbar is not certified for flight planning or for the operation of aircraft. Its results are "
-    "for information, engineering and cross-checking only. The aircraft's approved flight manual and the "
-    "applicable local regulations govern."
+    "for information, engineering and cross-checking only. The aircraft's approved flight manual, the "
+    "published procedures and the applicable local regulations govern."
 )
 
-API_DESCRIPTION = f"""qbar computes the ICAO standard atmosphere (on standard and off-standard days, with QNH and \
-density altitude), compressible airspeed conversions (IAS, CAS, EAS, TAS, Mach, crossover altitudes, speed \
-schedules) and the lift equation (solve for any unknown, stall speeds under load, the wing's lift curve), for one \
-point or hundreds of thousands per request.
+API_DESCRIPTION = f"""qbar computes the ICAO standard atmosphere (on standard and off-standard days, with QNH, \
+humidity, density altitude and the U.S. Standard Atmosphere 1976 property set), altimetry (QNH and QFE, \
+cold-temperature corrections), compressible airspeed conversions (IAS, CAS, EAS, TAS, Mach, total air temperature, \
+crossover altitudes, speed schedules with a speed limit) and the lift equation with what follows from it (solve for \
+any unknown, stall speeds under load, the wing's lift curve, drag, performance speeds, turns, buffet margins), for \
+one point or hundreds of thousands per request.
 
 **{CAUTION}**
 
@@ -62,6 +64,7 @@ def create_app(config: dict | None = None) -> Flask:
     app.config.setdefault("COMPRESS_ALGORITHM", ["gzip"])
     app.config.setdefault("COMPRESS_MIN_SIZE", 4096)
     app.config.setdefault("COMPRESS_LEVEL", 1)  # fast: bulk answers are tens of MB
+    app.config.setdefault("COMPRESS_ALGORITHM_STREAMING", ["gzip"])  # the JSON array answers are streamed
     Compress(app)
     api = Api(app)
     for blp in BLUEPRINTS:

@@ -22,6 +22,7 @@ from __future__ import annotations
 
 import difflib
 import math
+import operator
 from typing import NamedTuple
 
 import numpy as np
@@ -62,6 +63,9 @@ _MASS_UNITS = (
     Unit("t", 1000.0, description="tonne (1000 kg)"),
     Unit("lb", LB, description="pound mass (0.45359237 kg, exact)"),
 )
+_METRE = Unit("m", 1.0, description="metre")
+_FOOT = Unit("ft", FT, description="international foot (0.3048 m, exact)")
+_KILOMETRE = Unit("km", 1000.0, description="kilometre")
 _DEGC = ("°C",)  # the SI Brochure's symbol of the degree Celsius
 _DEGF = ("°F",)
 _FORCE_UNITS = (
@@ -74,9 +78,7 @@ DIMENSIONS: dict[str, Dimension] = {
     d.name: d
     for d in (
         _dim("altitude", "m", "ft", "Altitude or height", (
-            Unit("m", 1.0, description="metre"),
-            Unit("ft", FT, description="international foot (0.3048 m, exact)"),
-            Unit("km", 1000.0, description="kilometre"),
+            _METRE, _FOOT, _KILOMETRE,
             Unit("FL", 100.0 * FT, description="flight level: hundreds of feet of pressure altitude"),
         )),
         _dim("speed", "m/s", "kt", "Speed", (
@@ -134,9 +136,7 @@ DIMENSIONS: dict[str, Dimension] = {
         )),
         _dim("distance", "m", "NM", "Horizontal distance (turn radius, glide distance)", (
             Unit("NM", 1852.0, description="international nautical mile (1852 m, exact)"),
-            Unit("km", 1000.0, description="kilometre"),
-            Unit("m", 1.0, description="metre"),
-            Unit("ft", FT, description="international foot (0.3048 m, exact)"),
+            _KILOMETRE, _METRE, _FOOT,
             Unit("mi", MILE, description="statute mile (5280 ft, exact)"),
         )),
         _dim("vertical_speed", "m/s", "ft/min", "Vertical speed (rate of climb or sink)", (
@@ -163,11 +163,7 @@ DIMENSIONS: dict[str, Dimension] = {
             Unit("kg/m2", G0, description="kilogram per square metre (weight as mass, times g0)"),
             Unit("lb/ft2", G0 * LB / FT**2, description="pound per square foot (weight as mass, times g0)"),
         )),
-        _dim("length", "m", "m", "Length (mean free path, scale height)", (
-            Unit("m", 1.0, description="metre"),
-            Unit("ft", FT, description="international foot (0.3048 m, exact)"),
-            Unit("km", 1000.0, description="kilometre"),
-        )),
+        _dim("length", "m", "m", "Length (mean free path, scale height)", (_METRE, _FOOT, _KILOMETRE)),
         _dim("acceleration", "m/s2", "m/s2", "Acceleration (of free fall)", (
             Unit("m/s2", 1.0, description="metre per second squared"),
             Unit("ft/s2", FT, description="foot per second squared"),
@@ -355,17 +351,14 @@ def bound_in(dimension: str, unit: str, si: float, *, upper: bool, exclusive: bo
     def si_of(x: float) -> float:
         return float(to_si(np.float64(x), dimension, unit))
 
+    # the largest x with si_of(x) <= si (stepping down while beyond it), or the smallest with si_of(x) >= si
+    beyond, within, inward = ((operator.gt, operator.le, -math.inf) if upper != exclusive
+                              else (operator.lt, operator.ge, math.inf))
     x = float(from_si(np.float64(si), dimension, unit))
-    if upper != exclusive:  # the largest x with si_of(x) <= si
-        while si_of(x) > si:
-            x = math.nextafter(x, -math.inf)
-        while si_of(math.nextafter(x, math.inf)) <= si:
-            x = math.nextafter(x, math.inf)
-        return x
-    while si_of(x) < si:  # the smallest x with si_of(x) >= si
-        x = math.nextafter(x, math.inf)
-    while si_of(math.nextafter(x, -math.inf)) >= si:
-        x = math.nextafter(x, -math.inf)
+    while beyond(si_of(x), si):
+        x = math.nextafter(x, inward)
+    while within(si_of(math.nextafter(x, -inward)), si):
+        x = math.nextafter(x, -inward)
     return x
 
 

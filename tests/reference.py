@@ -5,7 +5,9 @@ plain and different from the service's: one point at a time, layer by layer from
 ``brentq`` root finder, the hypsometric integral by scipy's ``quad``, the Rayleigh pitot formula in the form
 NACA Report 1135 prints it. So a slip in the service's vectorised closed forms is not repeated here.
 ``tests/test_reference_oracle.py`` checks this module against ambiance, fluids and aerocalc3 (and published
-table values) before the endpoint tests rely on it.
+table values) before the endpoint tests rely on it; the later parts (the USSA 1976 property set, Hardy's saturation
+formula, the moist density, the polar's closed forms) are checked at the top of ``tests/test_reference_airdata.py``
+and ``tests/test_reference_performance.py`` (ambiance, fluids, iapws, MetPy, numeric optima, printed values).
 """
 
 from __future__ import annotations
@@ -335,3 +337,190 @@ def app_client():
     from service import create_app
 
     return create_app({"TESTING": True}).test_client()
+
+
+# --- U.S. Standard Atmosphere 1976: the further properties (NOAA-S/T 76-1562, part 1, section 1.3) ------------
+# Constants of USSA 1976 table 2 (from memory of the table), below 86 km where the molar mass is M0.
+RSTAR = 8.31432  # universal gas constant R* [J/(mol K)] (8.31432e3 N m/(kmol K))
+M0 = 28.9644e-3  # molar mass of sea-level air M0 [kg/mol] (28.9644 kg/kmol)
+N_A = 6.022169e23  # Avogadro constant N_A [1/mol] (6.022169e26 /kmol)
+SIGMA = 3.65e-10  # effective collision diameter of the air molecules sigma [m]
+#: Thermal conductivity k = beta T^1.5 / (T + S 10^(-12/T)) (USSA 1976 eq. 53, from memory): beta [W/(m K^1.5)],
+#: S [K], the exponent's numerator [K].
+K_BETA, K_S, K_EXP = 2.64638e-3, 245.4, 12.0
+
+
+def gravity(Z: float) -> float:
+    """Acceleration of free fall at geometric height Z [m/s2]: g0 (r0 / (r0 + Z))^2 (USSA 1976 eq. 17, the number
+    from memory)."""
+    return G0 * (R_EARTH / (R_EARTH + Z)) ** 2
+
+
+def ussa_properties(p: float, T: float, Z: float) -> dict:
+    """The USSA 1976 property set at static pressure p [Pa], temperature T [K] and geometric height Z [m] [SI].
+
+    Number density n = N_A p / (R* T); mean particle speed V = sqrt(8 R* T / (pi M0)); mean free path
+    L = sqrt(2) / (2 pi sigma^2 n); collision frequency in the standard's own closed form
+    4 N_A sigma^2 sqrt(pi / (R* M0)) p / sqrt(T) (not V / L, so a slip in either is seen); pressure scale height
+    R* T / (M0 g); thermal conductivity as above."""
+    g = gravity(Z)
+    n = N_A * p / (RSTAR * T)
+    return {"gravity": g, "number_density": n, "mean_particle_speed": math.sqrt(8.0 * RSTAR * T / (math.pi * M0)),
+            "mean_free_path": math.sqrt(2.0) / (2.0 * math.pi * SIGMA**2 * n),
+            "collision_frequency": 4.0 * N_A * SIGMA**2 * math.sqrt(math.pi / (RSTAR * M0)) * p / math.sqrt(T),
+            "pressure_scale_height": RSTAR * T / (M0 * g),
+            "thermal_conductivity": K_BETA * T**1.5 / (T + K_S * 10.0 ** (-K_EXP / T))}
+
+
+# --- Water vapour: Hardy (1998), ITS-90 formulation over liquid water, -100 to +100 degC --------------------------
+#: g0..g7 of ln(es / Pa) = sum_{i=0..6} g_i T^(i-2) + g7 ln(T / K) (Hardy 1998, table of coefficients; typed from
+#: memory of the paper and checked against IAPWS (iapws) and MetPy in tests/test_reference_airdata.py).
+HARDY_G = (-2.8365744e3, -6.028076559e3, 1.954263612e1, -2.737830188e-2, 1.6261698e-5, 7.0229056e-10,
+           -1.8680009e-13, 2.7150305)
+#: Molar mass of water [kg/mol] (CIPM-2007 equation for moist air, Picard et al. 2008; from memory).
+M_WATER = 18.01528e-3
+
+
+def saturation_vapour_pressure(T: float) -> float:
+    """Saturation vapour pressure over plane water at T [K] (Hardy 1998) [Pa]."""
+    terms = [HARDY_G[i] * T ** (i - 2) for i in range(7)]
+    return math.exp(math.fsum(terms) + HARDY_G[7] * math.log(T))
+
+
+def moist_density(p: float, T: float, e: float) -> float:
+    """Density of moist air as the sum of the partial densities of dry air and vapour (Dalton; Wallace & Hobbs
+    2006, 3.1.1): (p - e) / (R T) + e / (R_v T), R_v = R* / Mw written as R M0 / Mw so the dry part is ICAO's."""
+    return (p - e) / (R * T) + e / (R * M0 / M_WATER * T)
+
+
+def virtual_temperature(p: float, T: float, e: float) -> float:
+    """The temperature at which dry air at p has the moist air's density: p / (R rho) [K]."""
+    return p / (R * moist_density(p, T, e))
+
+
+def humid_air(H: float, dT: float = 0.0, dew_point: float | None = None, rh: float | None = None) -> dict:
+    """Every /v1/atmosphere output [SI] at pressure altitude H, ISA + dT, with a dew point [K] or relative humidity
+    [percent] (dry air without either): the density and what follows from it (ratio, kinematic viscosity,
+    density altitude) at the moist density; the property set at the day's temperature and pressure."""
+    out = air(H, dT)
+    p, T = out["pressure"], out["temperature"]
+    e = 0.0
+    if dew_point is not None:
+        e = saturation_vapour_pressure(dew_point)
+    elif rh is not None:
+        e = rh / 100.0 * saturation_vapour_pressure(T)
+    rho = moist_density(p, T, e)
+    out.update({"vapour_pressure": e, "virtual_temperature": virtual_temperature(p, T, e), "density": rho,
+                "density_ratio": rho / RHO0, "kinematic_viscosity": out["dynamic_viscosity"] / rho,
+                "density_altitude": density_altitude(rho)})
+    out.update(ussa_properties(p, T, out["geometric_altitude"]))
+    return out
+
+
+def moist_speeds(kind: str, value: float, p: float, T: float, e: float) -> dict:
+    """:func:`speeds` in moist air of vapour pressure e [Pa]: the moist density (partial densities) in the EAS-TAS
+    relation and in q = 1/2 rho V^2; the pitot relations and the speed of sound those of dry air at T (the model the
+    service documents: the water vapour enters through the density only)."""
+    rho = moist_density(p, T, e)
+    if kind == "eas":
+        tas = value * math.sqrt(RHO0 / rho)
+        mach = tas / math.sqrt(KAPPA * R * T)
+    else:
+        dry = speeds(kind, value, p, T)
+        mach, tas = dry["mach"], dry["tas"]
+    qc = p * pitot_ratio(mach)
+    return {"cas": cas_of_qc(qc), "eas": tas * math.sqrt(rho / RHO0), "tas": tas, "mach": mach,
+            "impact_pressure": qc, "dynamic_pressure": 0.5 * rho * tas * tas}
+
+
+# --- Total air temperature (NACA Report 1135, eq. 43 (number from memory): Tt / T = 1 + (k-1)/2 M^2) ----------------
+
+def total_air_temperature(T: float, M: float, r: float = 1.0) -> float:
+    """What a probe of recovery factor r reads, T + r (Tt - T) (the recovery factor's definition, Gracey, NASA
+    RP-1046 ch. 13, from memory) [K]."""
+    Tt = T * (1.0 + (KAPPA - 1.0) / 2.0 * M * M)
+    return T + r * (Tt - T)
+
+
+def static_from_tat(tat: float, kind: str, value: float, p: float, r: float = 1.0, vapour=None) -> float:
+    """The static temperature whose total temperature, at the given speed and static pressure, is tat [K]: brentq
+    over T with the speed converted at each trial temperature (no closed form used). ``vapour``: the vapour
+    pressure [Pa] as a function of T (moist air, :func:`moist_speeds`)."""
+    def f(T):
+        sp = speeds(kind, value, p, T) if vapour is None else moist_speeds(kind, value, p, T, vapour(T))
+        return total_air_temperature(T, sp["mach"], r) - tat
+    return brentq(f, 100.0, tat + 1e-9, xtol=1e-12, rtol=1e-15, maxiter=500)
+
+
+# --- Altimetry: pressure settings (Doc 7488/3 reduction) and the PANS-OPS cold-temperature correction ------------
+
+def qfe_of_qnh(elevation: float, qnh: float) -> float:
+    """QFE [Pa]: the standard pressure at the aerodrome's pressure altitude, elevation + H(QNH)."""
+    return std_tp(elevation + pressure_altitude(qnh))[1]
+
+
+def qnh_of_qfe(elevation: float, qfe: float) -> float:
+    """QNH [Pa]: the standard pressure at H(QFE) - elevation."""
+    return std_tp(pressure_altitude(qfe) - elevation)[1]
+
+
+def cold_correction(height: float, elevation: float, T: float) -> float:
+    """ICAO Doc 8168 (PANS-OPS) Vol. I, Part III, Section 1, Chapter 4 [m]:
+    dH = (-dT / L0) ln(1 + L0 h_PAA / (T0 + L0 h_aerodrome)), h_PAA = height + dH (the corrected height; with the
+    uncorrected one the equation misses the printed table by up to a quarter), dT the aerodrome's ISA deviation,
+    L0 = -0.0065 K/m; solved by brentq."""
+    L0 = LAYERS[0][1]
+    Ta = T0 + L0 * elevation
+    dT = T - Ta
+    if height == 0.0:
+        return 0.0
+    def f(x):
+        return x - (-dT / L0) * math.log(1.0 + L0 * x / Ta) - height
+    return brentq(f, 0.2 * height, 5.0 * height, xtol=1e-12, rtol=1e-15, maxiter=500) - height
+
+
+# --- Performance: the parabolic polar (Anderson, Introduction to Flight, ch. 6) and the level turn ---------------
+
+def polar_point(W: float, S: float, cd0: float, k: float, q: float, tas: float, n: float = 1.0) -> dict:
+    """Steady flight at dynamic pressure q [Pa] and TAS [m/s]: CL = n W / (q S), CD = CD0 + k CL^2, D = q S CD,
+    the power D V [SI]."""
+    cl = n * W / (q * S)
+    cd = cd0 + k * cl * cl
+    D = q * S * cd
+    return {"cl": cl, "cd": cd, "drag": D, "lift_to_drag": cl / cd, "thrust_required": D, "power_required": D * tas,
+            "dynamic_pressure": q}
+
+
+def drag_speeds(W: float, S: float, cd0: float, k: float) -> dict:
+    """The EAS [m/s] and figures of the three characteristic conditions (Anderson ch. 6): minimum drag at
+    CL = sqrt(CD0 / k), (L/D)max = 1 / (2 sqrt(CD0 k)), D = W / (L/D)max; minimum power at CL = sqrt(3 CD0 / k)
+    (CD = 4 CD0); the best glide at CL of minimum drag, tan(gamma) = 1 / (L/D)max, L = W cos(gamma)."""
+    cl_md = math.sqrt(cd0 / k)
+    ld_max = 1.0 / (2.0 * math.sqrt(cd0 * k))
+    cl_mp = math.sqrt(3.0 * cd0 / k)
+    gamma = math.atan(1.0 / ld_max)
+    return {"minimum_drag": {"cl": cl_md, "lift_to_drag": ld_max, "drag": W / ld_max,
+                             "eas": math.sqrt(2.0 * W / (RHO0 * S * cl_md))},
+            "minimum_power": {"cl": cl_mp, "cd": 4.0 * cd0, "eas": math.sqrt(2.0 * W / (RHO0 * S * cl_mp))},
+            "best_glide": {"cl": cl_md, "glide_ratio": ld_max, "glide_angle": gamma,
+                           "eas": math.sqrt(2.0 * W * math.cos(gamma) / (RHO0 * S * cl_md))}}
+
+
+def level_turn(tas: float, bank: float) -> dict:
+    """The level coordinated turn at TAS [m/s] and bank [rad] (Anderson ch. 6; ICAO Doc 8168): n = 1 / cos(bank),
+    R = V^2 / (g0 tan(bank)), omega = V / R, t360 = 2 pi / omega; with wings level radius and time are None."""
+    n = 1.0 / math.cos(bank)
+    if bank == 0.0:
+        return {"bank_angle": 0.0, "load_factor": 1.0, "turn_rate": 0.0, "radius": None, "time_for_360": None}
+    radius = tas * tas / (G0 * math.tan(bank))
+    omega = tas / radius
+    return {"bank_angle": bank, "load_factor": n, "turn_rate": omega, "radius": radius,
+            "time_for_360": 2.0 * math.pi / omega}
+
+
+def interpolate(x: float, xs, ys) -> float:
+    """Linear interpolation between table rows (by hand: the row pair that brackets x)."""
+    for (x0, y0), (x1, y1) in zip(zip(xs, ys, strict=True), zip(xs[1:], ys[1:], strict=True), strict=False):
+        if x0 <= x <= x1:
+            return y0 + (y1 - y0) * (x - x0) / (x1 - x0)
+    raise ValueError(x)

@@ -45,7 +45,7 @@ def test_accept_picks_the_answer(client, accept, answer):
 def test_406_only_when_nothing_offered_is_acceptable_and_it_says_what_is(client, accept):
     doc = assert_problem(post(client, "/v1/atmosphere", BODY, headers={"Accept": accept}), 406)
     assert doc["type"] == "/problems/not-acceptable"
-    # the four answers: JSON, CSV, an Arrow IPC stream, Parquet (api.outputs.ANSWER_MEDIA_TYPES)
+    # the four answers: JSON, CSV, an Arrow IPC stream, Parquet (api.formats.ANSWER_MEDIA_TYPES)
     assert doc["acceptable"] == [JSON, CSV, "application/vnd.apache.arrow.stream", "application/vnd.apache.parquet"]
     assert ("application/json, text/csv, application/vnd.apache.arrow.stream, application/vnd.apache.parquet"
             in doc["detail"])

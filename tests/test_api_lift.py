@@ -237,9 +237,10 @@ def test_wing_block_adds_angle_of_attack_and_flags_stall(client):
                               "wing": {"aspect_ratio": 11, "sweep_half_chord": 0}})
     assert "beyond_stall" not in fast
     assert fast["angle_of_attack"]["value"][2] is None
-    # Mach 1.2: no slope (null); Mach 0.8: a warning that the formula fades toward transonic flow
-    assert [(w["field"], w["indices"]) for w in fast["warnings"]] == [("angle_of_attack", [2]),
-                                                                       ("angle_of_attack", [1])]
+    # Mach 1.2: no slope (null); Mach 0.8: a warning that the formula fades toward transonic flow; one entry for
+    # the field (DESIGN.md), its message giving both reasons
+    assert [(w["field"], w["count"], w["indices"]) for w in fast["warnings"]] == [("angle_of_attack", 2, [1, 2])]
+    assert fast["warnings"][0]["message"].count(".") >= 2
 
 
 # --------------------------------------------------------------------------------------------
@@ -355,6 +356,39 @@ def test_reference_stall_speed_scaled_by_weight(client):
     cl_max = 2 * 22000 * G0 / (RHO0 * 61 * (value(same["stall"], "eas")[0] * 1852 / 3600) ** 2)
     wing = ok(client, STALL, {"weight": 22000, "altitude": 0, "wing_area": 61, "cl_max": cl_max})
     assert value(wing["stall"], "eas") == pytest.approx(value(same["stall"], "eas")[0], rel=1e-12)
+
+
+#: 20 stall points with 2 speed factors: an answer of 20 x (1 + 2) = 60 rows' worth.
+WIDE_STALL = {"weight": np.linspace(15000, 23000, 20).tolist(), "wing_area": 61, "cl_max": 1.6, "altitude": 3000,
+              "speed_factors": [1.13, 1.3]}
+
+
+@pytest.mark.parametrize("body", [
+    WIDE_STALL,
+    # a grid of 4 x 5 points, the same worth
+    {**WIDE_STALL, "weight": [15000, 18000, 21000, 23000], "altitude": [0, 1000, 2000, 3000, 4000], "grid": True},
+])
+def test_speed_factors_count_against_the_point_limit(app, monkeypatch, body):
+    """The point limit bounds the answer, not only the points: each speed factor adds a row per point (the rule
+    is the service's own; its spec and README state it)."""
+    from service.api.lift import stall
+
+    client = app.test_client()
+    app.config["QBAR_MAX_POINTS"] = 60  # at the limit: 60 points' worth
+    doc = ok(client, STALL, body)
+    assert len(doc["multiples"]) == 2 and len(value(doc["multiples"][1], "eas")) == 20
+    app.config["QBAR_MAX_POINTS"] = 59  # the same request is the limit + 1
+    calls = spy(monkeypatch, stall, "parse_numbers")
+    problem = assert_problem(post(client, STALL, body), 413)
+    assert problem["detail"] == ("The request asks for 60 points (20 points x (1 + 2 speed factors)); the limit is "
+                                 "59 points per request (QBAR_MAX_POINTS).")
+    assert problem["limit"] == 59
+    assert calls["parse_numbers"] == 0  # counted from the raw lists, before any is read
+    # without speed factors each point counts once
+    plain = {key: given for key, given in body.items() if key != "speed_factors"}
+    assert len(value(ok(client, STALL, plain)["stall"], "eas")) == 20
+    ok(client, STALL, {**body, "speed_factors": [1.3]})  # 20 x (1 + 1) = 40
+    assert calls["parse_numbers"] == 1  # the spy sees the factors read when they are
 
 
 # --------------------------------------------------------------------------------------------

@@ -2,6 +2,10 @@
 and pandas."""
 
 import io
+import os
+import subprocess
+import sys
+from pathlib import Path
 
 import numpy as np
 import orjson
@@ -10,7 +14,7 @@ import pyarrow as pa
 import pyarrow.parquet as pq
 import pytest
 
-from service.api import arrow
+from service.api import arrow, outputs
 from service.api.arrow import Column
 
 WARNINGS = [{"field": "density_altitude", "message": "Outside the model's range.", "count": 1, "indices": [2]}]
@@ -33,9 +37,12 @@ def columns(n=3):
 
 
 def joined(media_type, columns, warnings) -> bytes:
-    """The writer's body: its chunks, as the server sends them one after the other."""
-    chunks = arrow.body(media_type, columns, warnings)
+    """The writer's body: its chunks, as the server sends them one after the other (once)."""
+    body = arrow.body(media_type, columns, warnings)
+    chunks = list(body)
     assert all(type(chunk) is bytes for chunk in chunks)  # what a WSGI server writes
+    assert sum(map(len, chunks)) == body.length  # its Content-Length
+    assert list(body) == []  # each chunk let go once sent
     return b"".join(chunks)
 
 
@@ -120,7 +127,7 @@ def test_header_is_the_csv_header(name):
 # --- Arrow and Parquet answers of every compute endpoint, value for value against JSON ---------------
 
 from service.api import examples  # noqa: E402
-from tests.helpers import count_calls, post  # noqa: E402
+from tests.helpers import assert_problem, count_calls, post  # noqa: E402
 from tests.test_bulk import BULK  # noqa: E402
 
 ARROW = arrow.ARROW_STREAM
@@ -234,11 +241,13 @@ def test_406_lists_the_media_types(client):
 
 
 @pytest.mark.parametrize("path", list(BULK))
-def test_python_calls_do_not_grow_with_points(client, path):
+def test_python_calls_do_not_grow_with_points(app, path):
     """10 points and 100,000 points cost the same number of Python function calls, as Arrow, but for the
     padding: the stream writer hands each buffer, and each padding to 8 bytes, to the body's Python sink,
     and whether a buffer of booleans or strings needs padding depends on its length (a few calls per
     column at most; a call per point would be 100,000)."""
+    app.config["QBAR_MAX_POINTS"] = 400_000  # the stall request: 100,000 points x (1 + 3 speed factors)
+    client = app.test_client()
     small, large = BULK[path](10), BULK[path](100_000)
     headers = {"Accept": ARROW}
     post(client, path, small, headers)
@@ -253,6 +262,71 @@ def test_python_calls_do_not_grow_with_points(client, path):
 def test_errors_stay_problem_documents(client):
     response = post(client, "/v1/atmosphere", {"altitude": True}, {"Accept": ARROW})
     assert response.status_code == 422 and response.mimetype == "application/problem+json"
+
+
+def test_an_arrow_answer_does_not_import_pandas():
+    """pa.array looks for pandas and imports it when installed (a test-only dependency here, 50 MB in a worker):
+    the answer's arrays are built from their buffers instead. A fresh interpreter, as a worker is."""
+    code = ("import json, sys\n"
+            "from service import create_app\n"
+            "client = create_app({'TESTING': True}).test_client()\n"
+            "body = {'weight': [15000, 23000], 'wing_area': 61, 'cl_max': 1.6, 'altitude': [0, 3000],\n"
+            "        'speed_factors': [0.9, 1.3], 'cas': [80, 180]}\n"
+            "r = client.post('/v1/lift/stall', data=json.dumps(body), content_type='application/json',\n"
+            "                headers={'Accept': 'application/vnd.apache.arrow.stream'})\n"
+            "assert r.status_code == 200 and r.data, r.status_code\n"
+            "print('pandas' in sys.modules)\n")
+    out = subprocess.run([sys.executable, "-c", code], capture_output=True, text=True, check=True,
+                         cwd=Path(__file__).resolve().parent.parent, env=dict(os.environ, QBAR_LOG_LEVEL="warning"))
+    assert out.stdout.strip() == "False", out.stderr[-2000:]
+
+
+def test_a_column_made_as_it_is_sent_replaces_its_stand_in():
+    """A column converted to the caller's unit only when it is sent (Column.later): the stand-in (its SI values)
+    fixes the stream's header, the values made later fill it; the same bytes as the values given at once."""
+    stand_in = np.array([0.0, 1000.0, 2000.0])
+    null = np.array([False, True, False])
+
+    def later():
+        return stand_in / 0.3048
+
+    columns = [Column("input.altitude", "m", stand_in), Column("pressure_altitude", "ft", stand_in, null, later),
+               Column("pressure_ratio", None, np.array([1.0, 0.9, 0.8]))]
+    body = joined(arrow.ARROW_STREAM, columns, WARNINGS)
+    assert read_stream(body).column("pressure_altitude [ft]").to_pylist() == [0.0, None, 2000.0 / 0.3048]
+    at_once = [column._replace(values=later(), later=None) if column.later else column for column in columns]
+    assert body == joined(arrow.ARROW_STREAM, at_once, WARNINGS)
+    parquet = pq.read_table(io.BytesIO(joined(arrow.PARQUET, columns, WARNINGS)))
+    assert parquet.column("pressure_altitude [ft]").to_pylist() == [0.0, None, 2000.0 / 0.3048]
+
+
+@pytest.mark.parametrize(("path", "body"), CASES)
+def test_columns_converted_as_sent_are_the_same_bytes(client, monkeypatch, path, body):
+    """The answers' columns in other units than SI are converted as they are sent (for memory): the same stream as
+    when every column was converted before the writing began."""
+    sent = post(client, path, body, {"Accept": ARROW})
+    assert sent.status_code == 200, sent.get_data(as_text=True)[:300]
+    columns = outputs.Result.columns
+    monkeypatch.setattr(outputs.Result, "columns", lambda self, later=False: columns(self))
+    assert post(client, path, body, {"Accept": ARROW}).data == sent.data
+
+
+@pytest.mark.parametrize("extra", [{"significant_digits": 4}, {"output_units": {"altitude": "m", "speed": "km/h"}}])
+def test_columns_rounded_or_in_other_units_as_sent_are_the_same_bytes(client, monkeypatch, extra):
+    body = BULK["/v1/airspeed"](50) | extra
+    sent = post(client, "/v1/airspeed", body, {"Accept": ARROW})
+    assert sent.status_code == 200, sent.get_data(as_text=True)[:300]
+    columns = outputs.Result.columns
+    monkeypatch.setattr(outputs.Result, "columns", lambda self, later=False: columns(self))
+    assert post(client, "/v1/airspeed", body, {"Accept": ARROW}).data == sent.data
+
+
+def test_a_column_is_checked_in_its_unit_before_the_stream_begins(client):
+    """A wing area of 3.4e307 m2 is finite, but not in ft2: a 422 before any byte, as for JSON."""
+    body = {"solve_for": "wing_area", "cl": [0.5, 1e-306], "weight": 21000, "mach": 0.6, "altitude": 35000}
+    assert post(client, "/v1/lift/solve", body, {"Accept": ARROW}).status_code == 200
+    response = post(client, "/v1/lift/solve", body | {"output_units": {"area": "ft2"}}, {"Accept": ARROW})
+    assert "wing_area is not a finite number here" in assert_problem(response, 422, "/wing_area")["detail"]
 
 
 @pytest.mark.parametrize("accept", ["application/json", "text/csv", ARROW, arrow.PARQUET])

@@ -1,12 +1,15 @@
 """Bulk requests: the request path does no Python work per point, grids label every point, CSV mirrors JSON."""
 
 import csv
+import gzip
 import io
 
 import numpy as np
+import orjson
 import pytest
 
-from tests.helpers import count_calls, post
+from service.api import outputs
+from tests.helpers import assert_problem, count_calls, post
 
 #: (path, body builder for n points): one representative bulk request per compute endpoint.
 BULK = {
@@ -73,6 +76,21 @@ BULK = {
         "speed_factors": [1.13, 1.23, 1.3],
         "cas": 180,
     },
+    # The static temperature from a TAT at the speed the lift gives (EAS with a relative humidity: the fixed-point
+    # steps), and at the margin's CAS with a dew point.
+    "/v1/lift/solve#tat-humid": lambda n: {
+        "solve_for": "speed",
+        "weight": np.linspace(15000, 23000, n).tolist(),
+        "wing_area": 61, "cl": 1.2,
+        "altitude": np.linspace(0, 10000, n).tolist(),
+        "total_air_temperature": 15, "recovery_factor": 0.98, "relative_humidity": 60,
+    },
+    "/v1/lift/stall#tat-humid": lambda n: {
+        "weight": np.linspace(15000, 23000, n).tolist(),
+        "wing_area": 61, "cl_max": 1.6,
+        "altitude": np.linspace(0, 10000, n).tolist(),
+        "cas": 180, "total_air_temperature": 20, "dew_point": 5,
+    },
     "/v1/lift/curve": lambda n: {
         "aspect_ratio": np.linspace(4, 14, n).tolist(),
         "sweep_half_chord": 25,
@@ -86,6 +104,12 @@ BULK = {
         "wing_area": 61, "cd0": 0.024, "aspect_ratio": 11, "oswald_efficiency": 0.78,
         "cas": np.linspace(160, 250, n).tolist(),
         "altitude": 10000, "bank_angle": 20,
+    },
+    "/v1/drag#tat-cl": lambda n: {
+        "weight": np.linspace(15000, 23000, n).tolist(),
+        "wing_area": 61, "cd0": 0.024, "aspect_ratio": 11, "oswald_efficiency": 0.78,
+        "cl": np.linspace(0.4, 0.9, n).tolist(),
+        "altitude": 10000, "total_air_temperature": 5, "dew_point": -10,
     },
     "/v1/drag/speeds": lambda n: {
         "weight": np.linspace(15000, 23000, n).tolist(),
@@ -108,8 +132,10 @@ BULK = {
 
 @pytest.mark.parametrize("path", list(BULK))
 @pytest.mark.parametrize("accept", ["application/json", "text/csv"])
-def test_python_calls_do_not_grow_with_points(client, path, accept):
+def test_python_calls_do_not_grow_with_points(app, path, accept):
     """10 points and 100,000 points cost the same number of Python function calls."""
+    app.config["QBAR_MAX_POINTS"] = 400_000  # the stall request: 100,000 points x (1 + 3 speed factors)
+    client = app.test_client()
     small, large = BULK[path](10), BULK[path](100_000)
     headers = {"Accept": accept}
     url = path.split("#")[0]  # "#variant": another body for the same endpoint
@@ -160,3 +186,35 @@ def test_gzip_when_accepted(client):
     assert r.headers["Content-Encoding"] == "gzip"
     small = post(client, "/v1/atmosphere", {"altitude": 0}, {"Accept-Encoding": "gzip"})
     assert "Content-Encoding" not in small.headers
+
+
+@pytest.mark.parametrize("path", list(BULK))
+@pytest.mark.parametrize("extra", [{}, {"grid": True}, {"significant_digits": 6}])
+def test_json_streamed_is_the_document(client, monkeypatch, path, extra):
+    """An array answer is streamed one output at a time (outputs.Result.json_chunks, for memory): the same bytes
+    as the whole document in one orjson call, nested outputs, warnings and a grid's inputs included."""
+    body = BULK[path](3) | extra
+    streamed = post(client, path, body)
+    assert streamed.status_code == 200, streamed.get_data(as_text=True)[:300]
+    assert streamed.is_streamed and "Content-Length" not in streamed.headers  # chunked transfer encoding
+    monkeypatch.setattr(outputs.Result, "json_chunks",
+                        lambda self: [orjson.dumps(self.document(), option=orjson.OPT_SERIALIZE_NUMPY)])
+    assert post(client, path, body).data == streamed.data
+
+
+def test_a_stream_begins_only_once_every_output_is_checked(client):
+    """A value finite in SI but not in the output unit (a wing area of 3.4e307 m2 is beyond the float range in
+    ft2) is a 422 before the answer begins, as when the answer was written whole (a stream cannot turn into a
+    422): the outputs are converted and checked before the first byte."""
+    body = {"solve_for": "wing_area", "cl": [0.5, 1e-306], "weight": 21000, "mach": 0.6, "altitude": 35000}
+    assert post(client, "/v1/lift/solve", body).status_code == 200
+    response = post(client, "/v1/lift/solve", body | {"output_units": {"area": "ft2"}})
+    problem = assert_problem(response, 422, "/wing_area")
+    assert "wing_area is not a finite number here" in problem["detail"]
+
+
+def test_a_streamed_answer_is_gzipped_when_accepted(client):
+    body = BULK["/v1/atmosphere"](3)
+    r = post(client, "/v1/atmosphere", body, {"Accept-Encoding": "gzip"})
+    assert r.headers["Content-Encoding"] == "gzip"
+    assert orjson.loads(gzip.decompress(r.data)) == post(client, "/v1/atmosphere", body).json

@@ -17,7 +17,17 @@ from service import config as settings
 from service import create_app
 from service.api import request_hooks
 from service.cli import spec_text
-from tests.helpers import assert_problem, post
+from tests.helpers import assert_problem
+from tests.helpers import post as post_open
+
+
+def post(client, path, body, headers=None):
+    """POST and read the answer whole, then close it as a server does once it is sent (a streamed answer's access
+    line and metrics are taken then)."""
+    response = post_open(client, path, body, headers)
+    response.get_data()
+    response.close()
+    return response
 
 KEY_OLD = "old-key-0123456789abcdef"
 KEY_NEW = "new-key-fedcba9876543210"
@@ -117,6 +127,20 @@ def test_one_json_access_line_per_request(client, capsys):
     assert (second["path"], second["status"], second["points"], second["request_id"]) == (
         "/v1/health", 200, None, "log-2")
     assert (third["status"], third["request_id"]) == (422, "log-3")
+
+
+def test_a_streamed_answer_is_logged_once_sent(client, capsys):
+    # An answer with arrays is streamed: its access line (and duration) is taken when the server closes it,
+    # after the last byte, not when the view returns.
+    capsys.readouterr()
+    response = client.post("/v1/atmosphere", data=json.dumps(THREE_POINTS), content_type="application/json",
+                           headers={"X-Request-ID": "log-s"})
+    assert response.is_streamed
+    assert capsys.readouterr().out.strip() == ""
+    response.get_data()
+    response.close()
+    lines = [json.loads(line) for line in capsys.readouterr().out.splitlines() if line.strip()]
+    assert [(line["request_id"], line["status"], line["points"]) for line in lines] == [("log-s", 200, 3)]
 
 
 def test_keys_never_reach_the_log(keyed, capsys):

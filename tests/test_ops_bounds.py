@@ -15,8 +15,8 @@ import orjson
 import pytest
 
 from service import create_app
-from service.api.inputs import MAX_JSON_DEPTH, MAX_MEMBERS
 from service.api.problems import MAX_ECHO, MAX_ERRORS, MAX_TEXT, flatten_messages, invalid
+from service.api.request_body import MAX_JSON_DEPTH, MAX_MEMBERS
 from service.logs import JsonFormatter
 
 LIMIT = 16 * 1024 * 1024

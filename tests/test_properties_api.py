@@ -26,7 +26,7 @@ from hypothesis import strategies as st
 
 from service import create_app
 from service import units as unit_table
-from service.api import air
+from service.api import air_fields
 from service.api.fields import Quantity
 from service.api.problems import flatten_messages
 from tests import reference as ref
@@ -55,10 +55,10 @@ def strict(response) -> dict:
 # --- The Quantity field -----------------------------------------------------------------------------
 
 FIELDS = {
-    "altitude": air.altitude_field("Altitude", required=False),
-    "isa_deviation": air.isa_deviation_field(),
-    "temperature": air.temperature_field(),
-    "qnh": air.qnh_field(),
+    "altitude": air_fields.altitude_field("Altitude", required=False),
+    "isa_deviation": air_fields.isa_deviation_field(),
+    "temperature": air_fields.temperature_field(),
+    "qnh": air_fields.qnh_field(),
     "speed": Quantity("speed", minimum=0.0, exclusive_minimum=True, maximum=3000.0),
     "bank": Quantity("angle", minimum=0.0, maximum=90.0, exclusive_maximum=True),
 }
@@ -282,8 +282,9 @@ def solve_request(draw):
     bank = draw(st.none() | st.floats(0.0, 75.0))
     n = 1.0 if bank is None or unknown == "load_factor" else 1.0 / math.cos(math.radians(bank))
     q = 0.7 * ref.std_tp(H)[1] * mach * mach
+    conditions = draw(day(0))
     known = {"cl": cl, "weight": q * S * cl / (n * G0), "wing_area": S, "altitude": {"value": H, "unit": "m"},
-             "mach": mach, **draw(day(0))}
+             "mach": mach, **conditions, **(draw(humidity(conditions)) if unknown != "altitude" else {})}
     if bank is not None and unknown != "load_factor":
         known["bank_angle"] = bank
     if unknown in ("speed", "altitude"):
@@ -300,12 +301,17 @@ def solve_request(draw):
 def stall_request(draw):
     size = draw(SIZES)
     body = {"weight": draw(st.floats(100, 600_000)), "wing_area": draw(st.floats(5, 900)),
-            "cl_max": draw(st.floats(0.3, 4.0)), "altitude": draw(quantity(ALTITUDE, size)), **draw(day(size)),
+            "cl_max": draw(st.floats(0.3, 4.0)),
             "speed_factors": draw(st.lists(st.floats(0.5, 3.0), min_size=1, max_size=4))}
+    if draw(st.integers(0, 3)) == 0:  # the static temperature from a TAT read at the margin's speed
+        body |= draw(tat_airspeed_request(draw(st.sampled_from(["cas", "eas", "tas", "mach"])), size))
+    else:
+        conditions = draw(day(size))
+        body |= {"altitude": draw(quantity(ALTITUDE, size)), **conditions, **draw(humidity(conditions))}
+        if draw(st.booleans()):
+            body["cas"] = draw(st.floats(1, 3000))
     if draw(st.booleans()):
         body["bank_angle"] = draw(quantity(BANK, size))
-    if draw(st.booleans()):
-        body["cas"] = draw(st.floats(1, 3000))
     return body
 
 
@@ -344,8 +350,11 @@ def one_speed(draw, size, altitude: dict):
 @st.composite
 def drag_request(draw):
     size = draw(SIZES)
-    body = {"weight": draw(st.floats(100, 600_000)), "wing_area": draw(st.floats(5, 900)), **draw(polar()),
-            "altitude": draw(quantity(ALTITUDE, size)), **draw(day(size))}
+    body = {"weight": draw(st.floats(100, 600_000)), "wing_area": draw(st.floats(5, 900)), **draw(polar())}
+    if draw(st.integers(0, 3)) == 0:  # the static temperature from a TAT read at the given speed
+        return body | draw(tat_airspeed_request(draw(st.sampled_from(["cas", "eas", "tas", "mach"])), size))
+    conditions = draw(day(size))
+    body |= {"altitude": draw(quantity(ALTITUDE, size)), **conditions, **draw(humidity(conditions))}
     body |= {"cl": draw(st.floats(0.01, 10))} if draw(st.booleans()) else draw(one_speed(size, body["altitude"]))
     if draw(st.booleans()):
         body["bank_angle"] = draw(quantity(BANK, size))
@@ -355,8 +364,9 @@ def drag_request(draw):
 @st.composite
 def drag_speeds_request(draw):
     size = draw(SIZES)
+    conditions = draw(day(size))
     body = {"weight": draw(st.floats(100, 600_000)), "wing_area": draw(st.floats(5, 900)), **draw(polar()),
-            "altitude": draw(quantity(ALTITUDE, size)), **draw(day(size))}
+            "altitude": draw(quantity(ALTITUDE, size)), **conditions, **draw(humidity(conditions))}
     if draw(st.booleans()):
         body["height"] = draw(st.floats(1, 280_000))
     return body
@@ -365,8 +375,11 @@ def drag_speeds_request(draw):
 @st.composite
 def turn_request(draw):
     size = draw(SIZES)
-    altitude = draw(quantity(ALTITUDE, size))
-    body = {**draw(one_speed(size, altitude)), "altitude": altitude, **draw(day(size))}
+    if draw(st.integers(0, 3)) == 0:  # the static temperature from a TAT read at the given speed
+        body = draw(tat_airspeed_request(draw(st.sampled_from(["cas", "eas", "tas", "mach"])), size))
+    else:
+        altitude, conditions = draw(quantity(ALTITUDE, size)), draw(day(size))
+        body = {**draw(one_speed(size, altitude)), "altitude": altitude, **conditions, **draw(humidity(conditions))}
     which = draw(st.sampled_from(["bank_angle", "load_factor", "turn_rate"]))
     body[which] = {"bank_angle": draw(quantity(BANK, size)), "load_factor": draw(st.floats(1, 1e6)),
                    "turn_rate": draw(st.floats(0, 100))}[which]
@@ -378,8 +391,10 @@ def buffet_request(draw):
     size = draw(SIZES)
     mach = sorted(draw(st.lists(st.floats(0.05, 1.5), min_size=2, max_size=6, unique=True)))
     table = {"mach": mach, "cl": draw(st.lists(st.floats(0.01, 3), min_size=len(mach), max_size=len(mach)))}
+    conditions = draw(day(size))
     body = {"weight": draw(st.floats(100, 600_000)), "wing_area": draw(st.floats(5, 900)), "buffet": table,
-            "mach": draw(st.floats(mach[0], mach[-1])), "altitude": draw(quantity(ALTITUDE, size)), **draw(day(size))}
+            "mach": draw(st.floats(mach[0], mach[-1])), "altitude": draw(quantity(ALTITUDE, size)), **conditions,
+            **draw(humidity(conditions))}
     if draw(st.booleans()):
         body["margin"] = draw(st.floats(1, 3))
     return body
@@ -492,7 +507,8 @@ FIELD_NAMES = st.sampled_from(["altitude", "isa_deviation", "temperature", "qnh"
                                "load_factor", "calibration", "reference", "wing", "speed_factors", "solve_for",
                                "aspect_ratio", "sweep_half_chord", "angle_of_attack", "outputs", "output_units",
                                "grid", "unknown_field", "cd0", "induced_drag_factor", "oswald_efficiency",
-                               "mach_limit", "height", "turn_rate", "buffet", "margin", "speed_limit"])
+                               "mach_limit", "height", "turn_rate", "buffet", "margin", "speed_limit", "dew_point",
+                               "relative_humidity", "total_air_temperature", "recovery_factor"])
 
 
 @pytest.mark.parametrize("path", sorted(ENDPOINTS))

@@ -110,9 +110,6 @@ def test_warning_on_a_single_point(client, name, path, body, field, where):
         assert value is None
 
 
-@pytest.mark.xfail(strict=True, reason="a warning about every point reports indices [] although the spec's "
-                   "Warning.indices is 'the first (up to ten) indices of the points concerned' (reported to the "
-                   "lead; Result.warn without a mask)")
 @pytest.mark.parametrize(("path", "body"), [
     ("/v1/lift/solve", {"solve_for": "altitude", "weight": 21000, "wing_area": 61, "cl": 0.6, "cas": [190, 195, 200],
                         "outputs": ["pressure_altitude"]}),
@@ -125,8 +122,6 @@ def test_warning_about_every_point_lists_its_indices(client, path, body):
         assert entry["indices"] == list(range(min(entry["count"], 10)))
 
 
-@pytest.mark.xfail(strict=True, reason="two entries for angle_of_attack (one per reason) where DESIGN.md says one "
-                   "entry per field (reported to the lead)")
 def test_one_warning_entry_per_field_whatever_the_reasons(client):
     # angle_of_attack can be null for two reasons at once (a supersonic Mach: no DATCOM slope; a CL beyond
     # +/-90 deg on the linear curve): still one entry for the field, counting both kinds of points.

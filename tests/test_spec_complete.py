@@ -17,7 +17,7 @@ from jsonschema import Draft202012Validator
 
 from service import create_app
 from service.api.base import COMPUTE_PROBLEMS
-from service.api.fields import named_schemas
+from service.api.field_schemas import named_schemas
 from service.api.problems import PROBLEM_MEDIA_TYPE
 from service.cli import spec_text
 from service.version import __version__
@@ -26,7 +26,7 @@ from tests.helpers import post
 SPEC = json.loads(spec_text())
 SCHEMAS = SPEC["components"]["schemas"]
 #: The schemas of requests and answers (their fields); the others are the named types the fields refer to
-#: (a dimension's input, value object, unit enum and output: api.fields.named_schemas).
+#: (a dimension's input, value object, unit enum and output: api.field_schemas.named_schemas).
 FIELD_SCHEMAS = {name: schema for name, schema in SCHEMAS.items() if name not in named_schemas()}
 TAGS = ("atmosphere", "airspeed", "lift", "drag", "altimetry", "service")
 HTTP_METHODS = ("get", "put", "post", "delete", "options", "head", "patch", "trace")

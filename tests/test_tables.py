@@ -6,7 +6,7 @@ import pytest
 from hypothesis import given, settings
 from hypothesis import strategies as st
 
-from service.api import tables
+from service.api import table_readers, tables
 from service.api.atmosphere import AtmosphereRequest
 from service.api.lift.solve import LiftSolveRequest
 from service.api.problems import Problem
@@ -173,7 +173,7 @@ def test_csv_rows_over_the_limit_are_refused_before_parsing(monkeypatch):
     def parse(*args, **kwargs):
         raise AssertionError("parsed")
 
-    monkeypatch.setattr(tables.pa_csv, "read_csv", parse)
+    monkeypatch.setattr(table_readers.pa_csv, "read_csv", parse)
     problem = refused(b"altitude\n" + b"1\n" * 101, 413, schema=ATMOSPHERE, max_points=100)
     assert problem.extra == {"limit": 100}
     assert "101 lines" in problem.detail
@@ -189,7 +189,7 @@ def test_arrow_rows_over_the_limit_are_refused_before_the_batch_is_read(monkeypa
     def read_batch(*args, **kwargs):
         raise AssertionError("read")
 
-    monkeypatch.setattr(tables.pa.ipc, "read_record_batch", read_batch)
+    monkeypatch.setattr(table_readers.pa.ipc, "read_record_batch", read_batch)
     problem = refused(body, 413, tables.ARROW_STREAM, ATMOSPHERE, max_points=100)
     assert "101 rows" in problem.detail
 
@@ -210,7 +210,7 @@ def test_the_batch_header_gives_the_length(rows):
     body = sink.getvalue()
     reader = pa.ipc.MessageReader.open_stream(pa.BufferReader(body))
     reader.read_next_message()
-    assert tables._message_header(reader.read_next_message().metadata.to_pybytes()) == (3, rows, False)
+    assert table_readers._message_header(reader.read_next_message().metadata.to_pybytes()) == (3, rows, False)
 
 
 # --- Arrow types and nulls -----------------------------------------------------------------------------

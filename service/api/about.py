@@ -11,7 +11,7 @@ from flask import Response, current_app
 
 from service import units
 from service.api.base import Blueprint
-from service.api.problems import KINDS, Problem
+from service.api.problems import KINDS, Problem, type_uri
 from service.physics.constants import H_MAX, H_MIN
 from service.version import __version__
 
@@ -145,5 +145,5 @@ def problem_type(slug):
     kind = KINDS.get(slug)
     if kind is None:
         raise Problem("not-found", f"No problem type {slug!r}.")
-    return _json({"status": kind.status, "type": f"/problems/{kind.slug}", "title": kind.title,
+    return _json({"status": kind.status, "type": type_uri(kind.slug), "title": kind.title,
                   "description": kind.description})

@@ -6,12 +6,12 @@ import marshmallow as ma
 import numpy as np
 
 from service import units
-from service.api import air, examples
+from service.api import air, air_fields, examples
 from service.api import speed_limit as limits
 from service.api.base import COMPUTE_PROBLEMS, Blueprint
 from service.api.inputs import ComputeSchema, outputs_field
 from service.api.masks import any_true, first_indices
-from service.api.outputs import Leaf, Result, no_solution, unit_for
+from service.api.outputs import Leaf, Result
 from service.api.rules import Given, OutputNeeds
 from service.api.schemas import LabelOut, quantity_out, response_schema
 from service.api.speeds import (
@@ -24,6 +24,7 @@ from service.api.speeds import (
     one_speed,
     speed_field,
 )
+from service.api.values import no_solution, unit_for
 from service.physics import airspeed as spd
 from service.physics import atmosphere as atm
 from service.physics.constants import FT, H_MAX, H_MIN, P0
@@ -85,13 +86,13 @@ class AirspeedRequest(ComputeSchema):
     eas = speed_field("eas", _ONE_OF + " Arrays allowed.")
     tas = speed_field("tas", _ONE_OF + " Arrays allowed.")
     mach = mach_field(_ONE_OF)
-    altitude = air.altitude_field(_ALTITUDE)
-    isa_deviation = air.isa_deviation_field()
-    temperature = air.temperature_field()
-    total_air_temperature = air.total_air_temperature_field()
-    recovery_factor = air.recovery_factor_field()
-    dew_point = air.dew_point_field()
-    relative_humidity = air.relative_humidity_field()
+    altitude = air_fields.altitude_field(_ALTITUDE)
+    isa_deviation = air_fields.isa_deviation_field()
+    temperature = air_fields.temperature_field()
+    total_air_temperature = air_fields.total_air_temperature_field()
+    recovery_factor = air_fields.recovery_factor_field()
+    dew_point = air_fields.dew_point_field()
+    relative_humidity = air_fields.relative_humidity_field()
     calibration = calibration_field()
     outputs = outputs_field(OUTPUTS)
 
@@ -244,12 +245,12 @@ class ScheduleRequest(ComputeSchema):
     cas.required = True
     mach = mach_field("The schedule's Mach number, flown above the crossover altitude.")
     mach.required = True
-    altitude = air.altitude_field(_ALTITUDE)
-    isa_deviation = air.isa_deviation_field()
-    temperature = air.temperature_field()
+    altitude = air_fields.altitude_field(_ALTITUDE)
+    isa_deviation = air_fields.isa_deviation_field()
+    temperature = air_fields.temperature_field()
     speed_limit = limits.speed_limit_field()
-    dew_point = air.dew_point_field()
-    relative_humidity = air.relative_humidity_field()
+    dew_point = air_fields.dew_point_field()
+    relative_humidity = air_fields.relative_humidity_field()
     outputs = outputs_field(SCHEDULE_OUTPUTS)
 
 

@@ -2,17 +2,21 @@
 
 from __future__ import annotations
 
+import math
+
 import numpy as np
 
-from service.api import air, examples
+from service.api import air, air_fields, examples
 from service.api.base import COMPUTE_PROBLEMS, Blueprint
 from service.api.fields import Quantity
 from service.api.inputs import ComputeSchema, outputs_field
-from service.api.outputs import Result, require
+from service.api.outputs import Result
 from service.api.rules import ExactlyOne, Given, Never, Unit
 from service.api.schemas import response_schema
+from service.api.values import require
 from service.physics import altimetry as alt
 from service.physics.constants import LAYER_BASES
+from service.units import to_si
 
 blp = Blueprint("altimetry", __name__, url_prefix="/v1/altimetry", description=(
     "Aerodrome altimetry: the pressure settings QNH and QFE by the standard-atmosphere reduction, and the ICAO "
@@ -21,8 +25,16 @@ blp = Blueprint("altimetry", __name__, url_prefix="/v1/altimetry", description=(
 
 #: Bounds of an aerodrome elevation [ft]: beyond the lowest and the highest aerodromes in use.
 ELEVATION_MIN_FT, ELEVATION_MAX_FT = -2_000.0, 20_000.0
-#: Bounds of QFE [hPa]: down to the pressure at the highest aerodrome with the lowest QNH.
-QFE_MIN_HPA, QFE_MAX_HPA = 350.0, 1_100.0
+#: Bounds of QFE [hPa], whole hPa outward: from the pressure at the highest aerodrome with the lowest QNH to that
+#: at the lowest aerodrome with the highest QNH (every QFE the endpoint answers can be given back).
+QFE_MIN_HPA = math.floor(float(alt.qfe_from_qnh(to_si(ELEVATION_MAX_FT, "altitude", "ft"),
+                                                 to_si(air_fields.QNH_MIN_HPA, "pressure", "hPa"))) / 100.0)
+QFE_MAX_HPA = math.ceil(float(alt.qfe_from_qnh(to_si(ELEVATION_MIN_FT, "altitude", "ft"),
+                                               to_si(air_fields.QNH_MAX_HPA, "pressure", "hPa"))) / 100.0)
+#: The QNH a QFE gives is checked against the bounds of `qnh` to this tolerance [Pa], a hundredth of the 1 hPa
+#: resolution of a setting: the reduction there and back (p -> H -> p) rounds (a QFE at sea level of exactly
+#: 1100 hPa gives 1100.0000000000004 hPa), and a QFE worked out elsewhere to the last digit agrees to about 1e-9.
+QNH_CHECK_PA = 1.0
 #: Highest minimum altitude the temperature correction takes [ft]: the method holds in the first layer
 #: of the ISA (below 11 km, 36 089 ft).
 CORRECTION_ALTITUDE_MAX_FT = 36_000.0
@@ -60,11 +72,12 @@ class PressureSettingsRequest(ComputeSchema):
                         message=lambda given: "Give either qnh or qfe, not both: each follows from the other."),)
 
     elevation = elevation_field()
-    qnh = Quantity("pressure", minimum=air.QNH_MIN_HPA, maximum=air.QNH_MAX_HPA, metadata={
+    qnh = Quantity("pressure", minimum=air_fields.QNH_MIN_HPA, maximum=air_fields.QNH_MAX_HPA, metadata={
         "description": "QNH [hPa]. Not with `qfe`.", "example": 1008})
     qfe = Quantity("pressure", minimum=QFE_MIN_HPA, maximum=QFE_MAX_HPA, metadata={
         "description": f"QFE, the pressure at the aerodrome [hPa]; the QNH it gives must lie within the bounds of "
-                       f"`qnh`, {air.QNH_MIN_HPA:g} to {air.QNH_MAX_HPA:g} hPa. Not with `qnh`.", "example": 771.7})
+                       f"`qnh`, {air_fields.QNH_MIN_HPA:g} to {air_fields.QNH_MAX_HPA:g} hPa. Not with `qnh`.",
+        "example": 771.7})
     outputs = outputs_field(SETTINGS_OUTPUTS)
 
 
@@ -94,10 +107,10 @@ def pressure_settings(inputs):
         qfe = inputs.si("qfe")
         H = alt.pressure_altitude_of_aerodrome(elevation, qfe=qfe)
         qnh = alt.qnh_from_qfe(elevation, qfe)
-        low, high = air.QNH_MIN_HPA * 100.0, air.QNH_MAX_HPA * 100.0
+        low, high = air_fields.QNH_MIN_HPA * 100.0 - QNH_CHECK_PA, air_fields.QNH_MAX_HPA * 100.0 + QNH_CHECK_PA
         air.refuse_where(~((qnh >= low) & (qnh <= high)), "qfe",
-                         f"With this elevation the QFE gives a QNH outside {air.QNH_MIN_HPA:g} to "
-                         f"{air.QNH_MAX_HPA:g} hPa, beyond any sea-level pressure observed: check both.")
+                         f"With this elevation the QFE gives a QNH outside {air_fields.QNH_MIN_HPA:g} to "
+                         f"{air_fields.QNH_MAX_HPA:g} hPa, beyond any sea-level pressure observed: check both.")
     values = {"qnh": lambda: qnh, "qfe": lambda: alt.qfe_from_qnh(elevation, qnh) if qfe is None else qfe,
               "pressure_altitude": lambda: H}
     for name in inputs.outputs:
@@ -121,10 +134,10 @@ class TemperatureCorrectionRequest(ComputeSchema):
     OUTPUTS = CORRECTION_OUTPUTS
 
     elevation = elevation_field()
-    temperature = Quantity("temperature", minimum=air.TEMPERATURE_MIN_C, maximum=air.TEMPERATURE_MAX_C,
+    temperature = Quantity("temperature", minimum=air_fields.TEMPERATURE_MIN_C, maximum=air_fields.TEMPERATURE_MAX_C,
                            required=True, metadata={
         "description": f"Aerodrome (outside air) temperature [degC]; its ISA deviation at the elevation must lie "
-                       f"within +-{air.ISA_DEVIATION_LIMIT:g} K, as everywhere in the service.", "example": -25})
+                       f"within +-{air_fields.ISA_DEVIATION_LIMIT:g} K, as everywhere in the service.", "example": -25})
     altitude = Quantity("altitude", minimum=ELEVATION_MIN_FT, maximum=CORRECTION_ALTITUDE_MAX_FT, required=True,
                         rules=(_not_flight_level("altitude", "minimum altitude"),), metadata={
         "description": "Published minimum altitude(s) above mean sea level, as indicated with the aerodrome's QNH "

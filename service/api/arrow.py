@@ -46,6 +46,9 @@ class Column(NamedTuple):
     unit: str | None
     values: object
     null: object = None
+    #: A function giving the values, called only when the column is sent (:class:`Body`); ``values`` then
+    #: stand in for them in the stream's header (float64 of the same length).
+    later: object = None
 
 
 def header(name: str, unit: str | None) -> str:
@@ -57,26 +60,50 @@ def header(name: str, unit: str | None) -> str:
     return f"{name} [{unit}]" if unit else name
 
 
+def _bits(flags: np.ndarray) -> pa.Buffer:
+    """A bitmap in Arrow's order (least significant bit first) of a boolean array."""
+    return pa.py_buffer(np.packbits(flags, bitorder="little"))
+
+
+def _text(values: np.ndarray) -> pa.Array:
+    """An Arrow string array from a NumPy array of str: the UTF-8 bytes and their offsets, built here."""
+    try:
+        encoded = values.astype(np.bytes_)  # ASCII, in C (the labels are)
+    except UnicodeEncodeError:
+        encoded = np.char.encode(values, "utf-8")
+    lengths = np.char.str_len(encoded)
+    offsets = np.zeros(values.size + 1, dtype=np.int32)
+    np.cumsum(lengths, out=offsets[1:])
+    width = encoded.dtype.itemsize
+    data = encoded.view(np.uint8).reshape(values.size, width)[np.arange(width) < lengths[:, None]]
+    return pa.Array.from_buffers(pa.string(), values.size, [None, pa.py_buffer(offsets), pa.py_buffer(data)])
+
+
 def _array(values, null) -> pa.Array:
-    """One Arrow array from a 1-D NumPy array (no copy for float64 without nulls)."""
+    """One Arrow array from a 1-D NumPy array (no copy for float64 without nulls).
+
+    Built from the array's buffers (``pa.Array.from_buffers``), not by ``pa.array``: that one looks for
+    pandas on every call and imports it when it is installed (about 50 MB in a worker that never uses it).
+    """
     values = np.asarray(values)
     if values.ndim == 0:
         values = values.reshape(1)
     kind = values.dtype.kind
     if kind in _TEXT:
-        return pa.array(values, type=pa.string())
+        return _text(values)
     if kind == _BOOL:
-        return pa.array(values, type=pa.bool_())
+        return pa.Array.from_buffers(pa.bool_(), values.size, [None, _bits(values)])
     if kind != _FLOAT or values.dtype != np.float64:
         values = values.astype(np.float64)
     if not values.flags.c_contiguous:
         values = np.ascontiguousarray(values)
-    if null is None:
-        return pa.array(values, type=pa.float64())
-    null = np.broadcast_to(np.asarray(null, dtype=bool), values.shape)
-    if not null.any():
-        return pa.array(values, type=pa.float64())
-    return pa.array(np.where(null, 0.0, values), type=pa.float64(), mask=null)
+    if null is not None:
+        null = np.broadcast_to(np.asarray(null, dtype=bool), values.shape)
+        count = int(np.count_nonzero(null))
+        if count:
+            return pa.Array.from_buffers(pa.float64(), values.size, [_bits(~null), pa.py_buffer(
+                np.where(null, 0.0, values))], null_count=count)
+    return pa.Array.from_buffers(pa.float64(), values.size, [None, pa.py_buffer(values)])
 
 
 def record_batch(columns: Iterable[Column], warnings: list[dict]) -> pa.RecordBatch:
@@ -107,15 +134,17 @@ def record_batch(columns: Iterable[Column], warnings: list[dict]) -> pa.RecordBa
 
 
 class _Chunks:
-    """A write-only file for pyarrow that keeps each write as one bytes chunk (the WSGI body's parts)."""
+    """A write-only file for pyarrow that keeps each write as one chunk of the body: bytes, or the Arrow
+    buffer itself (a column's numbers, not copied: :class:`Body` copies each into bytes when it is sent)."""
 
     closed = False
 
-    def __init__(self):
-        self.chunks: list[bytes] = []
+    def __init__(self, keep_buffers: bool = True):
+        self.chunks: list = []
+        self._keep = keep_buffers
 
     def write(self, data) -> int:
-        self.chunks.append(bytes(data))
+        self.chunks.append(data if self._keep and type(data) is pa.Buffer else bytes(data))
         return len(data)
 
     def writable(self) -> bool:
@@ -128,19 +157,44 @@ class _Chunks:
         """Nothing to close."""
 
 
-def stream_chunks(batch: pa.RecordBatch) -> list[bytes]:
-    """The Arrow IPC stream of one record batch, as the WSGI body's chunks.
+class Body:
+    """A WSGI body of chunks of bytes or Arrow buffers, each copied into bytes (the server writes bytes) only
+    when it is sent, and let go once sent: a large answer is held once, as its arrays, never also as its bytes.
+    ``later``: chunk index -> the Column whose values (made then) replace that chunk, a stand-in of the same
+    length. ``length``: the body's length in bytes, for Content-Length."""
+
+    def __init__(self, chunks: list, later: dict | None = None):
+        self._chunks = chunks[::-1]
+        self._later = later or {}
+        self.length = sum(len(chunk) for chunk in chunks)
+
+    def __iter__(self):
+        chunks, later, index = self._chunks, self._later, 0
+        while chunks:
+            chunk = chunks.pop()
+            column = later.pop(index, None)
+            index += 1
+            if column is not None:
+                data = _array(column.later(), column.null).buffers()[1]
+                if data.size != chunk.size:
+                    raise RuntimeError(f"column {column.name}: {data.size} bytes where its stand-in had {chunk.size}")
+                chunk = data
+            yield chunk if type(chunk) is bytes else chunk.to_pybytes()
+
+
+def stream_chunks(batch: pa.RecordBatch) -> list:
+    """The Arrow IPC stream of one record batch, as the WSGI body's chunks (bytes, and the batch's buffers).
 
     pyarrow's stream writer writes the schema message, then the batch message's header and each of its
-    buffers in turn, then the end-of-stream marker; each write is copied once into a bytes chunk (the
-    server writes bytes), straight from the NumPy arrays. A write per buffer, not per point; no buffer
-    the size of the whole body is built, let alone copied again.
+    buffers in turn, then the end-of-stream marker. The small writes are copied into bytes; the buffers
+    (the NumPy arrays' memory) are kept as they are, for :class:`Body` to copy as it sends them. A write per
+    buffer, not per point; no buffer the size of the whole body is built.
 
     >>> batch = pa.record_batch({"mach": [0.5, 0.8]})
     >>> sink = pa.BufferOutputStream()
     >>> with pa.ipc.new_stream(sink, batch.schema) as writer:
     ...     writer.write_batch(batch)
-    >>> b"".join(stream_chunks(batch)) == sink.getvalue().to_pybytes()
+    >>> b"".join(Body(stream_chunks(batch))) == sink.getvalue().to_pybytes()
     True
     """
     sink = _Chunks()
@@ -153,7 +207,7 @@ def parquet_chunks(batch: pa.RecordBatch) -> list[bytes]:
     """The same table as a Parquet file (plain encoding, uncompressed, no statistics: the cheap form)."""
     import pyarrow.parquet as pq  # only for Parquet answers: it adds about 9 MB to a worker
 
-    sink = _Chunks()
+    sink = _Chunks(keep_buffers=False)  # the Parquet writer's buffers are its own, perhaps reused: copied
     pq.write_table(pa.Table.from_batches([batch]), pa.PythonFile(sink, mode="w"), compression="none",
                    use_dictionary=False, write_statistics=False)
     return sink.chunks
@@ -181,6 +235,27 @@ def response_content() -> dict:
 WRITERS = {ARROW_STREAM: stream_chunks, PARQUET: parquet_chunks}
 
 
-def body(media_type: str, columns: Iterable[Column], warnings: list[dict]) -> list[bytes]:
-    """The answer's body in ``media_type`` (a key of WRITERS), as chunks of bytes (a WSGI iterable)."""
-    return WRITERS[media_type](record_batch(columns, warnings))
+def body(media_type: str, columns: Iterable[Column], warnings: list[dict]) -> Body:
+    """The answer's body in ``media_type`` (a key of WRITERS), a WSGI iterable of known length.
+
+    An Arrow stream's columns with ``later`` values are written with their stand-ins, then each stand-in's data
+    buffer is replaced by the values as it is sent: the stream's header depends only on the columns' types,
+    lengths and nulls. Parquet (which encodes the values) gets the values at once."""
+    columns = list(columns)
+    if media_type != ARROW_STREAM:
+        columns = [c._replace(values=c.later(), later=None) if c.later is not None else c for c in columns]
+        return Body(WRITERS[media_type](record_batch(columns, warnings)))
+    batch = record_batch(columns, warnings)
+    chunks = stream_chunks(batch)
+    if all(c.later is None for c in columns):
+        return Body(chunks)
+    # The writer hands over the non-empty buffers of each column in order, each as the buffer itself.
+    expected = [(index, number, buffer) for index, array in enumerate(batch.columns)
+                for number, buffer in enumerate(array.buffers()) if buffer is not None and buffer.size]
+    handed = [k for k, chunk in enumerate(chunks) if type(chunk) is pa.Buffer]
+    if len(handed) != len(expected) or any(chunks[k].address != buffer.address or chunks[k].size != buffer.size
+                                           for k, (_, _, buffer) in zip(handed, expected, strict=True)):
+        raise RuntimeError("the Arrow stream writer did not hand over the columns' buffers as expected")
+    later = {k: columns[index] for k, (index, number, _) in zip(handed, expected, strict=True)
+             if number == 1 and columns[index].later is not None}
+    return Body(chunks, later)

@@ -2,7 +2,7 @@
 
 from __future__ import annotations
 
-from service.api import air, examples
+from service.api import air, air_fields, examples
 from service.api.base import COMPUTE_PROBLEMS, Blueprint
 from service.api.inputs import ComputeSchema, outputs_field
 from service.api.outputs import Result
@@ -65,11 +65,11 @@ _SOURCE = {
 class AtmosphereRequest(ComputeSchema):
     OUTPUTS = OUTPUTS
 
-    altitude, isa_deviation, temperature, qnh, altitude_kind = air.air_fields(
+    altitude, isa_deviation, temperature, qnh, altitude_kind = air_fields.air_fields(
         "Altitude [ft]: a pressure altitude (FL allowed), or the indicated altitude with `qnh`, or a geometric "
         "height with `altitude_kind: geometric`. Arrays allowed.")
-    dew_point = air.dew_point_field()
-    relative_humidity = air.relative_humidity_field()
+    dew_point = air_fields.dew_point_field()
+    relative_humidity = air_fields.relative_humidity_field()
     outputs = outputs_field(OUTPUTS)
 
 

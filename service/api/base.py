@@ -12,10 +12,10 @@ from apispec.ext.marshmallow import MarshmallowPlugin as _MarshmallowPlugin
 from apispec.ext.marshmallow.common import resolve_schema_instance
 from apispec.ext.marshmallow.openapi import OpenAPIConverter
 
-from service.api import fields, problems
-from service.api.inputs import BodyParser
+from service.api import field_schemas, fields, problems
 from service.api.problems import PROBLEM_MEDIA_TYPE
-from service.api.rules import schema_rules
+from service.api.request_body import BodyParser
+from service.api.rule_schema import schema_rules
 from service.api.spec import JSON_MEDIA_TYPE
 from service.api.spec import complete as complete_spec
 
@@ -62,8 +62,11 @@ class ErrorItemSchema(ma.Schema):
 
 
 class WarningSchema(ma.Schema):
-    field = ma.fields.String(required=True, metadata={"description": "The output field concerned."})
-    message = ma.fields.String(required=True, metadata={"description": "Why some values are null or doubtful."})
+    """One entry per output field: when a field is null or doubtful for several reasons, one entry gives them all."""
+
+    field = ma.fields.String(required=True, metadata={"description": "The output field concerned (one entry each)."})
+    message = ma.fields.String(required=True, metadata={
+        "description": "Why some values are null or doubtful (every reason, when there are several)."})
     count = ma.fields.Integer(required=True, metadata={"description": "How many points are concerned."})
     indices = ma.fields.List(ma.fields.Integer(), required=True, metadata={
         "description": "The first (up to ten) indices of the points concerned."})
@@ -132,7 +135,7 @@ class Api(flask_smorest.Api):
         self._spec_dict = None
         super().init_app(app, spec_kwargs={"marshmallow_plugin": MarshmallowPlugin(), **(spec_kwargs or {})})
         self.ma_plugin.converter.add_attribute_function(fields.field_to_properties)
-        for name, component in fields.named_schemas().items():  # the dimensions' types the fields refer to
+        for name, component in field_schemas.named_schemas().items():  # the dimensions' types the fields refer to
             self.spec.components.schema(name, component=component)
         self.spec.components.schema("Warning", schema=WarningSchema)
         problems.register(app)

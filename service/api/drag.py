@@ -7,7 +7,7 @@ from __future__ import annotations
 
 import marshmallow as ma
 
-from service.api import air, examples
+from service.api import air, air_fields, examples
 from service.api.base import COMPUTE_PROBLEMS, Blueprint
 from service.api.fields import Number, Quantity
 from service.api.inputs import ComputeSchema, outputs_field
@@ -21,7 +21,7 @@ from service.api.lift.common import (
 )
 from service.api.masks import any_true
 from service.api.outputs import Leaf, Result
-from service.api.rules import ExactlyOne, Needs
+from service.api.rules import ExactlyOne, Needs, NoneOf
 from service.api.schemas import quantity_out, ratio_out, response_schema
 from service.api.speeds import (
     CALIBRATION_NEEDS_IAS,
@@ -152,11 +152,15 @@ class DragRequest(_PolarInputs, ComputeSchema):
     cl = Number(minimum=0.0, exclusive_minimum=True, maximum=10.0, metadata={
         "description": "Lift coefficient CL [-]. " + _ONE_POINT, "example": [0.3, 0.5, 0.8]})
     calibration = calibration_field()
-    altitude = air.altitude_field(_ALTITUDE)
-    isa_deviation = air.isa_deviation_field()
-    temperature = air.temperature_field()
-    qnh = air.qnh_field()
-    altitude_kind = air.altitude_kind_field()
+    altitude = air_fields.altitude_field(_ALTITUDE)
+    isa_deviation = air_fields.isa_deviation_field()
+    temperature = air_fields.temperature_field()
+    qnh = air_fields.qnh_field()
+    altitude_kind = air_fields.altitude_kind_field()
+    total_air_temperature = air_fields.total_air_temperature_field()
+    recovery_factor = air_fields.recovery_factor_field()
+    dew_point = air_fields.dew_point_field()
+    relative_humidity = air_fields.relative_humidity_field()
     load_factor = LOAD_FACTOR
     bank_angle = BANK_ANGLE
     outputs = outputs_field(DRAG_OUTPUTS)
@@ -185,7 +189,11 @@ def drag(inputs):
     cd0, k = _polar(inputs)
     kind = given_speed(inputs)
     if kind is None:
-        point = dp.level_condition(weight, area, inputs.si("cl"), cd0, k, state.rho, n)
+        cl = inputs.si("cl")
+        if state.needs_temperature:  # the static temperature from the TAT at the EAS the lift gives (no density)
+            eas = lf.eas_from_dynamic_pressure(lf.required_dynamic_pressure(weight, n, area, cl))
+            Speeds(state, "eas", eas, given=False)
+        point = dp.level_condition(weight, area, cl, cd0, k, state.rho, n)
         speeds = Speeds(state, "eas", point.eas, given=False)
     else:
         speeds = Speeds(state, kind, inputs.si(kind), inputs.get("calibration"))
@@ -210,18 +218,28 @@ def drag(inputs):
 SPEEDS_OUTPUTS = ("minimum_drag", "minimum_power", "best_glide")
 
 
+#: Why /v1/drag/speeds takes no total air temperature (the message on the field given).
+NO_TAT_FOR_FOUND_SPEEDS = (
+    "A total air temperature gives the static temperature through the speed it was read at, and this endpoint finds "
+    "its speeds (three conditions, each at its own speed, all at one air): give temperature or isa_deviation.")
+
+
 class DragSpeedsRequest(_PolarInputs, ComputeSchema):
     OUTPUTS = SPEEDS_OUTPUTS
-    RULES = POLAR_RULES
+    RULES = (*POLAR_RULES, NoneOf("total_air_temperature", "recovery_factor", message=NO_TAT_FOR_FOUND_SPEEDS))
 
     weight = weight_field("Weight", required=True)
     wing_area = wing_area_field()
     wing_area.required = True  # the shared field factories make optional fields
-    altitude = air.altitude_field(_ALTITUDE)
-    isa_deviation = air.isa_deviation_field()
-    temperature = air.temperature_field()
-    qnh = air.qnh_field()
-    altitude_kind = air.altitude_kind_field()
+    altitude = air_fields.altitude_field(_ALTITUDE)
+    isa_deviation = air_fields.isa_deviation_field()
+    temperature = air_fields.temperature_field()
+    qnh = air_fields.qnh_field()
+    altitude_kind = air_fields.altitude_kind_field()
+    total_air_temperature = air_fields.total_air_temperature_field()
+    recovery_factor = air_fields.recovery_factor_field()
+    dew_point = air_fields.dew_point_field()
+    relative_humidity = air_fields.relative_humidity_field()
     height = Quantity("altitude", minimum=0.0, exclusive_minimum=True, maximum=HEIGHT_MAX_FT, metadata={
         "description": "Optional: height to lose in a glide [ft]; `best_glide` then gives the still-air glide "
                        "distance from it.", "example": 25000})

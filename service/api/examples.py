@@ -111,6 +111,13 @@ LIFT_SOLVE = _examples(
     ("wing-area-for-cas", "The wing area that carries 23 000 kg at 125 kt CAS and CL 1.5 at sea level, in ft2",
      {"solve_for": "wing_area", "weight": 23000, "cl": 1.5, "cas": 125, "altitude": 0,
       "outputs": ["wing_area", "wing_loading"], "output_units": {"area": "ft2", "wing_loading": "kg/m2"}}),
+    ("cl-from-tat", "The TQ-62's CL at Mach 0.45, FL250, with the probe's TAT and a dew point",
+     {"solve_for": "cl", "weight": 21000, "wing_area": 61, "mach": 0.45, "altitude": {"value": 250, "unit": "FL"},
+      "total_air_temperature": -12, "recovery_factor": 0.98, "dew_point": -30,
+      "outputs": ["cl", "tas", "total_air_temperature", "ram_rise", "density"]}),
+    ("humid-circuit-speed", "Every speed for CL 1.2 at 22 000 kg over Quillon Ridge, 25 degC, 70 % humidity",
+     {"solve_for": "speed", "weight": 22000, "wing_area": 61, "cl": 1.2, "altitude": 8200, "qnh": 1008,
+      "temperature": 25, "relative_humidity": 70, "outputs": ["cas", "tas", "mach", "density"]}),
 )
 
 LIFT_STALL = _examples(
@@ -132,6 +139,12 @@ LIFT_STALL = _examples(
     ("hot-day-tas", "The margin at 170 kt TAS, 3000 ft, 30 degC",
      {"weight": 22000, "wing_area": 61, "cl_max": 1.6, "altitude": 3000, "temperature": 30, "tas": 170,
       "outputs": ["stall", "margin"]}),
+    ("quillon-ridge-humid", "Stall speeds at Quillon Ridge on a hot, humid afternoon (30 degC, dew point 18 degC)",
+     {"weight": 22000, "wing_area": 61, "cl_max": 1.6, "altitude": 7200, "qnh": 1008, "temperature": 30,
+      "dew_point": 18, "outputs": ["stall"]}),
+    ("tat-and-humidity", "Stall speeds and the margin at 160 kt CAS, 5000 ft, from the probe's TAT at 80 % humidity",
+     {"weight": 22000, "wing_area": 61, "cl_max": 1.6, "altitude": 5000, "cas": 160, "total_air_temperature": 22,
+      "recovery_factor": 0.98, "relative_humidity": 80, "outputs": ["stall", "margin"]}),
 )
 
 LIFT_CURVE = _examples(
@@ -176,6 +189,13 @@ DRAG = _examples(
     ("beyond-the-polar", "At Mach 0.74, FL370: beyond the polar's default Mach limit, with the warning",
      {"weight": 21000, "wing_area": 61, **TQ62_POLAR, "mach": [0.55, 0.74], "altitude": {"value": 370, "unit": "FL"},
       "outputs": ["cl", "cd", "drag", "lift_to_drag"]}),
+    ("tat-humid-climb", "In the 250 kt climb at 10 000 ft: the static temperature from the TAT, 70 % humidity",
+     {"weight": 22000, "wing_area": 61, **TQ62_POLAR, "cas": 250, "altitude": 10000, "total_air_temperature": 12,
+      "recovery_factor": 0.98, "relative_humidity": 70, "outputs": ["drag", "power_required", "tas", "density"]}),
+    ("quillon-ridge-approach-cl", "CL 1.2 on approach to Quillon Ridge (QNH 1008 hPa): the TAT read at the speed "
+                                  "the lift gives, dew point 14 degC",
+     {"weight": 21000, "wing_area": 61, **TQ62_POLAR, "cl": 1.2, "altitude": 8200, "qnh": 1008,
+      "total_air_temperature": 27, "dew_point": 14, "outputs": ["drag", "cas", "tas", "density"]}),
 )
 
 DRAG_SPEEDS = _examples(
@@ -190,6 +210,12 @@ DRAG_SPEEDS = _examples(
      {"weight": [18000, 23000], "wing_area": 61, **TQ62_POLAR, "altitude": {"value": [0, 6000], "unit": "m"},
       "altitude_kind": "geometric", "grid": True, "outputs": ["minimum_drag", "minimum_power"],
       "output_units": {"power": "hp"}}),
+    ("humid-quillon-ridge", "Minimum power over Quillon Ridge on a 30 degC afternoon, 60 % humidity",
+     {"weight": 22000, "wing_area": 61, **TQ62_POLAR, "altitude": 9000, "qnh": 1008, "temperature": 26,
+      "relative_humidity": 60, "outputs": ["minimum_power"]}),
+    ("dew-point-glide", "Best glide from FL100 with a dew point of -5 degC",
+     {"weight": 21000, "wing_area": 61, **TQ62_POLAR, "altitude": {"value": 100, "unit": "FL"}, "temperature": 0,
+      "dew_point": -5, "height": 10000, "outputs": ["best_glide"]}),
 )
 
 TURN = _examples(
@@ -205,6 +231,11 @@ TURN = _examples(
       "unit": "standard_rate"}, "grid": True, "outputs": ["bank_angle", "radius", "turn_rate"]}),
     ("eas-geometric", "At 200 kt EAS, 3000 m geometric height",
      {"eas": 200, "altitude": {"value": 3000, "unit": "m"}, "altitude_kind": "geometric", "bank_angle": 30}),
+    ("tat-humid", "A 30 deg turn at 180 kt EAS, 6000 ft: the static temperature from the TAT, dew point 8 degC",
+     {"eas": 180, "altitude": 6000, "total_air_temperature": 18, "recovery_factor": 0.98, "dew_point": 8,
+      "bank_angle": 30}),
+    ("humid-rh", "Rate one at 160 kt CAS, 3000 ft, 28 degC, 75 % humidity",
+     {"cas": 160, "altitude": 3000, "temperature": 28, "relative_humidity": 75, "turn_rate": 3}),
 )
 
 BUFFET = _examples(
@@ -221,6 +252,13 @@ BUFFET = _examples(
     ("quillon-ridge-departure", "Climbing out of Quillon Ridge: Mach 0.5 at 16 000 ft on QNH 1008 hPa, -2 degC",
      {"weight": 23000, "wing_area": 61, "mach": 0.5, "altitude": 16000, "qnh": 1008, "temperature": -2,
       "buffet": TQ62_BUFFET, "outputs": ["cl", "load_factor_to_buffet", "bank_to_buffet", "cas", "tas"]}),
+    ("tat-cruise", "Mach 0.74 at FL370 with the probe's TAT (-28 degC) and a dew point of -60 degC",
+     {"weight": 21000, "wing_area": 61, "mach": 0.74, "altitude": {"value": 370, "unit": "FL"},
+      "total_air_temperature": -28, "recovery_factor": 0.98, "dew_point": -60, "buffet": TQ62_BUFFET,
+      "outputs": ["load_factor_to_buffet", "cas", "tas"]}),
+    ("humid-low-level", "Mach 0.5 at 5000 ft, 25 degC, 70 % humidity",
+     {"weight": 23000, "wing_area": 61, "mach": 0.5, "altitude": 5000, "temperature": 25, "relative_humidity": 70,
+      "buffet": TQ62_BUFFET, "outputs": ["load_factor_to_buffet", "tas"]}),
 )
 
 PRESSURE_SETTINGS = _examples(

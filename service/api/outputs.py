@@ -1,4 +1,5 @@
-"""Writing a compute answer: unit conversion, warnings, JSON (orjson), CSV, or Arrow and Parquet (api.arrow).
+"""Writing a compute answer: unit conversion, warnings, JSON (orjson), CSV (api.formats), or Arrow and Parquet
+(api.arrow).
 
 An endpoint fills a :class:`Result` with SI arrays; the Result converts each to the
 caller's unit once and serialises the arrays directly (orjson's NumPy support), so the
@@ -14,18 +15,16 @@ from typing import NamedTuple
 
 import numpy as np
 import orjson
-from flask import Response, g, request
-from werkzeug.datastructures import MIMEAccept
+from flask import Response, g
 
 from service import units
-from service.api import arrow
+from service.api import arrow, formats
 from service.api.arrow import Column
 from service.api.inputs import Inputs
 from service.api.masks import any_true, first_indices
-from service.api.problems import Problem, echo, invalid, pointer
+from service.api.values import chosen_by, no_solution, refuse_unused_units, round_significant, unit_for
 
 _JSON_OPTIONS = orjson.OPT_SERIALIZE_NUMPY
-CSV_MEDIA_TYPE = "text/csv"
 
 
 class Leaf(NamedTuple):
@@ -39,80 +38,6 @@ class Leaf(NamedTuple):
     given_unit: str | None = None
 
 
-def chosen_by(dimension: str, chosen: dict) -> str | None:
-    """The ``output_units`` key that sets the unit of an output of ``dimension``; None for its default.
-
-    A weight is written as a mass when ``output_units`` names a mass unit (weight / g0: kg, t, lb),
-    else as a force (``output_units.force``, default N); the ``weight`` dimension holds both kinds of unit.
-    """
-    if dimension == "weight":
-        return "mass" if "mass" in chosen else "force" if "force" in chosen else None
-    return dimension if dimension in chosen else None
-
-
-def unit_for(dimension: str, chosen: dict) -> str:
-    """The output unit of ``dimension``: the caller's choice or the default (a weight: N)."""
-    key = chosen_by(dimension, chosen)
-    if key is not None:
-        return chosen[key]
-    return units.DIMENSIONS["force" if dimension == "weight" else dimension].default
-
-
-def no_solution(field: str, mask, reason: str) -> Problem:
-    """The 422 for a primary result that does not exist at some points."""
-    mask = np.asarray(mask)
-    count = int(np.count_nonzero(mask))
-    where = first_indices(mask)
-    at = "" if mask.ndim == 0 else f" at {count} point(s), first indices {where}"
-    return Problem("no-solution", f"No {field}{at}: {reason}",
-                   errors=[{"pointer": pointer(field), "message": reason}],
-                   extra={"field": field, "count": count, "indices": where})
-
-
-def require(field: str, values, reason: str):
-    """``values``, or the no-solution 422 naming ``field`` where they are not finite (a primary result)."""
-    bad = ~np.isfinite(values)
-    if any_true(bad):
-        raise no_solution(field, bad, reason)
-    return values
-
-
-#: 10**k is exact in float64 up to k = 22: the scale of a rounding within that range is exact.
-_EXACT_POWERS_OF_TEN = 22
-
-
-def round_significant(value, digits: int):
-    """``value`` (a float, None, or an array of them; other kinds as they are) to ``digits`` significant digits.
-
-    One point: Python's own decimal rounding. Arrays: vectorised, x scaled by an exact power of ten,
-    rounded to an integer (half to even) and scaled back, so the result is the double nearest to the
-    rounded decimal (it prints with at most ``digits`` digits); where the scaled value is itself
-    rounded (15 digits and more), the last digit can differ by one from a decimal rounding.
-
-    >>> round_significant(58.999999999999986, 6), round_significant(None, 3)
-    (59.0, None)
-    >>> round_significant(np.array([278385.8267716535, 1.48764e-05, 0.0, -44.342, np.nan, 2.557977936e25]), 3).tolist()
-    [278000.0, 1.49e-05, 0.0, -44.3, nan, 2.56e+25]
-    """
-    if type(value) is float:
-        return float(f"{value:.{digits}g}") if value - value == 0.0 else value
-    if type(value) is not np.ndarray or value.dtype.kind != "f":
-        return value
-    with np.errstate(divide="ignore", invalid="ignore", over="ignore"):
-        k = (digits - 1) - np.floor(np.log10(np.abs(value)))
-        exact = np.isfinite(k) & (np.abs(k) <= _EXACT_POWERS_OF_TEN)
-        k = np.where(exact, k, 0.0)
-        scale = np.power(10.0, np.abs(k))
-        rounded = np.where(k >= 0, np.round(value * scale) / scale, np.round(value / scale) * scale)
-    rounded = np.where(exact, rounded, value)
-    # Beyond the exact powers of ten (magnitudes past about 1e22, or below 1e-7 at 17 digits, e.g. a number
-    # density of 2.5e25 per m3): decimal formatting, as one NumPy string operation over those elements only.
-    far = ~exact & np.isfinite(value) & (value != 0.0)
-    if far.any():
-        rounded[far] = np.char.mod(f"%.{digits}g", value[far]).astype(np.float64)
-    return rounded
-
-
 class Result:
     """The outputs of one request, in order, with warnings and (for grids) the inputs."""
 
@@ -122,6 +47,7 @@ class Result:
         g.points = math.prod(self.shape)  # for the access log and the points-computed metric
         self.tree: dict = {}
         self.warnings: list[dict] = []
+        self._warning_masks: dict[str, np.ndarray] = {}  # field -> the points its warning covers (Result.warn)
         self._null_masks: dict[str, object] = {}  # output -> where null_where made it null
         self._units_used: set = set()  # the output_units keys that set the unit of something written
 
@@ -154,13 +80,19 @@ class Result:
         return values
 
     def warn(self, field: str, message: str, mask=None):
-        """A warning on ``field`` at the points of ``mask`` (default: every point)."""
-        if mask is None:
-            count, indices = math.prod(self.shape), []
+        """A warning on ``field`` at the points of ``mask`` (default: every point). One entry per field: a second
+        warning on the same field (another reason) joins the first, its message appended, its points added."""
+        mask = np.ones(self.shape, dtype=bool) if mask is None else np.broadcast_to(np.asarray(mask), self.shape)
+        entry = next((w for w in self.warnings if w["field"] == field), None)
+        if entry is None:
+            self._warning_masks[field] = mask
+            entry = {"field": field, "message": message}
+            self.warnings.append(entry)
         else:
-            mask = np.broadcast_to(np.asarray(mask), self.shape) if self.shape else np.asarray(mask)
-            count, indices = int(np.count_nonzero(mask)), first_indices(mask)
-        self.warnings.append({"field": field, "message": message, "count": count, "indices": indices})
+            mask = self._warning_masks[field] = self._warning_masks[field] | mask
+            if message not in entry["message"]:
+                entry["message"] += " " + message
+        entry["count"], entry["indices"] = int(np.count_nonzero(mask)), first_indices(mask)
 
     # --- writing: one walk over the outputs, for JSON and CSV -----------------------------------------
 
@@ -174,7 +106,7 @@ class Result:
             return [self._walk(value, f"{path}.{index}", visit) for index, value in enumerate(node)]
         return node  # a label (solved_for)
 
-    def _leaf(self, path: str, leaf: Leaf, check: bool = True, json: bool = True):
+    def _leaf(self, path: str, leaf: Leaf, check: bool = True, json: bool = True, rounded: bool = True):
         """One output in the caller's unit: a Python scalar for one point (plain arithmetic, no NumPy call),
         else a C-contiguous array of the points; ``{"value", "unit"}`` for JSON, else ``(values, unit)``.
 
@@ -200,7 +132,7 @@ class Result:
         if check:
             self._check_finite(path, value)
         digits = self.inputs.significant_digits
-        if digits is not None:
+        if digits is not None and rounded:
             value = round_significant(value, digits)
         if json:
             return value if unit is None else {"value": value, "unit": unit}
@@ -247,24 +179,130 @@ class Result:
         return doc
 
     def json_response(self) -> Response:
-        body = orjson.dumps(self.document(), option=_JSON_OPTIONS)
-        return Response(body, status=200, content_type="application/json")
+        """One point: the document in one orjson call. Arrays: checked, then streamed (:meth:`json_chunks`)."""
+        if self.shape == ():
+            return Response(orjson.dumps(self.document(), option=_JSON_OPTIONS), status=200,
+                            content_type="application/json")
+        # Every output converted and checked (and every unit noted) before the first byte: once the answer has
+        # begun, a 422 can no longer be sent.
+        self._walk(self.tree, "", self._check)
+        if self.inputs.grid:
+            self._walk(self._input_leaves(), "", partial(self._check, check=False))
+        return Response(self.json_chunks(), status=200, content_type="application/json")
 
-    def columns(self) -> list[Column]:
+    def _check(self, path: str, leaf: Leaf, check: bool = True) -> None:
+        """Output ``path`` converted to its unit (the unit noted as used) and checked (a 422), then let go."""
+        self._leaf(path, leaf, check, json=False, rounded=False)
+
+    def json_chunks(self):
+        """The bytes of ``orjson.dumps(self.document())``, written one output at a time as the server sends them.
+
+        Each output is converted to its unit, written and let go before the next: a large answer is held as
+        its arrays only, never also as its text (which is two to three times their size). orjson writes a dict
+        as ``{"key":value,...}`` with no space, so the pieces joined are the document's bytes exactly. The
+        punctuation and names between two outputs go out as one chunk; the server sends the chunks with
+        chunked transfer encoding (the length is known only at the end).
+        """
+        small = bytearray()
+        for piece, large in self._pieces():
+            if not large:
+                small += piece
+                continue
+            if small:
+                yield bytes(small)
+                small.clear()
+            yield piece
+        if small:
+            yield bytes(small)
+
+    def _pieces(self):
+        """(bytes, large) of the document in order: ``large`` for an output's numbers."""
+        visit = partial(self._leaf, check=False)  # checked before (json_response)
+        yield b"{", False
+        for key, node in self.tree.items():
+            yield orjson.dumps(key) + b":", False
+            yield from self._node_pieces(node, key, visit)
+            yield b",", False
+        yield b'"warnings":' + orjson.dumps(self.warnings), False
+        if self.inputs.grid:
+            yield b',"inputs":', False
+            yield from self._node_pieces(self._input_leaves(), "", visit)
+        yield b"}", False
+
+    def _node_pieces(self, node, path: str, visit):
+        """The pieces of ``node`` as :meth:`_walk` would make it (each Leaf through ``visit``)."""
+        if isinstance(node, Leaf):
+            yield orjson.dumps(visit(path, node), option=_JSON_OPTIONS), True
+        elif isinstance(node, dict):
+            yield b"{", False
+            for index, (key, value) in enumerate(node.items()):
+                yield (b"," if index else b"") + orjson.dumps(key) + b":", False
+                yield from self._node_pieces(value, f"{path}.{key}" if path else key, visit)
+            yield b"}", False
+        elif isinstance(node, (list, tuple)):
+            yield b"[", False
+            for index, value in enumerate(node):
+                if index:
+                    yield b",", False
+                yield from self._node_pieces(value, f"{path}.{index}", visit)
+            yield b"]", False
+        else:
+            yield orjson.dumps(node, option=_JSON_OPTIONS), False  # a label (solved_for)
+
+    def columns(self, later: bool = False) -> list[Column]:
         """The answer as columns (CSV, Arrow): inputs first (``input.<name>``), then every output under its
-        dotted name, each with its unit and where it is null."""
+        dotted name, each with its unit and where it is null.
+
+        ``later``: a column converted to another unit (or rounded) is checked here and then let go; it carries
+        its SI array as a stand-in and the means to convert it again when it is sent (api.arrow.Body), so that
+        the answer is never held twice, in SI and in the caller's units."""
         columns = []
 
         def column(prefix, check):
             def visit(path, leaf):
+                null = self._null_mask(path) if check else None
+                si = leaf.si
+                if (later and type(si) is np.ndarray and si.dtype == np.float64 and si.shape == self.shape
+                        and si.flags.c_contiguous):
+                    unit = self._checked_unmade(prefix + path, leaf, check)
+                    if unit is not False:
+                        make = partial(self._values, prefix + path, leaf)
+                        columns.append(Column(prefix + path, unit, si, null, make))
+                        return
                 value, unit = self._leaf(prefix + path, leaf, check, json=False)
-                columns.append(Column(prefix + path, unit, np.atleast_1d(value), self._null_mask(path) if check
-                                      else None))
+                columns.append(Column(prefix + path, unit, np.atleast_1d(value), null))
             return visit
 
         self._walk(self._input_leaves(), "", column("input.", False))
         self._walk(self.tree, "", column("", True))
         return columns
+
+    def _checked_unmade(self, path: str, leaf: Leaf, check: bool):
+        """The unit of a column to be made later (its values are other numbers than its SI array: converted,
+        rounded or as given), noted as used, once its values are known to be finite where they must be (else
+        the 422 of :meth:`_check_finite`); False when the column is its SI array as it is (nothing to make).
+
+        Finite SI values whose largest magnitude stays finite through the conversion give finite values in
+        the unit (and rounding keeps a number finite): one reduction instead of a conversion. Otherwise (a NaN
+        under a null, a huge value) the values are made, checked and let go."""
+        unit = None if leaf.dimension is None else unit_for(leaf.dimension, self.inputs.output_units)
+        as_given = leaf.given is not None and leaf.given_unit == unit
+        u = None if unit is None or as_given else units.lookup(leaf.dimension, unit)
+        converts = u is not None and (u.factor != 1.0 or u.offset != 0.0)
+        if not (converts or as_given or self.inputs.significant_digits is not None):
+            return False
+        if unit is not None:
+            self._units_used.add(chosen_by(leaf.dimension, self.inputs.output_units))
+        if check:
+            si = leaf.si
+            bound = max(si.max(), -si.min()) if si.size else 0.0
+            if not (np.isfinite(bound) and (not converts or np.isfinite((bound + abs(u.offset)) / u.factor))):
+                self._leaf(path, leaf, check, json=False, rounded=False)
+        return unit
+
+    def _values(self, path: str, leaf: Leaf) -> np.ndarray:
+        """A column's values in the caller's unit, once more (checked already by :meth:`columns`)."""
+        return np.atleast_1d(self._leaf(path, leaf, check=False, json=False)[0])
 
     def _null_mask(self, path: str):
         """Where null_where made output ``path`` null (None: nowhere)."""
@@ -274,25 +312,17 @@ class Result:
         return np.logical_or.reduce(masks) if len(masks) > 1 else masks[0]
 
     def csv_response(self) -> Response:
-        """Inputs first (``input.<name> [unit]``), then every output under its dotted name."""
-        columns = self.columns()
-        header = ",".join(_csv_text(arrow.header(c.name, c.unit)) for c in columns).encode()
-        values = [c.values for c in columns]
-        # The rows are written by orjson as one JSON array of arrays ([[1.0,2.5],[...]]), in C: strip the outer
-        # brackets, turn "],[" into line breaks and null (NaN) into an empty cell. No number or label holds
-        # any of those byte sequences.
-        if all(v.dtype.kind == "f" for v in values):
-            text = orjson.dumps(np.column_stack(values) if values else np.empty((0, 0)), option=_JSON_OPTIONS)
-        else:
-            text = orjson.dumps(list(zip(*(v.tolist() for v in values), strict=False)))
-        body = header + b"\r\n" + text[2:-2].replace(b"],[", b"\r\n").replace(b"null", b"") + b"\r\n"
+        """Inputs first (``input.<name> [unit]``), then every output under its dotted name (api.formats)."""
+        body = formats.csv_body(self.columns())
         return self._with_warning_count(Response(body, status=200, content_type="text/csv; charset=utf-8"))
 
     def columnar_response(self, media_type: str) -> Response:
         """The answer as an Arrow IPC stream or a Parquet file (api.arrow): the CSV's columns, with nulls,
         units in field metadata and the warnings in the schema metadata."""
-        body = arrow.body(media_type, self.columns(), self.warnings)
-        return self._with_warning_count(Response(body, status=200, content_type=media_type))
+        body = arrow.body(media_type, self.columns(later=True), self.warnings)
+        response = Response(body, status=200, content_type=media_type)
+        response.content_length = body.length  # an iterable's length werkzeug does not know
+        return self._with_warning_count(response)
 
     def _with_warning_count(self, response: Response) -> Response:
         """Tables (CSV, Arrow) carry the number of warnings in X-Warnings."""
@@ -303,64 +333,12 @@ class Result:
     def response(self) -> Response:
         """The answer in the format the client accepts (JSON unless another is preferred); a 422 when an
         ``output_units`` key applies to nothing written (nothing is silently ignored)."""
-        media_type = answer_media_type()
-        if media_type == CSV_MEDIA_TYPE:
+        media_type = formats.answer_media_type()
+        if media_type == formats.CSV:
             response = self.csv_response()
         elif media_type in arrow.WRITERS:
             response = self.columnar_response(media_type)
         else:
             response = self.json_response()
-        unused = [key for key in self.inputs.output_units if key not in self._units_used]
-        if unused:
-            raise invalid([{"pointer": pointer("output_units", key),
-                            "message": f"No output of this answer is "
-                                       f"{_A_DIMENSION.get(key, 'a ' + key.replace('_', ' '))}: "
-                                       "leave it out, or ask for an output it applies to (`outputs`)."}
-                           for key in unused])
+        refuse_unused_units(self.inputs.output_units, self._units_used)
         return response
-
-
-#: How the 422 for an unused output_units key names the dimension.
-_A_DIMENSION = {"mass": "a mass or a weight", "force": "a force or a weight",
-                "altitude": "an altitude", "angle": "an angle", "area": "an area"}
-
-
-def _csv_text(name: str) -> str:
-    return f'"{name}"' if ("," in name or '"' in name) else name
-
-
-#: Accept headers that mean JSON, answered without parsing (curl, browsers' fetch, most clients).
-_JSON_ACCEPTS = frozenset({"", "*/*", "application/json", "application/json, */*", "application/problem+json"})
-
-#: The answer's media types, JSON first (the default for */*).
-ANSWER_MEDIA_TYPES = ("application/json", CSV_MEDIA_TYPE, arrow.ARROW_STREAM, arrow.PARQUET)
-
-
-
-def _without_utf8(value: str) -> str:
-    """An Accept entry without a ``charset=utf-8`` parameter: every answer is UTF-8, so it is met."""
-    main, *params = (part.strip() for part in value.split(";"))
-    kept = [p for p in params if p.replace(" ", "").lower() != "charset=utf-8"]
-    return "; ".join([main, *kept])
-
-
-def answer_media_type() -> str:
-    """The answer's media type: the client's preferred one of ANSWER_MEDIA_TYPES; 406 if it accepts none.
-
-    The header is parsed by werkzeug (parameters, q-values, wildcards, lists); ``charset=utf-8`` is
-    dropped from each entry first (werkzeug matches parameters exactly, and the text answers are UTF-8).
-    """
-    header = request.environ.get("HTTP_ACCEPT")
-    if header is None or header in _JSON_ACCEPTS:  # the common cases, without parsing the header
-        return ANSWER_MEDIA_TYPES[0]
-    accept = request.accept_mimetypes
-    if not accept:
-        return ANSWER_MEDIA_TYPES[0]
-    accept = MIMEAccept([(_without_utf8(value), quality) for value, quality in accept])
-    best = accept.best_match(ANSWER_MEDIA_TYPES)
-    if best is None:
-        offered = ", ".join(ANSWER_MEDIA_TYPES)
-        raise Problem("not-acceptable", f"This endpoint answers {offered} (text in UTF-8); Accept was "
-                                        f"{echo(request.headers.get('Accept'))}.",
-                      extra={"acceptable": list(ANSWER_MEDIA_TYPES)})
-    return best

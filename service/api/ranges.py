@@ -7,7 +7,7 @@ included when it falls on a step (within a relative tolerance of ``TOLERANCE`` s
 
 Two functions, used by two callers:
 
-- :func:`count` is the request's point count of a raw range (``api.inputs.count_points``): pure
+- :func:`count` is the request's point count of a raw range (``api.request_body.count_points``): pure
   arithmetic on three numbers, nothing allocated, so a range of 10^12 points is refused by the point
   limit (413) before anything is built. A range it cannot count gives 1, and the field then says why.
 - :func:`expand` is the field's loader (``api.fields``): it checks the range (422 with a pointer to
@@ -96,7 +96,7 @@ def count(raw) -> int:
 
 def length(raw) -> int | float:
     """The number of points a raw (not yet loaded) input contributes: an array's length, a range's count,
-    else 1. The point-limit check (``api.inputs.count_points``) calls it for every top-level input.
+    else 1. The point-limit check (``api.request_body.count_points``) calls it for every top-level input.
 
     >>> length([1, 2, 3]), length({"value": [1, 2], "unit": "ft"}), length({"start": 0, "stop": 9, "step": 1})
     (3, 2, 10)

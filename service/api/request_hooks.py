@@ -245,7 +245,6 @@ def init_app(app: Flask) -> None:
         ctx_g = g._get_current_object()
         req = request._get_current_object()
         started = getattr(ctx_g, "started", None)
-        seconds = perf_counter() - started if started is not None else 0.0
         request_id = getattr(ctx_g, "request_id", None) or request_id_from(None)
         points = getattr(ctx_g, "points", None)
         # add, not set: a fresh response has neither header, and set scans the list first
@@ -255,21 +254,24 @@ def init_app(app: Flask) -> None:
         endpoint = rule.rule if rule is not None else UNMATCHED
         method = req.method if req.method in _METHODS else "OTHER"
         status = response.status_code
-        metrics.observe(endpoint, method, status, seconds, points)
-        if access_log.isEnabledFor(logging.INFO):
-            # A record made here and handed to the logger: Logger.info would also look up the
-            # caller's source line, which no one reads, at a third of the cost of the line.
-            record = logging.LogRecord(access_log.name, logging.INFO, __file__, 0, "request", None, None)
-            record.fields = {
-                "method": method,
-                "path": req.path,
-                "status": status,
-                "duration_ms": round(seconds * 1000.0, 3),
-                "points": points,
-                "request_id": request_id,
-                "remote_addr": req.remote_addr,
-            }
-            access_log.handle(record)
+        path, remote_addr = req.path, req.remote_addr
+
+        def record() -> None:
+            seconds = perf_counter() - started if started is not None else 0.0
+            metrics.observe(endpoint, method, status, seconds, points)
+            if access_log.isEnabledFor(logging.INFO):
+                # A record made here and handed to the logger: Logger.info would also look up the
+                # caller's source line, which no one reads, at a third of the cost of the line.
+                line = logging.LogRecord(access_log.name, logging.INFO, __file__, 0, "request", None, None)
+                line.fields = {"method": method, "path": path, "status": status,
+                               "duration_ms": round(seconds * 1000.0, 3), "points": points,
+                               "request_id": request_id, "remote_addr": remote_addr}
+                access_log.handle(line)
+
+        if response.is_streamed:  # a streamed answer (large JSON) is timed and logged once its last byte is sent
+            response.call_on_close(record)
+        else:
+            record()
         return response
 
     origins = app.config.get("QBAR_CORS_ORIGINS") or ()

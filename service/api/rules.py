@@ -21,8 +21,6 @@ from __future__ import annotations
 
 from collections.abc import Callable
 
-import marshmallow as ma
-
 Message = str | Callable[..., str] | dict
 
 
@@ -33,7 +31,7 @@ def _say(message: Message, *args) -> str:
     return message(*args) if callable(message) else message
 
 
-def _required(names) -> dict:
+def all_required(names) -> dict:
     return {"required": list(names)}
 
 
@@ -51,12 +49,12 @@ class Given:
         self.needs = frozenset((*names, *self.inside, *(n for c in all_of for n in c.needs)))
 
     def schema(self) -> dict:
-        schema = _required(self.names) if self.names else {}
+        schema = all_required(self.names) if self.names else {}
         if self.inside or self.value:
             schema["properties"] = {**{k: c.schema() for k, c in self.inside.items()},
                                     **{k: _value_schema(v) for k, v in self.value.items()}}
         if self.any_of:
-            schema["anyOf"] = [_required([name]) for name in self.any_of]
+            schema["anyOf"] = [all_required([name]) for name in self.any_of]
         if self.all_of:
             schema["allOf"] = [c.schema() for c in self.all_of]
         return schema
@@ -105,6 +103,8 @@ class Rule:
     """
 
     names: tuple[str, ...] = ()
+    #: Rules of one group (same name) that apply to a schema are published together (:class:`Jointly`).
+    group: str | None = None
 
     def spec(self) -> dict:
         raise NotImplementedError
@@ -123,8 +123,8 @@ class NotTogether(Rule):
 
     def spec(self) -> dict:
         if len(self.names) == 2:
-            return {"not": _required(self.names)}
-        return {"oneOf": [NoneOf(*self.names).spec(), *(_required([name]) for name in self.names)]}
+            return {"not": all_required(self.names)}
+        return {"oneOf": [NoneOf(*self.names).spec(), *(all_required([name]) for name in self.names)]}
 
     def check(self, data):
         if len(data.keys() & self.name_set) < 2:
@@ -141,7 +141,7 @@ class ExactlyOne(NotTogether):
         self.missing = missing
 
     def spec(self):
-        return {"oneOf": [_required([name]) for name in self.names]}
+        return {"oneOf": [all_required([name]) for name in self.names]}
 
     def check(self, data):
         if data.keys().isdisjoint(self.name_set):
@@ -157,8 +157,8 @@ class NoneOf(Rule):
 
     def spec(self):
         if len(self.names) == 1:
-            return {"not": _required(self.names)}
-        return {"not": {"anyOf": [_required([name]) for name in self.names]}}
+            return {"not": all_required(self.names)}
+        return {"not": {"anyOf": [all_required([name]) for name in self.names]}}
 
     def check(self, data):
         if data.keys().isdisjoint(self.names):
@@ -173,11 +173,36 @@ class Needs(Rule):
         self.names, self.needed, self.messages = (name, *needed), frozenset(needed), messages
 
     def spec(self):
-        return {"if": _required(self.names[:1]), "then": _required(self.names[1:])}
+        return {"if": all_required(self.names[:1]), "then": all_required(self.names[1:])}
 
     def check(self, data):
         if self.names[0] in data and not data.keys() >= self.needed:
             return self.messages
+        return HOLDS
+
+
+class NeedsAny(Rule):
+    """Where ``name`` is given, so is at least one of ``alternatives``; else ``message`` on ``name``.
+
+    >>> rule = NeedsAny("total_air_temperature", ("cas", "mach"), message="Give the speed.")
+    >>> rule.spec()["then"]
+    {'anyOf': [{'required': ['cas']}, {'required': ['mach']}]}
+    >>> rule.check({"total_air_temperature": 250.0})
+    {'total_air_temperature': 'Give the speed.'}
+    >>> rule.check({"total_air_temperature": 250.0, "mach": 0.5})
+    {}
+    """
+
+    def __init__(self, name: str, alternatives: tuple[str, ...], *, message: str):
+        self.names, self.alternatives, self.message = (name, *alternatives), frozenset(alternatives), message
+
+    def spec(self):
+        return {"if": all_required(self.names[:1]),
+                "then": {"anyOf": [all_required([name]) for name in self.names[1:]]}}
+
+    def check(self, data):
+        if self.names[0] in data and data.keys().isdisjoint(self.alternatives):
+            return {self.names[0]: self.message}
         return HOLDS
 
 
@@ -223,8 +248,8 @@ class Either(Rule):
         self.names = (*first, *second)
 
     def spec(self):
-        return {"oneOf": [{**_required(self.first), **NoneOf(*self.second).spec()},
-                          {**_required(self.second), **NoneOf(*self.first).spec()}]}
+        return {"oneOf": [{**all_required(self.first), **NoneOf(*self.second).spec()},
+                          {**all_required(self.second), **NoneOf(*self.first).spec()}]}
 
     def check(self, data):
         if any(name in data for name in self.second):
@@ -257,37 +282,8 @@ class Cases(Rule):
         return errors
 
 
-# --- the schema that checks them -------------------------------------------------------------------
-
-def schema_rules(schema: ma.Schema) -> list[Rule]:
-    """Every rule that applies to ``schema``: its fields' rules in field order, then its ``RULES``."""
-    fields = schema.fields
-    rules = [rule for name, field in fields.items() for rule in field_rules(field, field.data_key or name)]
-    rules.extend(getattr(schema, "RULES", ()))
-    return [rule for rule in rules if all(name in fields for name in rule.names)]
-
-
-def field_rules(field, name: str) -> list[Rule]:
-    """The rules a field carries (``rules_for(name)``: a Number's ``rules=``, an Altitude's own)."""
-    rules_for = getattr(field, "rules_for", None)
-    return list(rules_for(name)) if rules_for is not None else []
-
-
-class RuleSchema(ma.Schema):
-    """A schema that checks its rules (:func:`schema_rules`) once its fields have loaded."""
-
-    @ma.validates_schema
-    def _check_rules(self, data, **kwargs):
-        checks = self.__dict__.get("_checks")
-        if checks is None:  # once per schema instance; a rule the fields check themselves has check None
-            checks = self.__dict__["_checks"] = [rule.check for rule in schema_rules(self) if rule.check]
-        errors: dict = {}
-        for check in checks:
-            for key, message in check(data).items():
-                if isinstance(message, dict):  # {index: message} of a list field (outputs)
-                    for index, text in message.items():
-                        errors.setdefault(key, {}).setdefault(index, [text])
-                else:
-                    errors.setdefault(key, [message])
-        if errors:
-            raise ma.ValidationError(errors)
+def grouped(group: str, *rules: Rule) -> tuple[Rule, ...]:
+    """``rules``, marked as members of ``group`` (published as one :class:`Jointly` where several apply)."""
+    for rule in rules:
+        rule.group = group
+    return rules

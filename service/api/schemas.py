@@ -6,14 +6,15 @@ from __future__ import annotations
 import marshmallow as ma
 
 from service.api.base import WarningSchema
-from service.api.fields import Number, ref, schema_name
-from service.api.outputs import unit_for
+from service.api.field_schemas import ref, schema_name
+from service.api.fields import Number
+from service.api.values import unit_for
 
 
 class QuantityOut(ma.fields.Field):
     """A physical output: {"value": number | [numbers], "unit": "..."}; null where it does not exist.
 
-    In the spec, the named ``QuantityOut`` schema (api.fields.named_schemas).
+    In the spec, the named ``QuantityOut`` schema (api.field_schemas.named_schemas).
     """
 
     def __init__(self, dimension: str, **kwargs):

@@ -24,8 +24,7 @@ import logging
 import marshmallow as ma
 from flask import Flask, Response, g
 
-from service.api import arrow, request_hooks, tables
-from service.api.outputs import CSV_MEDIA_TYPE
+from service.api import arrow, formats, request_hooks, tables
 from service.api.problems import PROBLEM_MEDIA_TYPE, Problem, problem_response
 
 log = logging.getLogger("qbar")
@@ -130,7 +129,7 @@ def error_examples(app: Flask) -> dict[int, dict[str, dict]]:
                                  "each located",
                                  dispatch(app, "POST", atmosphere + "?isa_deviation=hot",
                                           body=b"altitude [FL]\n100\n9000\n",
-                                          headers={"Content-Type": tables.CSV})),
+                                          headers={"Content-Type": formats.CSV})),
             "no-solution": ("Valid inputs whose result does not exist at some points",
                             _post_json(app, "/v1/airspeed/crossover", {"cas": [290, 600], "mach": [0.76, 0.5]})),
         },
@@ -218,7 +217,7 @@ def complete(app: Flask, generated: dict) -> dict:
 
 
 def _drop_unused_schemas(spec: dict) -> None:
-    """Leave out the component schemas nothing refers to (api.fields.named_schemas registers every
+    """Leave out the component schemas nothing refers to (api.field_schemas.named_schemas registers every
     dimension's types; a dimension no input uses needs no input types), so that generated clients hold no
     type nobody uses."""
     schemas = spec["components"]["schemas"]
@@ -262,7 +261,7 @@ def _compute_examples(app: Flask, path: str, request: dict, ok: dict, filler: _F
         if answer is None:
             continue
         json_examples[name] = {"summary": example["summary"], "value": answer}
-        table = _post_json(app, path, body, {"Accept": CSV_MEDIA_TYPE})
+        table = _post_json(app, path, body, {"Accept": formats.CSV})
         csv_examples[name] = {"summary": example["summary"], "value": table.get_data(as_text=True)}
         filler.fill(request["schema"], body)
         filler.fill(ok["content"][JSON_MEDIA_TYPE]["schema"], answer)
@@ -272,7 +271,7 @@ def _compute_examples(app: Flask, path: str, request: dict, ok: dict, filler: _F
                 filler.fill(ok["content"][JSON_MEDIA_TYPE]["schema"], grid)
     order = list(request["examples"])
     ok["content"][JSON_MEDIA_TYPE]["examples"] = {name: json_examples[name] for name in order if name in json_examples}
-    ok["content"][CSV_MEDIA_TYPE] = {"schema": {"type": "string", "description": CSV_DESCRIPTION},
+    ok["content"][formats.CSV] = {"schema": {"type": "string", "description": CSV_DESCRIPTION},
                                      "examples": {name: csv_examples[name] for name in order if name in csv_examples}}
     ok.setdefault("headers", {})["X-Warnings"] = _ref("X-Warnings")
 

@@ -8,7 +8,7 @@ from __future__ import annotations
 import marshmallow as ma
 import numpy as np
 
-from service.api import air
+from service.api import air_fields
 from service.api.fields import Quantity
 from service.api.speeds import SPEED_MAX_KT
 from service.physics import airspeed as spd
@@ -32,7 +32,7 @@ class SpeedLimitSchema(ma.Schema):
     cas = Quantity("speed", required=True, minimum=0.0, exclusive_minimum=True, maximum=SPEED_MAX_KT,
                    allow_array=False, metadata={"description": "The highest CAS allowed below `altitude` [kt].",
                                                 "example": 250})
-    altitude = air.Altitude(required=True, allow_array=False, metadata={
+    altitude = air_fields.Altitude(required=True, allow_array=False, metadata={
         "description": "The altitude below which the limit applies [ft] (strictly below: at the altitude itself the "
                        "schedule's CAS is flown), compared with `altitude` as given (the same kind: FL and ft are both "
                        "pressure altitudes here).", "example": 10000})

@@ -15,9 +15,9 @@ from service.api.fields import Number, Quantity, parse_numbers, ref
 from service.api.inputs import Inputs
 from service.api.lazy import lazy
 from service.api.masks import any_true, first_indices
-from service.api.outputs import require
 from service.api.problems import invalid
 from service.api.rules import ExactlyOne, Needs, NotTogether
+from service.api.values import require
 from service.physics import airspeed as spd
 from service.physics import humidity as hum
 from service.physics import total_temperature as tt
@@ -159,7 +159,7 @@ class Speeds:
         """With a total air temperature, the static temperature from it and the speed (closed form; then the
         Air's checks); and one validity range whatever the speed's form: the Mach number of a CAS, EAS or TAS
         within the range accepted for `mach`."""
-        if air.tat is not None:
+        if air.needs_temperature:  # the first speed at this air: later ones (found from it) take its temperature
             air.set_temperature(self._static_temperature(air))
         if self.given and self.kind != "mach":
             mach = self.mach
@@ -220,7 +220,10 @@ class Speeds:
 
     @lazy
     def q(self):
-        """Dynamic pressure (gamma/2) p M^2 = 1/2 rho V^2 [Pa]."""
+        """Dynamic pressure 1/2 rho V^2 [Pa]: (gamma/2) p M^2 in dry air; in moist air 1/2 rho V^2 with the moist
+        density (the Mach number is that of dry air's speed of sound, so the dry form would not hold)."""
+        if self.air.humid:
+            return 0.5 * self.air.rho * self.tas**2
         return spd.dynamic_pressure(self.mach, self.air.p)
 
     def require(self, name: str):

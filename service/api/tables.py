@@ -20,38 +20,26 @@ same limits, checks and problem documents apply; :meth:`Table.locate` then adds 
 JSON Pointer (``/altitude/value/3``) the ``column`` and ``row`` (0-based, as in ``indices``) or the
 query ``parameter`` it came from.
 
-Bounded work before refusing: the body size is checked by the caller; the row count is checked against
-the point limit before the rows are parsed (CSV: the line breaks are counted, an upper bound; Arrow: each
-record batch's declared length is read from its header before the batch is). Compressed Arrow buffers
-are refused (their size after decompression is not bounded by the body's).
+The body itself is read by api.table_readers (CSV or Arrow into columns, the row count checked against
+the point limit before the rows are parsed); its size is checked by the caller.
 """
 
 from __future__ import annotations
 
-import re
-import struct
 from collections.abc import Iterable
 from typing import NamedTuple
 
 import marshmallow as ma
-import numpy as np
 import orjson
-import pyarrow as pa
-import pyarrow.csv as pa_csv
 
 from service.api.arrow import ARROW_STREAM
 from service.api.fields import Number
-from service.api.masks import MAX_REPORTED
+from service.api.formats import CSV
 from service.api.problems import MAX_ERRORS, ErrorList, Problem, echo, invalid, pointer
+from service.api.table_readers import MAX_CELL_ERRORS, parse_header, read_arrow, read_csv
 
-CSV = "text/csv"
 #: The media types of a table body.
 TABLE_MEDIA_TYPES = (CSV, ARROW_STREAM)
-
-#: At most this many cells of one column are listed.
-MAX_CELL_ERRORS = MAX_REPORTED
-
-_HEADER = re.compile(r"\s*([^\[\]]*?)\s*(?:\[\s*([^\[\]]*?)\s*\])?\s*")
 
 
 class Source(NamedTuple):
@@ -117,18 +105,6 @@ class Table(NamedTuple):
         return problem
 
 
-def parse_header(text: str) -> tuple[str, str | None]:
-    """A column header: (field name, unit or None).
-
-    >>> parse_header("altitude [FL]"), parse_header(" mach "), parse_header("cas[kt]")
-    (('altitude', 'FL'), ('mach', None), ('cas', 'kt'))
-    """
-    match = _HEADER.fullmatch(text)
-    if match is None:
-        return text, None
-    return match.group(1), (match.group(2) if match.group(2) is not None else None)
-
-
 def column_fields(schema: ma.Schema) -> dict[str, Number]:
     """The fields of a request schema a table column may fill: its top-level numeric inputs."""
     return {field.data_key or name: field for name, field in schema.fields.items() if isinstance(field, Number)}
@@ -163,9 +139,9 @@ def read_table(body: bytes, media_type: str, schema: ma.Schema, params: Iterable
     data, sources, errors = read_params(params)
     fields = column_fields(schema)
     if media_type == CSV:
-        headers, columns, rows = _read_csv(body, max_points)
+        headers, columns, rows = read_csv(body, max_points)
     elif media_type == ARROW_STREAM:
-        headers, columns, rows = _read_arrow(body, max_points)
+        headers, columns, rows = read_arrow(body, max_points)
     else:
         raise ValueError(media_type)
     table = Table(data, sources, rows, media_type)
@@ -202,210 +178,6 @@ def read_table(body: bytes, media_type: str, schema: ma.Schema, params: Iterable
     if errors:
         raise table.locate(invalid(ErrorList(errors[:MAX_ERRORS], omitted=max(len(errors) - MAX_ERRORS, 0))))
     return table
-
-
-# --- CSV ---------------------------------------------------------------------------------------------
-
-_CSV_READ = pa_csv.ReadOptions(use_threads=False)
-_CSV_PARSE = pa_csv.ParseOptions(delimiter=",", newlines_in_values=False)
-#: Only an empty cell is missing; "NA", "null", "nan" are text and refused as such.
-_CSV_CONVERT = pa_csv.ConvertOptions(null_values=[""], strings_can_be_null=True, quoted_strings_can_be_null=True,
-                                     true_values=["true"], false_values=["false"])
-
-
-def count_lines(body: bytes) -> int:
-    """Data rows of a CSV body at most: its line breaks after the header (no row is parsed).
-
-    >>> count_lines(b"altitude\\r\\n0\\r\\n1000\\r\\n"), count_lines(b"altitude\\n0\\n1000"), count_lines(b"a")
-    (2, 2, 0)
-    """
-    breaks = max(body.count(b"\n"), body.count(b"\r"))
-    if body and not body.endswith((b"\n", b"\r")):
-        breaks += 1
-    return max(breaks - 1, 0)
-
-
-def _too_many_rows(rows: int, limit: int, *, exact: bool) -> Problem:
-    what = f"{rows} rows" if exact else f"{rows} lines after its header"
-    return Problem("payload-too-large", f"The table has {what}; the limit is {limit} points per request "
-                                        "(QBAR_MAX_POINTS).", extra={"limit": limit})
-
-
-def _read_csv(body: bytes, max_points: int):
-    lines = count_lines(body)
-    if lines > max_points:
-        raise _too_many_rows(lines, max_points, exact=False)
-    try:
-        table = pa_csv.read_csv(pa.py_buffer(body), read_options=_CSV_READ, parse_options=_CSV_PARSE,
-                                convert_options=_CSV_CONVERT)
-        names = table.column_names
-    except (pa.ArrowInvalid, pa.ArrowTypeError, UnicodeDecodeError) as err:
-        raise Problem("bad-request", f"The body is not a CSV table: {echo(_first_line(err))}") from None
-    if table.num_rows > max_points:  # lines are an upper bound: this cannot happen, but costs nothing
-        raise _too_many_rows(table.num_rows, max_points, exact=True)
-    headers = [(name, None) for name in names]
-    return headers, [_csv_numbers(column) for column in table.columns], table.num_rows
-
-
-def _first_line(err: Exception) -> str:
-    return str(err).strip().splitlines()[0] if str(err).strip() else type(err).__name__
-
-
-def _csv_numbers(column: pa.ChunkedArray) -> tuple[np.ndarray | None, list[tuple[int, str]]]:
-    """(float64 values, []) for a column of finite numbers; else (None, [(row, message), ...])."""
-    kind = column.type
-    if (pa.types.is_integer(kind) or pa.types.is_floating(kind)) and column.null_count == 0:
-        return _finite(np.array(column.to_numpy(), dtype=np.float64))
-    return None, _bad_cells(column)
-
-
-def _finite(values: np.ndarray) -> tuple[np.ndarray | None, list[tuple[int, str]]]:
-    bad = ~np.isfinite(values)
-    if not bad.any():
-        return values, []
-    rows = np.flatnonzero(bad)[:MAX_CELL_ERRORS]
-    return None, [(int(row), "Not a number: NaN." if np.isnan(values[row])
-                   else "Number out of the floating-point range.") for row in rows]
-
-
-def _bad_cells(column: pa.ChunkedArray) -> list[tuple[int, str]]:
-    """The first cells of a column that are not finite numbers (the error path: a Python loop is fine)."""
-    found = []
-    for row, cell in enumerate(column.to_pylist()):
-        message = _cell_message(cell)
-        if message:
-            found.append((row, message))
-            if len(found) >= MAX_CELL_ERRORS:
-                break
-    return found
-
-
-def _cell_message(cell) -> str | None:
-    if cell is None:
-        return "Empty cell: give a number."
-    if isinstance(cell, bool):
-        return "Not a number: a boolean."
-    if isinstance(cell, (int, float)):
-        return None if np.isfinite(cell) else "Number out of the floating-point range."
-    if isinstance(cell, str):
-        try:
-            value = float(cell)
-        except ValueError:
-            return f"Not a number: {echo(cell)}."
-        if value != value:
-            return "Not a number: NaN."
-        if value - value != 0.0:
-            return "Number out of the floating-point range."
-        return None
-    return f"Not a number: {echo(cell)}."
-
-
-# --- Arrow ------------------------------------------------------------------------------------------
-
-def _numeric(kind: pa.DataType) -> bool:
-    """The Arrow types a column of numbers may have: integers and floating point."""
-    return pa.types.is_integer(kind) or pa.types.is_floating(kind)
-
-
-def _message_header(metadata: bytes) -> tuple[int, int, bool]:
-    """(header type, record batch length, compressed) from an IPC message's flatbuffer metadata.
-
-    The layout is the Arrow columnar format's Message.fbs: a Message table (field 1: the header type,
-    3 for a RecordBatch; field 2: the header), whose RecordBatch table holds the length (field 0) and the
-    compression (field 3). Read here so that a batch's size is known before pyarrow materialises it.
-    """
-    def u(fmt, at):
-        if at < 0 or at + struct.calcsize(fmt) > len(metadata):
-            raise struct.error("out of bounds")
-        return struct.unpack_from(fmt, metadata, at)[0]
-
-    def table(at):
-        vtable = at - u("<i", at)
-        size = u("<H", vtable)
-
-        def field(index):
-            slot = 4 + 2 * index
-            if slot + 2 > size:
-                return None
-            offset = u("<H", vtable + slot)
-            return at + offset if offset else None
-        return field
-
-    message = table(u("<I", 0))
-    type_at = message(1)
-    kind = u("<B", type_at) if type_at is not None else 0
-    if kind != 3:
-        return kind, 0, False
-    header_at = message(2)
-    if header_at is None:
-        raise struct.error("no header")
-    batch = table(header_at + u("<I", header_at))
-    length_at = batch(0)
-    return kind, (u("<q", length_at) if length_at is not None else 0), batch(3) is not None
-
-
-def _read_arrow(body: bytes, max_points: int):
-    try:
-        reader = pa.ipc.MessageReader.open_stream(pa.BufferReader(pa.py_buffer(body)))
-        schema = pa.ipc.read_schema(reader.read_next_message())
-    except (pa.ArrowInvalid, StopIteration, OSError, TypeError) as err:
-        raise Problem("bad-request", f"The body is not an Arrow IPC stream: {echo(_first_line(err))}") from None
-    headers, errors = [], []
-    for field in schema:
-        unit = (field.metadata or {}).get(b"unit")
-        unit = unit.decode("utf-8", "replace") if unit is not None else None
-        header_field, header_unit = parse_header(field.name)
-        if unit is not None and header_unit is not None and unit != header_unit:
-            errors.append({"pointer": pointer(header_field), "column": field.name,
-                           "message": f"The header says {echo(header_unit)} and the field metadata "
-                                      f"{echo(unit)}: give one unit."})
-        if not _numeric(field.type):
-            errors.append({"pointer": pointer(header_field), "column": field.name,
-                           "message": f"Column of type {field.type}: give numbers (floating point or integer)."})
-        headers.append((field.name, unit))
-    if errors:
-        raise invalid(errors, detail="; ".join(f"column {e['column']!r}: {e['message'].rstrip('.')}"
-                                               for e in errors[:5]) + ".")
-    batches, rows = [], 0
-    while True:
-        try:
-            message = reader.read_next_message()
-        except StopIteration:
-            break
-        except (pa.ArrowInvalid, OSError) as err:
-            raise Problem("bad-request", f"The body is not an Arrow IPC stream: {echo(_first_line(err))}") from None
-        try:
-            kind, length, compressed = _message_header(message.metadata.to_pybytes())
-        except struct.error:
-            raise Problem("bad-request", "The body is not an Arrow IPC stream: a message header is damaged.") from None
-        if kind != 3:
-            raise Problem("bad-request", f"The Arrow stream holds a {message.type} message; send record batches of "
-                                         "numeric columns only.")
-        if compressed:
-            raise Problem("bad-request", "The Arrow stream's buffers are compressed (their size after "
-                                         "decompression is not bounded by the body's); send it uncompressed.")
-        rows += length
-        if rows > max_points:
-            raise _too_many_rows(rows, max_points, exact=True)
-        try:
-            batch = pa.ipc.read_record_batch(message, schema)
-            batch.validate(full=True)
-        except (pa.ArrowInvalid, OSError) as err:
-            raise Problem("bad-request", f"The body is not an Arrow IPC stream: {echo(_first_line(err))}") from None
-        batches.append(batch)
-    columns = []
-    for index in range(len(schema)):
-        chunks = [batch.column(index) for batch in batches]
-        columns.append(_arrow_numbers(pa.chunked_array(chunks, type=schema.field(index).type)))
-    return headers, columns, rows
-
-
-def _arrow_numbers(column: pa.ChunkedArray) -> tuple[np.ndarray | None, list[tuple[int, str]]]:
-    if column.null_count:
-        nulls = np.flatnonzero(column.is_null().to_numpy(zero_copy_only=False))[:MAX_CELL_ERRORS]
-        return None, [(int(row), "Null: give a number.") for row in nulls]
-    values = np.array(column.to_numpy(), dtype=np.float64) if len(column) else np.empty(0)
-    return _finite(values)
 
 
 # --- the spec ---------------------------------------------------------------------------------------

@@ -59,7 +59,7 @@ from typing import NamedTuple
 import numpy as np
 
 from . import single_point as one
-from .arrays import any_true, result
+from .arrays import any_true, check_table, interp_inside, result
 from .atmosphere import density, pressure_altitude, speed_of_sound
 from .constants import A0, GAMMA, P0, RHO0
 
@@ -732,40 +732,8 @@ def check_calibration(table_ias, table_cas):
     ----------
     .. [1] ICAO Doc 7488/3, 1993 (for the CAS it leads to).
     """
-    columns = []
-    for name, column in (("table_ias", table_ias), ("table_cas", table_cas)):
-        a = np.asarray(column, dtype=float)
-        if a.ndim != 1:
-            raise ValueError(f"calibration {name} must be 1-D, got {a.ndim} dimensions")
-        if a.size < 2:
-            raise ValueError(f"calibration {name} needs at least 2 rows, got {a.size}")
-        if not np.all(np.isfinite(a)):
-            row = int(np.flatnonzero(~np.isfinite(a))[0])
-            raise ValueError(f"calibration {name} must be finite (row {row}: {a[row]:g})")
-        if not np.all(a > 0.0):
-            row = int(np.flatnonzero(a <= 0.0)[0])
-            raise ValueError(f"calibration {name} must be positive (row {row}: {a[row]:g})")
-        steps = np.diff(a)
-        if not np.all(steps > 0.0):
-            row = int(np.flatnonzero(steps <= 0.0)[0]) + 1
-            raise ValueError(
-                f"calibration {name} must be strictly increasing "
-                f"(row {row}: {a[row]:g} after {a[row - 1]:g})"
-            )
-        columns.append(a)
-    if columns[0].size != columns[1].size:
-        raise ValueError(
-            "calibration table_ias and table_cas must have the same length, "
-            f"got {columns[0].size} and {columns[1].size}"
-        )
-    return columns[0], columns[1]
-
-
-def _interp_inside(x, xp, fp):
-    """np.interp, with NaN outside [xp[0], xp[-1]] instead of np.interp's clamping."""
-    x = np.asarray(x, dtype=float)
-    y = np.interp(x, xp, fp)
-    return result(np.where((x >= xp[0]) & (x <= xp[-1]), y, np.nan))
+    return check_table("calibration", {"table_ias": table_ias, "table_cas": table_cas},
+                       increasing=("table_ias", "table_cas"))
 
 
 def ias_to_cas(ias, table_ias, table_cas):
@@ -811,7 +779,7 @@ def ias_to_cas(ias, table_ias, table_cas):
     .. [1] ICAO Doc 7488/3, 1993 (for the CAS it leads to).
     """
     table_ias, table_cas = check_calibration(table_ias, table_cas)
-    return _interp_inside(ias, table_ias, table_cas)
+    return interp_inside(ias, table_ias, table_cas)
 
 
 def cas_to_ias(cas, table_ias, table_cas):
@@ -853,7 +821,7 @@ def cas_to_ias(cas, table_ias, table_cas):
     .. [1] ICAO Doc 7488/3, 1993 (for the CAS it leads to).
     """
     table_ias, table_cas = check_calibration(table_ias, table_cas)
-    return _interp_inside(cas, table_cas, table_ias)
+    return interp_inside(cas, table_cas, table_ias)
 
 
 class SpeedSchedule(NamedTuple):

@@ -33,6 +33,7 @@ from __future__ import annotations
 
 import numpy as np
 
+from .arrays import result
 from .atmosphere import pressure_altitude, standard_pressure
 from .constants import LAYER_LAPSE_RATES, T0
 
@@ -269,4 +270,4 @@ def temperature_correction(height, elevation, temperature):
     else:
         x = np.where(np.abs(step) > CORRECTION_TOL, np.nan, x)
     correction = x - height
-    return correction[()] if correction.ndim == 0 else correction
+    return result(correction)

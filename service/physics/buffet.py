@@ -32,7 +32,7 @@ from typing import NamedTuple
 
 import numpy as np
 
-from .arrays import result
+from .arrays import check_table, interp_inside, result
 from .atmosphere import pressure_altitude
 from .constants import GAMMA, P0
 
@@ -72,27 +72,7 @@ def check_buffet_table(table_mach, table_cl):
     ----------
     1. Anderson, *Introduction to Flight* (the lift coefficient).
     """
-    columns = []
-    for name, column in (("mach", table_mach), ("cl", table_cl)):
-        a = np.asarray(column, dtype=float)
-        if a.ndim != 1:
-            raise ValueError(f"buffet table {name} must be 1-D, got {a.ndim} dimensions")
-        if a.size < 2:
-            raise ValueError(f"buffet table {name} needs at least 2 rows, got {a.size}")
-        bad = ~np.isfinite(a) | (a <= 0.0)
-        if bad.any():
-            row = int(np.flatnonzero(bad)[0])
-            raise ValueError(f"buffet table {name} must be finite and positive (row {row}: {a[row]:g})")
-        columns.append(a)
-    mach, cl = columns
-    if mach.size != cl.size:
-        raise ValueError(f"buffet table mach and cl must have the same length, got {mach.size} and {cl.size}")
-    steps = np.diff(mach)
-    if not np.all(steps > 0.0):
-        row = int(np.flatnonzero(steps <= 0.0)[0]) + 1
-        raise ValueError(f"buffet table mach must be strictly increasing (row {row}: {mach[row]:g} after "
-                         f"{mach[row - 1]:g})")
-    return mach, cl
+    return check_table("buffet table", {"mach": table_mach, "cl": table_cl}, increasing=("mach",))
 
 
 def buffet_cl(mach, table_mach, table_cl):
@@ -124,10 +104,7 @@ def buffet_cl(mach, table_mach, table_cl):
     ----------
     1. Anderson, *Introduction to Flight* (the lift coefficient).
     """
-    mach = np.asarray(mach, dtype=float)
-    table_mach = np.asarray(table_mach, dtype=float)
-    inside = (mach >= table_mach[0]) & (mach <= table_mach[-1])
-    return np.where(inside, np.interp(mach, table_mach, table_cl), np.nan)[()]
+    return interp_inside(mach, np.asarray(table_mach, dtype=float), table_cl)
 
 
 class BuffetMargins(NamedTuple):

@@ -17,6 +17,8 @@ import math
 G0 = 9.80665
 #: Specific gas constant of dry air [J/(kg K)] (ICAO Doc 7488/3: R* / M = 287.05287).
 R_AIR = 287.05287
+#: Mean molar mass of dry air [kg/mol] (U.S. Standard Atmosphere 1976, table 2: M0 = 28.9644 kg/kmol).
+M0 = 28.9644e-3
 #: Ratio of specific heats of dry air [-] (ICAO Doc 7488/3: kappa = 1.4).
 GAMMA = 1.4
 #: Sea-level standard temperature [K] (ICAO Doc 7488/3).

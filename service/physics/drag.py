@@ -40,7 +40,7 @@ from typing import NamedTuple
 import numpy as np
 
 from .arrays import result
-from .constants import RHO0
+from .lift import eas_from_dynamic_pressure, lift_coefficient, required_dynamic_pressure
 
 __all__ = [
     "POLAR_MACH_LIMIT",
@@ -75,6 +75,11 @@ def _f(x):
     return np.asarray(x, dtype=float)
 
 
+def _tas_at(q, rho):
+    """True airspeed of dynamic pressure ``q`` at density ``rho``, ``V = sqrt(2 q / rho)`` [m/s]."""
+    return np.sqrt(2.0 * q / _f(rho))
+
+
 # --- The polar ------------------------------------------------------------------------
 
 
@@ -105,7 +110,7 @@ def induced_drag_factor(aspect_ratio, oswald_efficiency):
     1. Anderson, *Introduction to Flight*, chapter 5 (induced drag, span efficiency).
     """
     with np.errstate(divide="ignore"):
-        return (1.0 / (math.pi * _f(aspect_ratio) * _f(oswald_efficiency)))[()]
+        return result(1.0 / (math.pi * _f(aspect_ratio) * _f(oswald_efficiency)))
 
 
 def drag_coefficient(cl, cd0, k):
@@ -137,7 +142,7 @@ def drag_coefficient(cl, cd0, k):
     1. Anderson, *Introduction to Flight*, chapter 6 (the drag polar).
     """
     cl = _f(cl)
-    return (_f(cd0) + _f(k) * cl * cl)[()]
+    return result(_f(cd0) + _f(k) * cl * cl)
 
 
 def lift_to_drag(cl, cd0, k):
@@ -169,7 +174,7 @@ def lift_to_drag(cl, cd0, k):
     1. Anderson, *Introduction to Flight*, chapter 6.
     """
     with np.errstate(divide="ignore", invalid="ignore"):
-        return (_f(cl) / _f(drag_coefficient(cl, cd0, k)))[()]
+        return result(_f(cl) / _f(drag_coefficient(cl, cd0, k)))
 
 
 def aerodynamic_force(q, area, coefficient):
@@ -200,7 +205,7 @@ def aerodynamic_force(q, area, coefficient):
     ----------
     1. Anderson, *Introduction to Flight*, chapter 5 (force coefficients).
     """
-    return (_f(q) * _f(area) * _f(coefficient))[()]
+    return result(_f(q) * _f(area) * _f(coefficient))
 
 
 def power_required(drag, tas):
@@ -229,7 +234,7 @@ def power_required(drag, tas):
     ----------
     1. Anderson, *Introduction to Flight*, chapter 6 (power required).
     """
-    return (_f(drag) * _f(tas))[()]
+    return result(_f(drag) * _f(tas))
 
 
 def beyond_polar_range(mach, mach_limit=POLAR_MACH_LIMIT):
@@ -257,7 +262,7 @@ def beyond_polar_range(mach, mach_limit=POLAR_MACH_LIMIT):
     ----------
     1. Anderson, *Aircraft Performance and Design*, chapter 2 (drag divergence).
     """
-    return (_f(mach) > _f(mach_limit))[()]
+    return result(_f(mach) > _f(mach_limit))
 
 
 # --- Characteristic conditions ----------------------------------------------------------
@@ -293,7 +298,7 @@ def minimum_drag_cl(cd0, k):
        required).
     """
     with np.errstate(divide="ignore", invalid="ignore"):  # no value (NaN) for a negative ratio
-        return np.sqrt(_f(cd0) / _f(k))[()]
+        return result(np.sqrt(_f(cd0) / _f(k)))
 
 
 def minimum_power_cl(cd0, k):
@@ -326,7 +331,7 @@ def minimum_power_cl(cd0, k):
        required).
     """
     with np.errstate(divide="ignore", invalid="ignore"):  # no value (NaN) for a negative ratio
-        return np.sqrt(3.0 * _f(cd0) / _f(k))[()]
+        return result(np.sqrt(3.0 * _f(cd0) / _f(k)))
 
 
 def max_lift_to_drag(cd0, k):
@@ -356,7 +361,7 @@ def max_lift_to_drag(cd0, k):
     1. Anderson, *Introduction to Flight*, chapter 6.
     """
     with np.errstate(divide="ignore", invalid="ignore"):  # no value (NaN) for a negative product
-        return (0.5 / np.sqrt(_f(cd0) * _f(k)))[()]
+        return result(0.5 / np.sqrt(_f(cd0) * _f(k)))
 
 
 class LevelCondition(NamedTuple):
@@ -428,12 +433,13 @@ def flight_condition(weight, wing_area, q, tas, cd0, k, load_factor=1.0):
     ----------
     1. Anderson, *Introduction to Flight*, chapter 6 (thrust and power required).
     """
-    q, tas, cd0, k = _f(q), _f(tas), _f(cd0), _f(k)
+    q, tas = _f(q), _f(tas)
     with np.errstate(divide="ignore", over="ignore", invalid="ignore"):  # beyond the float range: inf or NaN
-        cl = _f(load_factor) * _f(weight) / (q * _f(wing_area))
-        cd = cd0 + k * cl * cl
-        drag = q * _f(wing_area) * cd
-        arrays = np.broadcast_arrays(cl, cd, cl / cd, q, np.sqrt(2.0 * q / RHO0), tas, drag, drag * tas)
+        cl = lift_coefficient(weight, load_factor, q, wing_area)
+        cd = drag_coefficient(cl, cd0, k)
+        drag = aerodynamic_force(q, wing_area, cd)
+        arrays = np.broadcast_arrays(cl, cd, cl / cd, q, eas_from_dynamic_pressure(q), tas, drag,
+                                     power_required(drag, tas))
     return LevelCondition(*map(result, arrays))
 
 
@@ -479,8 +485,8 @@ def level_condition(weight, wing_area, cl, cd0, k, rho, load_factor=1.0):
     1. Anderson, *Introduction to Flight*, chapter 6 (thrust and power required).
     """
     with np.errstate(divide="ignore", over="ignore"):
-        q = _f(load_factor) * _f(weight) / (_f(wing_area) * _f(cl))
-        tas = np.sqrt(2.0 * q / _f(rho))
+        q = required_dynamic_pressure(weight, load_factor, wing_area, cl)
+        tas = _tas_at(q, rho)
     return flight_condition(weight, wing_area, q, tas, cd0, k, load_factor)
 
 
@@ -642,9 +648,9 @@ def best_glide(weight, wing_area, cd0, k, rho):
     ratio = _f(max_lift_to_drag(cd0, k))
     with np.errstate(divide="ignore", invalid="ignore"):
         gamma = np.arctan(1.0 / ratio)
-        q = _f(weight) * np.cos(gamma) / (_f(wing_area) * cl)
-        tas = np.sqrt(2.0 * q / _f(rho))
-    arrays = np.broadcast_arrays(ratio, gamma, cl, np.sqrt(2.0 * q / RHO0), tas, tas * np.sin(gamma))
+        q = required_dynamic_pressure(weight, np.cos(gamma), wing_area, cl)  # L = W cos(gamma)
+        tas = _tas_at(q, rho)
+    arrays = np.broadcast_arrays(ratio, gamma, cl, eas_from_dynamic_pressure(q), tas, tas * np.sin(gamma))
     return GlideCondition(*map(result, arrays))
 
 
@@ -680,4 +686,4 @@ def glide_distance(height, glide_ratio):
     ----------
     1. Anderson, *Introduction to Flight*, chapter 6 (range in a glide).
     """
-    return (_f(height) * _f(glide_ratio))[()]
+    return result(_f(height) * _f(glide_ratio))

@@ -35,7 +35,7 @@ from __future__ import annotations
 
 import numpy as np
 
-from .constants import R_AIR
+from .constants import M0, R_AIR
 
 __all__ = [
     "EPSILON",
@@ -66,10 +66,8 @@ T_SAT_MIN = 173.15
 T_SAT_MAX = 373.15
 #: Molar mass of water [kg/mol] (IAPWS; CIPM-2007 equation for the density of moist air).
 M_WATER = 18.01528e-3
-#: Molar mass of dry air [kg/mol] (U.S. Standard Atmosphere 1976, M0 = 28.9644 kg/kmol).
-M_DRY_AIR = 28.9644e-3
-#: Ratio of the molar masses of water and dry air, epsilon = Mw / Md [-] (about 0.622).
-EPSILON = M_WATER / M_DRY_AIR
+#: Ratio of the molar masses of water and dry air, epsilon = Mw / M0 [-] (about 0.622; M0: constants).
+EPSILON = M_WATER / M0
 
 
 def saturation_vapour_pressure(T):

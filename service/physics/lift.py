@@ -165,6 +165,18 @@ def bank_from_load_factor(n):
 # --- Algebraic solves of n W = q S CL ------------------------------------------------
 
 
+def _lift_over(weight, load_factor, a, b):
+    """``n W / (a b)``: the term of ``q S C_L`` that is not ``a`` or ``b``."""
+    return result(np.asarray(load_factor, dtype=float) * np.asarray(weight, dtype=float)
+                  / (np.asarray(a, dtype=float) * np.asarray(b, dtype=float)))
+
+
+def _lift_per(q, wing_area, cl, term):
+    """``q S C_L / term``: the lift per unit load factor (the weight) or per unit weight (the load factor)."""
+    return result(np.asarray(q, dtype=float) * np.asarray(wing_area, dtype=float) * np.asarray(cl, dtype=float)
+                  / np.asarray(term, dtype=float))
+
+
 def lift_coefficient(weight, load_factor, q, wing_area):
     """Lift coefficient that carries ``n W`` at dynamic pressure ``q``.
 
@@ -199,12 +211,7 @@ def lift_coefficient(weight, load_factor, q, wing_area):
     ----------
     1. Anderson, *Introduction to Flight*, the lift equation.
     """
-    cl = (
-        np.asarray(load_factor, dtype=float)
-        * np.asarray(weight, dtype=float)
-        / (np.asarray(q, dtype=float) * np.asarray(wing_area, dtype=float))
-    )
-    return result(cl)
+    return _lift_over(weight, load_factor, q, wing_area)
 
 
 def required_dynamic_pressure(weight, load_factor, wing_area, cl):
@@ -241,12 +248,7 @@ def required_dynamic_pressure(weight, load_factor, wing_area, cl):
     ----------
     1. Anderson, *Introduction to Flight*, the lift equation.
     """
-    q = (
-        np.asarray(load_factor, dtype=float)
-        * np.asarray(weight, dtype=float)
-        / (np.asarray(wing_area, dtype=float) * np.asarray(cl, dtype=float))
-    )
-    return result(q)
+    return _lift_over(weight, load_factor, wing_area, cl)
 
 
 def weight_supported(q, wing_area, cl, load_factor):
@@ -283,13 +285,7 @@ def weight_supported(q, wing_area, cl, load_factor):
     ----------
     1. Anderson, *Introduction to Flight*, the lift equation.
     """
-    weight = (
-        np.asarray(q, dtype=float)
-        * np.asarray(wing_area, dtype=float)
-        * np.asarray(cl, dtype=float)
-        / np.asarray(load_factor, dtype=float)
-    )
-    return result(weight)
+    return _lift_per(q, wing_area, cl, load_factor)
 
 
 def wing_area_required(weight, load_factor, q, cl):
@@ -326,12 +322,7 @@ def wing_area_required(weight, load_factor, q, cl):
     ----------
     1. Anderson, *Introduction to Flight*, the lift equation.
     """
-    area = (
-        np.asarray(load_factor, dtype=float)
-        * np.asarray(weight, dtype=float)
-        / (np.asarray(q, dtype=float) * np.asarray(cl, dtype=float))
-    )
-    return result(area)
+    return _lift_over(weight, load_factor, q, cl)
 
 
 def load_factor_supported(q, wing_area, cl, weight):
@@ -369,13 +360,7 @@ def load_factor_supported(q, wing_area, cl, weight):
     ----------
     1. Anderson, *Introduction to Flight*, the lift equation and the V-n diagram.
     """
-    n = (
-        np.asarray(q, dtype=float)
-        * np.asarray(wing_area, dtype=float)
-        * np.asarray(cl, dtype=float)
-        / np.asarray(weight, dtype=float)
-    )
-    return result(n)
+    return _lift_per(q, wing_area, cl, weight)
 
 
 # --- Dynamic pressure and equivalent airspeed ---------------------------------------

@@ -28,13 +28,12 @@ import math
 
 import numpy as np
 
-from .constants import EARTH_RADIUS, G0
+from .constants import EARTH_RADIUS, G0, M0
 
 __all__ = [
     "AVOGADRO",
     "COLLISION_DIAMETER",
     "GAS_CONSTANT",
-    "MOLAR_MASS",
     "collision_frequency",
     "gravity",
     "mean_free_path",
@@ -48,8 +47,6 @@ __all__ = [
 AVOGADRO = 6.022169e23
 #: Universal gas constant [J/(mol K)] (U.S. Standard Atmosphere 1976, table 2: 8.31432e3 J/(kmol K)).
 GAS_CONSTANT = 8.31432
-#: Mean molar mass of sea-level air [kg/mol] (U.S. Standard Atmosphere 1976, table 2: 28.9644 kg/kmol).
-MOLAR_MASS = 28.9644e-3
 #: Effective collision diameter of an air molecule [m] (U.S. Standard Atmosphere 1976, table 2).
 COLLISION_DIAMETER = 3.65e-10
 #: Coefficient of the thermal-conductivity law [W/(m K^1.5)] (U.S. Standard Atmosphere 1976, eq. 53).
@@ -60,7 +57,7 @@ CONDUCTIVITY_S = 245.4
 CONDUCTIVITY_EXPONENT = 12.0
 
 _CROSS_SECTION = math.sqrt(2.0) * math.pi * COLLISION_DIAMETER**2  # sqrt(2) pi sigma^2 [m^2]
-_SPECIFIC_R = GAS_CONSTANT / MOLAR_MASS  # R* / M0 [J/(kg K)]
+_SPECIFIC_R = GAS_CONSTANT / M0  # R* / M0 [J/(kg K)]
 
 
 def gravity(h):
@@ -160,7 +157,7 @@ def mean_particle_speed(T):
     return np.sqrt(np.multiply(T, 8.0 * _SPECIFIC_R / math.pi))
 
 
-def mean_free_path(p, T):
+def mean_free_path(p, T, n=None):
     r"""Mean distance a molecule travels between collisions.
 
     .. math:: L = \frac{1}{\sqrt{2}\,\pi\,\sigma^2\,n}
@@ -171,6 +168,8 @@ def mean_free_path(p, T):
         Static pressure [Pa].
     T : float or array_like
         Temperature [K].
+    n : float or array_like, optional
+        The number density at ``p`` and ``T`` when the caller has it already (:func:`number_density`).
 
     Returns
     -------
@@ -191,10 +190,10 @@ def mean_free_path(p, T):
     ----------
     .. [1] U.S. Standard Atmosphere 1976, eq. 55.
     """
-    return np.reciprocal(np.multiply(number_density(p, T), _CROSS_SECTION))
+    return np.reciprocal(np.multiply(number_density(p, T) if n is None else n, _CROSS_SECTION))
 
 
-def collision_frequency(p, T):
+def collision_frequency(p, T, speed=None, path=None):
     r"""Mean number of collisions per second of one molecule: mean speed over mean free path.
 
     .. math:: \nu = \frac{\bar V}{L} = 4 N_A \sigma^2 \sqrt{\frac{\pi}{R^* M_0}}\,\frac{p}{\sqrt{T}}
@@ -205,6 +204,8 @@ def collision_frequency(p, T):
         Static pressure [Pa].
     T : float or array_like
         Temperature [K].
+    speed, path : float or array_like, optional
+        The mean particle speed and mean free path at ``p`` and ``T`` when the caller has them already.
 
     Returns
     -------
@@ -224,7 +225,7 @@ def collision_frequency(p, T):
     ----------
     .. [1] U.S. Standard Atmosphere 1976, eq. 56.
     """
-    return np.divide(mean_particle_speed(T), mean_free_path(p, T))
+    return np.divide(mean_particle_speed(T) if speed is None else speed, mean_free_path(p, T) if path is None else path)
 
 
 def pressure_scale_height(T, g):

@@ -45,6 +45,11 @@ CP = GAMMA * R_AIR / (GAMMA - 1.0)
 _HALF_GAMMA_MINUS_1 = 0.5 * (GAMMA - 1.0)
 
 
+def _recovered_ratio(M, r):
+    """``TAT / T = 1 + r (gamma - 1) / 2 M^2`` [-]."""
+    return 1.0 + np.multiply(r, _HALF_GAMMA_MINUS_1) * np.square(M)
+
+
 def total_air_temperature(T, M, r=1.0):
     r"""Total air temperature a probe of recovery factor ``r`` reads at Mach ``M``.
 
@@ -81,7 +86,7 @@ def total_air_temperature(T, M, r=1.0):
     .. [1] NACA Report 1135, eq. 43.
     .. [2] W. Gracey, NASA RP-1046, 1980, ch. 13.
     """
-    return np.multiply(T, 1.0 + np.multiply(r, _HALF_GAMMA_MINUS_1) * np.square(M))
+    return np.multiply(T, _recovered_ratio(M, r))
 
 
 def static_temperature_from_mach(TAT, M, r=1.0):
@@ -117,7 +122,7 @@ def static_temperature_from_mach(TAT, M, r=1.0):
     ----------
     .. [1] NACA Report 1135, eq. 43.
     """
-    return np.divide(TAT, 1.0 + np.multiply(r, _HALF_GAMMA_MINUS_1) * np.square(M))
+    return np.divide(TAT, _recovered_ratio(M, r))
 
 
 def ram_rise(V, r=1.0):

@@ -6,7 +6,7 @@ from __future__ import annotations
 import marshmallow as ma
 import numpy as np
 
-from service.api import air, examples
+from service.api import air, air_fields, examples
 from service.api.base import COMPUTE_PROBLEMS
 from service.api.fields import Number, parse_numbers
 from service.api.inputs import ComputeSchema, outputs_field
@@ -97,11 +97,15 @@ class BuffetRequest(ComputeSchema):
     wing_area.required = True  # the shared field factories make optional fields
     mach = mach_field("Inside the `buffet` table's Mach range (nothing is extrapolated).")
     mach.required = True
-    altitude = air.altitude_field(_ALTITUDE)
-    isa_deviation = air.isa_deviation_field()
-    temperature = air.temperature_field()
-    qnh = air.qnh_field()
-    altitude_kind = air.altitude_kind_field()
+    altitude = air_fields.altitude_field(_ALTITUDE)
+    isa_deviation = air_fields.isa_deviation_field()
+    temperature = air_fields.temperature_field()
+    qnh = air_fields.qnh_field()
+    altitude_kind = air_fields.altitude_kind_field()
+    total_air_temperature = air_fields.total_air_temperature_field()
+    recovery_factor = air_fields.recovery_factor_field()
+    dew_point = air_fields.dew_point_field()
+    relative_humidity = air_fields.relative_humidity_field()
     buffet = BuffetTableField(required=True, metadata={
         "description": "The type's 1 g buffet-onset boundary from its flight manual: CL against Mach, linear "
                        "between rows. A Mach number outside the table is refused (nothing is extrapolated).",
@@ -126,7 +130,9 @@ def buffet(inputs):
     flight, the buffet-onset CL, the load factor and level-turn bank angle to buffet onset, and W/delta; with a
     required `margin` (a load factor, e.g. 1.3) the highest altitude at this weight and the highest weight at this
     altitude that keep it. At a fixed Mach number CL depends on the static pressure only, so the margins and limits
-    do not depend on the temperature. Arrays broadcast; `grid: true` takes their outer product.
+    depend neither on the temperature nor on the humidity (accepted, as everywhere the air is computed; the TAS
+    depends on the static temperature, which a total air temperature gives with the Mach number). Arrays broadcast;
+    `grid: true` takes their outer product.
     """
     result = Result(inputs)
     mach, (table_mach, table_cl) = inputs.si("mach"), inputs.get("buffet")
@@ -136,12 +142,13 @@ def buffet(inputs):
         raise invalid([{"pointer": "/mach", "message": f"Mach number outside the buffet table's range, "
                         f"{table_mach[0]:g} to {table_mach[-1]:g}{at}; nothing is extrapolated."}])
     state = air.air(inputs)
+    speeds = Speeds(state, "mach", mach)  # with a total air temperature, the static temperature from the Mach number
     margin = inputs.si("margin")
     b = buffet_margins(inputs.si("weight"), inputs.si("wing_area"), mach, state.p, table_mach, table_cl, margin)
     for name in inputs.outputs:
         if name in WITH_MARGIN and margin is None:
             continue
-        value = Speeds(state, "mach", mach).require(name) if name in ("cas", "tas") else getattr(b, name)
+        value = speeds.require(name) if name in ("cas", "tas") else getattr(b, name)
         if name == "bank_to_buffet":
             value = result.null_where(name, value, "Beyond buffet onset already in 1 g flight (load factor to "
                                                    "buffet below 1): no level turn reaches it.")

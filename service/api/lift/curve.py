@@ -25,9 +25,10 @@ from service.api.lift.common import (
     output_needs,
 )
 from service.api.masks import any_true
-from service.api.outputs import Result, require
+from service.api.outputs import Result
 from service.api.rules import Given, NotTogether
 from service.api.schemas import FlagOut, response_schema
+from service.api.values import require
 from service.physics import wing
 
 CURVE_OUTPUTS = {

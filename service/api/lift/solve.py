@@ -11,7 +11,7 @@ from functools import partial
 import marshmallow as ma
 import numpy as np
 
-from service.api import air, examples
+from service.api import air, air_fields, examples
 from service.api.base import COMPUTE_PROBLEMS
 from service.api.examples import TQ62_WING
 from service.api.fields import Number
@@ -42,8 +42,9 @@ from service.api.lift.common import (
     wing_area_field,
 )
 from service.api.masks import any_true
-from service.api.outputs import Result, require
-from service.api.rules import Cases, Given, Never, NoneOf, RuleSchema
+from service.api.outputs import Result
+from service.api.rule_schema import Jointly, RuleSchema
+from service.api.rules import Cases, Given, Never, NoneOf
 from service.api.schemas import FlagOut, LabelOut, response_schema
 from service.api.speeds import (
     CALIBRATION_NEEDS_IAS,
@@ -56,8 +57,10 @@ from service.api.speeds import (
     one_speed,
     speed_field,
 )
+from service.api.values import require
 from service.physics import atmosphere as atm
 from service.physics import lift as lf
+from service.physics import total_temperature as tt
 from service.physics import wing
 from service.physics.constants import H_MAX, H_MIN
 from service.units import from_si
@@ -83,7 +86,7 @@ SOLVE_OUTPUTS = {
     "mach": (None, "Mach number [-]."),
     "pressure_altitude": ("altitude", "Pressure altitude [ft]."),
     "density_altitude": ("altitude", "Density altitude [ft]; null (with a warning) outside the model's range."),
-    "density": ("density", "Air density [kg/m3]."),
+    "density": ("density", "Air density (at the virtual temperature with `dew_point` or `relative_humidity`) [kg/m3]."),
     "total_air_temperature": ("temperature", "Total air temperature a probe of recovery factor r reads at this "
                                              "speed, T (1 + r (gamma-1)/2 M^2) [degC]."),
     "ram_rise": ("temperature_difference", "Ram rise: the total air temperature minus the static temperature [K]."),
@@ -99,6 +102,13 @@ GIVEN_BY = {"cl": ("cl",), "weight": ("weight",), "wing_area": ("wing_area",),
             "load_factor": ("load_factor", "bank_angle"), "speed": KINDS, "altitude": ("altitude",)}
 
 
+def _dry_for_altitude(name: str) -> str:
+    """Why an altitude solve from a TAS takes no humidity (the message on ``name``, the field given)."""
+    return ("Solving for altitude from a TAS takes dry air: the pressure altitude follows from the density the lift "
+            "needs through the dry-air gas law, which is not inverted for moist air at an altitude still unknown. "
+            f"Leave out {name}, or give a Mach number or CAS (the altitude then follows from the pressure alone).")
+
+
 def _solve_case(unknown: str):
     """(inputs needed, message when missing, rules) of solving for ``unknown``."""
     rules = [NoneOf(*GIVEN_BY[unknown], message=lambda name: f"{name} is given, but solve_for is {unknown!r}: "
@@ -111,7 +121,9 @@ def _solve_case(unknown: str):
             "eas": "At a given EAS the dynamic pressure is 1/2 rho0 EAS^2 at every altitude, so the lift equation "
                    "does not fix the altitude. Give a Mach number, TAS or CAS instead."}),
                   Never(Given("altitude_kind", value={"altitude_kind": "geometric"}), "altitude_kind",
-                        "Solving for altitude gives a pressure altitude; leave out altitude_kind.")]
+                        "Solving for altitude gives a pressure altitude; leave out altitude_kind."),
+                  Jointly(*(Never(Given("tas", name), name, _dry_for_altitude(name))
+                            for name in air_fields.HUMIDITY_FIELDS))]
     needed = tuple(name for name in LIFT_INPUTS if name != unknown)
     return needed, f"Missing: needed to solve for {unknown}.", tuple(rules)
 
@@ -158,9 +170,13 @@ class LiftSolveRequest(ComputeSchema):
     tas = speed_field("tas", _SPEED_NOTE)
     mach = mach_field(_SPEED_NOTE)
     calibration = calibration_field()
-    altitude, isa_deviation, temperature, qnh, altitude_kind = air.air_fields(
+    altitude, isa_deviation, temperature, qnh, altitude_kind = air_fields.air_fields(
         "Altitude [ft]: a pressure altitude (FL allowed), or the indicated altitude with `qnh`, or a geometric height "
         "with `altitude_kind: geometric`. Required unless solving for altitude.", required=False)
+    total_air_temperature = air_fields.total_air_temperature_field()
+    recovery_factor = air_fields.recovery_factor_field()
+    dew_point = air_fields.dew_point_field()
+    relative_humidity = air_fields.relative_humidity_field()
     load_factor = LOAD_FACTOR
     bank_angle = BANK_ANGLE
     wing = ma.fields.Nested(LiftWingSchema, metadata={
@@ -229,7 +245,11 @@ class Solution:
                       f"{_MODEL_RANGE}.")
         elif kind == "tas":
             rho = lf.density_for_tas(self.q, value)
-            if "temperature" in self.inputs:  # the gas law gives the pressure at once
+            if "total_air_temperature" in self.inputs:  # the static temperature from the TAT and the TAS, closed form
+                T = tt.static_temperature_from_tas(self.inputs.si("total_air_temperature"), value,
+                                                   self.inputs.si("recovery_factor", 1.0))
+                H = atm.pressure_altitude(lf.pressure_for_density(rho, T))
+            elif "temperature" in self.inputs:  # the gas law gives the pressure at once
                 H = atm.pressure_altitude(lf.pressure_for_density(rho, self.inputs.si("temperature")))
             else:
                 H = lf.pressure_altitude_for_density(rho, self.inputs.si("isa_deviation", 0.0))
@@ -243,6 +263,7 @@ class Solution:
                              "altitude, so this altitude is very sensitive to the inputs: 1 % in weight, CL or speed "
                              "can move it by thousands of feet. Prefer a Mach number or TAS where one is known.")
         speeds.air = air.air_at(self.inputs, require("pressure_altitude", H, reason))
+        speeds.check(speeds.air)  # the static temperature from a TAT; the given speed within the range of `mach`
         return speeds.air, speeds
 
     def speed(self, name: str):
@@ -311,10 +332,12 @@ def solve(inputs):
     inputs, with every related quantity filled in: lift, weight, load factor and level-turn bank angle, CL, wing
     area and loading, dynamic pressure, CAS, EAS, TAS, Mach, pressure and density altitude, density, and with a
     `wing` block the angle of attack. Solving for altitude: with a Mach number the pressure altitude follows from
-    p = n W / ((gamma/2) M^2 S CL); with a TAS from the density (and the ISA deviation); with a CAS or IAS by a
-    root find (sensitive to the inputs, with a warning); with an EAS it has no answer, since q = 1/2 rho0 EAS^2 at
-    every altitude. The solved-for value must exist at every point (else a 422); other values that do not exist
-    are null with a warning. Arrays broadcast; `grid: true` takes their outer product.
+    p = n W / ((gamma/2) M^2 S CL); with a TAS from the density (and the ISA deviation, the temperature or the
+    TAT; dry air); with a CAS or IAS by a root find (sensitive to the inputs, with a warning); with an EAS it has
+    no answer, since q = 1/2 rho0 EAS^2 at every altitude. A dew point or relative humidity makes the air moist
+    (the density at the virtual temperature); a total air temperature gives the static temperature from the speed
+    given or found (closed form). The solved-for value must exist at every point (else a 422); other values that
+    do not exist are null with a warning. Arrays broadcast; `grid: true` takes their outer product.
     """
     result = Result(inputs)
     solution = Solution(inputs, result)

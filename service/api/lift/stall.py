@@ -4,7 +4,7 @@ from __future__ import annotations
 
 import marshmallow as ma
 
-from service.api import air, examples
+from service.api import air, air_fields, examples, ranges
 from service.api.air import Air
 from service.api.base import COMPUTE_PROBLEMS
 from service.api.fields import Number, Quantity, parse_numbers
@@ -21,8 +21,8 @@ from service.api.lift.common import (
     wing_area_field,
 )
 from service.api.masks import any_true, first_indices
-from service.api.outputs import Leaf, Result, require
-from service.api.rules import Either, Given
+from service.api.outputs import Leaf, Result
+from service.api.rules import Either, Given, NeedsAny
 from service.api.schemas import quantity_out, ratio_out, response_schema
 from service.api.speeds import (
     AT_MOST_ONE_SPEED,
@@ -36,6 +36,7 @@ from service.api.speeds import (
     mach_field,
     speed_field,
 )
+from service.api.values import require
 from service.physics import lift as lf
 
 #: The most speed factors one stall request may ask for (each multiplies the size of the answer).
@@ -72,8 +73,8 @@ class StallReferenceSchema(ma.Schema):
         "description": "The 1 g stall speed as a calibrated airspeed (CAS), as the flight manual gives it [kt].",
         "example": 108})
     weight = weight_field("The weight at which `stall_speed` holds", required=True, example=22000)
-    altitude = air.altitude_field("Pressure altitude at which `stall_speed` holds [ft] (FL allowed); default the "
-                                  "request's pressure altitude.", required=False, example=0)
+    altitude = air_fields.altitude_field("Pressure altitude at which `stall_speed` holds [ft] (FL allowed); default "
+                                         "the request's pressure altitude.", required=False, example=0)
 
 
 STALL_OUTPUTS = ("stall", "multiples", "margin")
@@ -89,6 +90,8 @@ class LiftStallRequest(ComputeSchema):
         AT_MOST_ONE_SPEED, CALIBRATION_NEEDS_IAS, IAS_NEEDS_CALIBRATION,
         output_needs("multiples", Given("speed_factors"), "`speed_factors`"),
         output_needs("margin", Given(any_of=KINDS), "a speed (ias, cas, eas, tas or mach)"),
+        NeedsAny("total_air_temperature", KINDS, message="A total air temperature gives the static temperature "
+                 "through the speed it was read at: give that speed (one of ias, cas, eas, tas, mach)."),
     )
 
     weight = weight_field("Weight", required=True)
@@ -101,14 +104,20 @@ class LiftStallRequest(ComputeSchema):
                        "at its altitude, scaled by sqrt(weight / reference weight). Arrays here broadcast against "
                        "the points (length 1 or the number of points).",
         "example": {"stall_speed": 108, "weight": 22000, "altitude": 0}})
-    altitude, isa_deviation, temperature, qnh, altitude_kind = air.air_fields(
+    altitude, isa_deviation, temperature, qnh, altitude_kind = air_fields.air_fields(
         "Altitude [ft]: a pressure altitude (FL allowed), or the indicated altitude with `qnh`, or a geometric height "
         "with `altitude_kind: geometric`.")
+    total_air_temperature = air_fields.total_air_temperature_field()
+    recovery_factor = air_fields.recovery_factor_field()
+    dew_point = air_fields.dew_point_field()
+    relative_humidity = air_fields.relative_humidity_field()
     load_factor = LOAD_FACTOR
     bank_angle = BANK_ANGLE
     speed_factors = SpeedFactors(metadata={
         "description": "Multiples of the stall speed at this load factor, e.g. [1.13, 1.23, 1.3] (not a grid axis; "
-                       f"at most {MAX_SPEED_FACTORS}); each gives an entry of `multiples`.", "example": [1.13, 1.3]})
+                       f"at most {MAX_SPEED_FACTORS}); each gives an entry of `multiples`. Each factor adds a row "
+                       "per point to the answer, so the point limit (QBAR_MAX_POINTS) counts points x (1 + the "
+                       "number of factors).", "example": [1.13, 1.3]})
     ias = speed_field("ias", "Optional, for `margin`: one speed of ias, cas, eas, tas, mach.")
     cas = speed_field("cas", "Optional, for `margin`.")
     eas = speed_field("eas", "Optional, for `margin`.")
@@ -116,6 +125,14 @@ class LiftStallRequest(ComputeSchema):
     mach = mach_field("Optional, for `margin`.")
     calibration = calibration_field()
     outputs = outputs_field(STALL_OUTPUTS)
+
+    def points_worth(self, data: dict, points: int) -> tuple[int, str]:
+        """Each speed factor adds a row per point to the answer (an entry of `multiples`): the point limit
+        counts points x (1 + the number of speed factors), from the raw list's length, before anything is read."""
+        factors = ranges.length(data["speed_factors"]) if "speed_factors" in data else 0
+        if not factors:
+            return points, ""
+        return points * (1 + factors), f"{points} points x (1 + {factors} speed factors)"
 
 
 class LiftStallSpeedsOut(ma.Schema):
@@ -187,11 +204,16 @@ def stall(inputs):
     the altitude and temperature: from the weight, wing area and CLmax, or from a flight-manual reference stall
     speed (CAS at a weight and altitude) scaled by sqrt(W / W_ref). `speed_factors` give multiples of it (applied
     to the EAS, with CL/CLmax = 1/k^2). With a speed of any kind, `margin` gives the load factor at which that
-    speed is the stall speed, the steepest level turn there, and CL/CLmax. Arrays broadcast; `grid: true` takes
-    their outer product.
+    speed is the stall speed, the steepest level turn there, and CL/CLmax. A dew point or relative humidity makes
+    the air moist (the density, so the TAS of each EAS, at the virtual temperature); a total air temperature read
+    at the given speed gives the static temperature. Arrays broadcast; `grid: true` takes their outer product.
     """
     result = Result(inputs)
     state = air.air(inputs)
+    kind = given_speed(inputs)
+    # the given speed first: with a total air temperature, the static temperature follows from it
+    given = (Speeds(state, kind, inputs.si(kind), inputs.get("calibration"))
+             if kind is not None and (inputs.wants("margin") or state.tat is not None) else None)
     n = load_factor(inputs)
     vs_1g, vs_n = _stall_eas(inputs, state, n)
     if inputs.wants("stall"):
@@ -208,10 +230,8 @@ def stall(inputs):
             for i in range(factors.size)])
         if any_true(factors < 1.0):
             result.warn("multiples", "A speed factor below 1 is below the stall speed: CL/CLmax is above 1 there.")
-    kind = given_speed(inputs)
-    if kind is not None and inputs.wants("margin"):
-        eas = Speeds(state, kind, inputs.si(kind), inputs.get("calibration")).eas
-        eas = require("margin", eas, f"the {kind} given has no EAS here.")
+    if given is not None and inputs.wants("margin"):
+        eas = require("margin", given.eas, f"the {kind} given has no EAS here.")
         stall_n = lf.stall_load_factor(eas, vs_1g)
         fraction = lf.cl_fraction(eas / vs_n)
         if any_true(fraction > 1.0):

@@ -2,7 +2,7 @@
 
 from __future__ import annotations
 
-from service.api import air, examples
+from service.api import air, air_fields, examples
 from service.api.base import COMPUTE_PROBLEMS
 from service.api.fields import Number, Quantity
 from service.api.inputs import ComputeSchema, outputs_field
@@ -57,11 +57,15 @@ class TurnRequest(ComputeSchema):
     tas = speed_field("tas", _ONE_SPEED)
     mach = mach_field(_ONE_SPEED)
     calibration = calibration_field()
-    altitude = air.altitude_field(_ALTITUDE)
-    isa_deviation = air.isa_deviation_field()
-    temperature = air.temperature_field()
-    qnh = air.qnh_field()
-    altitude_kind = air.altitude_kind_field()
+    altitude = air_fields.altitude_field(_ALTITUDE)
+    isa_deviation = air_fields.isa_deviation_field()
+    temperature = air_fields.temperature_field()
+    qnh = air_fields.qnh_field()
+    altitude_kind = air_fields.altitude_kind_field()
+    total_air_temperature = air_fields.total_air_temperature_field()
+    recovery_factor = air_fields.recovery_factor_field()
+    dew_point = air_fields.dew_point_field()
+    relative_humidity = air_fields.relative_humidity_field()
     bank_angle = BANK_ANGLE
     load_factor = Number(minimum=1.0, metadata={
         "description": "Load factor n of the level turn [-], at least 1. " + _ONE_TURN, "example": 1.5})
@@ -84,7 +88,9 @@ def turn(inputs):
     At a speed of any kind (turned into TAS at the altitude and air) and one of the bank angle, the load factor or
     the rate of turn (3 deg/s is the standard rate): tan(bank) = sqrt(n^2 - 1) = rate x TAS / g, the radius TAS^2 /
     (g tan(bank)) and the time for a full turn 2 pi / rate. Level, coordinated and steady; g is the standard 9.80665
-    m/s2. Arrays broadcast; `grid: true` takes their outer product.
+    m/s2. The static temperature from an ISA deviation, an outside air temperature or a total air temperature (with
+    the speed given); a dew point or relative humidity makes the air moist (the TAS of an EAS at the virtual
+    temperature). Arrays broadcast; `grid: true` takes their outer product.
     """
     result = Result(inputs)
     kind = given_speed(inputs)
