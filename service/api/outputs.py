@@ -69,10 +69,8 @@ class Result:
             mask = np.isnan(values)
         mask = np.asarray(mask)
         if any_true(mask):
-            if mask.shape != values.shape:
-                values = np.array(np.broadcast_to(values, np.broadcast_shapes(values.shape, mask.shape)))
-            else:
-                values = values.copy()
+            # a copy, as wide as the mask when the values are narrower (a constant output over varying points)
+            values = np.array(np.broadcast_to(values, np.broadcast_shapes(values.shape, mask.shape)))
             values[mask] = np.nan
             self.warn(field, message, mask)
             previous = self._null_masks.get(field)
