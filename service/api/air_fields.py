@@ -193,3 +193,10 @@ def recovery_factor_field() -> Number:
                                "or leave it out."})), metadata={
         "description": "Recovery factor r of the total-temperature probe [-], 0.5 to 1: the fraction of the ram "
                        "rise it reads. Default 1. Only with `total_air_temperature`.", "example": 0.98})
+
+
+def probe_and_humidity_fields():
+    """The four fields of a probe's total air temperature and of the air's water vapour, in a request's order:
+    ``total_air_temperature, recovery_factor, dew_point, relative_humidity = probe_and_humidity_fields()`` in a
+    schema's body (their rules come with them)."""
+    return total_air_temperature_field(), recovery_factor_field(), dew_point_field(), relative_humidity_field()

@@ -89,10 +89,7 @@ class AirspeedRequest(ComputeSchema):
     altitude = air_fields.altitude_field(_ALTITUDE)
     isa_deviation = air_fields.isa_deviation_field()
     temperature = air_fields.temperature_field()
-    total_air_temperature = air_fields.total_air_temperature_field()
-    recovery_factor = air_fields.recovery_factor_field()
-    dew_point = air_fields.dew_point_field()
-    relative_humidity = air_fields.relative_humidity_field()
+    total_air_temperature, recovery_factor, dew_point, relative_humidity = air_fields.probe_and_humidity_fields()
     calibration = calibration_field()
     outputs = outputs_field(OUTPUTS)
 

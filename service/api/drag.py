@@ -157,10 +157,7 @@ class DragRequest(_PolarInputs, ComputeSchema):
     temperature = air_fields.temperature_field()
     qnh = air_fields.qnh_field()
     altitude_kind = air_fields.altitude_kind_field()
-    total_air_temperature = air_fields.total_air_temperature_field()
-    recovery_factor = air_fields.recovery_factor_field()
-    dew_point = air_fields.dew_point_field()
-    relative_humidity = air_fields.relative_humidity_field()
+    total_air_temperature, recovery_factor, dew_point, relative_humidity = air_fields.probe_and_humidity_fields()
     load_factor = LOAD_FACTOR
     bank_angle = BANK_ANGLE
     outputs = outputs_field(DRAG_OUTPUTS)
@@ -236,10 +233,7 @@ class DragSpeedsRequest(_PolarInputs, ComputeSchema):
     temperature = air_fields.temperature_field()
     qnh = air_fields.qnh_field()
     altitude_kind = air_fields.altitude_kind_field()
-    total_air_temperature = air_fields.total_air_temperature_field()
-    recovery_factor = air_fields.recovery_factor_field()
-    dew_point = air_fields.dew_point_field()
-    relative_humidity = air_fields.relative_humidity_field()
+    total_air_temperature, recovery_factor, dew_point, relative_humidity = air_fields.probe_and_humidity_fields()
     height = Quantity("altitude", minimum=0.0, exclusive_minimum=True, maximum=HEIGHT_MAX_FT, metadata={
         "description": "Optional: height to lose in a glide [ft]; `best_glide` then gives the still-air glide "
                        "distance from it.", "example": 25000})

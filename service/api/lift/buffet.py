@@ -102,10 +102,7 @@ class BuffetRequest(ComputeSchema):
     temperature = air_fields.temperature_field()
     qnh = air_fields.qnh_field()
     altitude_kind = air_fields.altitude_kind_field()
-    total_air_temperature = air_fields.total_air_temperature_field()
-    recovery_factor = air_fields.recovery_factor_field()
-    dew_point = air_fields.dew_point_field()
-    relative_humidity = air_fields.relative_humidity_field()
+    total_air_temperature, recovery_factor, dew_point, relative_humidity = air_fields.probe_and_humidity_fields()
     buffet = BuffetTableField(required=True, metadata={
         "description": "The type's 1 g buffet-onset boundary from its flight manual: CL against Mach, linear "
                        "between rows. A Mach number outside the table is refused (nothing is extrapolated).",

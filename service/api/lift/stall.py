@@ -107,10 +107,7 @@ class LiftStallRequest(ComputeSchema):
     altitude, isa_deviation, temperature, qnh, altitude_kind = air_fields.air_fields(
         "Altitude [ft]: a pressure altitude (FL allowed), or the indicated altitude with `qnh`, or a geometric height "
         "with `altitude_kind: geometric`.")
-    total_air_temperature = air_fields.total_air_temperature_field()
-    recovery_factor = air_fields.recovery_factor_field()
-    dew_point = air_fields.dew_point_field()
-    relative_humidity = air_fields.relative_humidity_field()
+    total_air_temperature, recovery_factor, dew_point, relative_humidity = air_fields.probe_and_humidity_fields()
     load_factor = LOAD_FACTOR
     bank_angle = BANK_ANGLE
     speed_factors = SpeedFactors(metadata={

@@ -62,10 +62,7 @@ class TurnRequest(ComputeSchema):
     temperature = air_fields.temperature_field()
     qnh = air_fields.qnh_field()
     altitude_kind = air_fields.altitude_kind_field()
-    total_air_temperature = air_fields.total_air_temperature_field()
-    recovery_factor = air_fields.recovery_factor_field()
-    dew_point = air_fields.dew_point_field()
-    relative_humidity = air_fields.relative_humidity_field()
+    total_air_temperature, recovery_factor, dew_point, relative_humidity = air_fields.probe_and_humidity_fields()
     bank_angle = BANK_ANGLE
     load_factor = Number(minimum=1.0, metadata={
         "description": "Load factor n of the level turn [-], at least 1. " + _ONE_TURN, "example": 1.5})
