@@ -311,6 +311,8 @@ def to_si(values, dimension: str, unit: str):
     u = lookup(dimension, unit)
     if u.factor == 1.0 and u.offset == 0.0:
         return values
+    if type(values) is np.float64:  # one number: the same arithmetic, without a ufunc call's overhead
+        return values * u.factor + u.offset if u.offset else values * u.factor
     out = np.multiply(values, u.factor)
     if u.offset:
         out += u.offset

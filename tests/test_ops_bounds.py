@@ -138,8 +138,33 @@ def test_cors_answers_vary_on_origin(origins, origin):
     for response in (client.get("/v1/health", headers=headers),
                      client.post("/v1/atmosphere", json={"altitude": 0}, headers=headers)):
         assert "Origin" in response.vary  # a cache must key on it: the CORS headers depend on it
+        assert "Accept-Encoding" in response.vary  # and on the encoding asked for, small answer or not
 
 
 def test_without_cors_nothing_varies_on_origin():
     response = create_app({"TESTING": True}).test_client().get("/v1/health")
     assert "Origin" not in response.vary
+
+
+# --- the app's own Flask class ---------------------------------------------------------------
+
+def test_an_async_view_or_hook_is_refused_when_the_app_is_built():
+    """service.QbarFlask calls views and hooks as they are (no per-request coroutine check): an ``async def``
+    one would never run, so building an app with one fails, naming it."""
+    app = create_app({"TESTING": True})
+    app.check_sync()  # the service's own views and hooks are plain functions
+
+    async def slow_view():
+        return "never awaited"
+
+    app.add_url_rule("/async", "async_view", slow_view)
+    with pytest.raises(TypeError, match="slow_view is async"):
+        app.check_sync()
+    app = create_app({"TESTING": True})
+
+    async def hook():
+        return None
+
+    app.before_request(hook)
+    with pytest.raises(TypeError, match="hook is async"):
+        app.check_sync()

@@ -244,11 +244,10 @@ class Quantity(Number):
                 self._check_ends(value, lo, hi, lambda: self.describe_range(lo, hi, unit))
             return Value(units.to_si(array, self.dimension, unit), unit, self.dimension, True)
         if type(value) is dict:
-            missing = {"value", "unit"} - value.keys()
-            extra = value.keys() - {"value", "unit"}
-            errors = {k: [_MISSING_IN_OBJECT[k].format(units=", ".join(self.dim.units))] for k in sorted(missing)}
-            errors.update({k: ["Unknown field."] for k in sorted(extra)})
-            if errors:
+            if len(value) != 2 or "value" not in value or "unit" not in value:
+                missing = {"value", "unit"} - value.keys()
+                errors = {k: [_MISSING_IN_OBJECT[k].format(units=", ".join(self.dim.units))] for k in sorted(missing)}
+                errors.update({k: ["Unknown field."] for k in sorted(value.keys() - {"value", "unit"})})
                 raise ma.ValidationError(errors)
             unit = self._unit(value["unit"])
             try:
@@ -269,12 +268,20 @@ class Quantity(Number):
                 raise
             si_lo, si_hi = getattr(bounds, "si", (None, None))
         si = units.to_si(array, self.dimension, unit)
-        if si_hi is not None and not self.exclusive_maximum:
+        clip_hi = si_hi is not None and not self.exclusive_maximum
+        clip_lo = si_lo is not None and not self.exclusive_minimum
+        if not is_array:  # one number: the same clip in plain Python (a NumPy ufunc costs a microsecond a call)
+            si = float(si)
+            if clip_hi and si > si_hi:
+                si = si_hi
+            if clip_lo and si < si_lo:
+                si = si_lo
+            return Value(np.float64(si), unit, self.dimension, False, array)
+        if clip_hi:
             si = np.minimum(si, si_hi)
-        if si_lo is not None and not self.exclusive_minimum:
+        if clip_lo:
             si = np.maximum(si, si_lo)
-        return Value(np.asarray(si, dtype=np.float64) if is_array else np.float64(si), unit, self.dimension, is_array,
-                     array)
+        return Value(np.asarray(si, dtype=np.float64), unit, self.dimension, True, array)
 
 
 class OutputUnits(ma.fields.Field):

@@ -50,6 +50,7 @@ class Result:
         self._warning_masks: dict[str, np.ndarray] = {}  # field -> the points its warning covers (Result.warn)
         self._null_masks: dict[str, object] = {}  # output -> where null_where made it null
         self._units_used: set = set()  # the output_units keys that set the unit of something written
+        self._output_units: dict[str, tuple] = {}  # dimension -> (unit name, Unit), for this answer
 
     def wants(self, name: str) -> bool:
         return self.inputs.wants(name)
@@ -109,18 +110,14 @@ class Result:
         else a C-contiguous array of the points; ``{"value", "unit"}`` for JSON, else ``(values, unit)``.
 
         An input echoed in its output unit is written as given; ``significant_digits`` rounds."""
-        unit = None if leaf.dimension is None else unit_for(leaf.dimension, self.inputs.output_units)
-        if unit is not None:
-            self._units_used.add(chosen_by(leaf.dimension, self.inputs.output_units))
+        unit, u = (None, None) if leaf.dimension is None else self._output_unit(leaf.dimension)
         source, convert = leaf.si, unit is not None
         if leaf.given is not None and leaf.given_unit == unit:  # an input in its output unit: as given
             source, convert = leaf.given, False
         if self.shape == ():
             value = source.item() if hasattr(source, "item") else source
-            if convert:
-                u = units.DIMENSIONS[leaf.dimension].units[unit]
-                if value is not None and (u.factor != 1.0 or u.offset):
-                    value = (value - u.offset) / u.factor
+            if convert and value is not None and (u.factor != 1.0 or u.offset):
+                value = (value - u.offset) / u.factor
         else:
             si = units.from_si(source, leaf.dimension, unit) if convert else source
             value = np.asarray(si)
@@ -135,6 +132,17 @@ class Result:
         if json:
             return value if unit is None else {"value": value, "unit": unit}
         return value, unit
+
+    def _output_unit(self, dimension: str) -> tuple[str, units.Unit]:
+        """The output unit of ``dimension`` in this answer, its name and Unit, found once per dimension (and the
+        ``output_units`` key that chose it noted as used)."""
+        found = self._output_units.get(dimension)
+        if found is None:
+            chosen = self.inputs.output_units
+            name = unit_for(dimension, chosen)
+            self._units_used.add(chosen_by(dimension, chosen))
+            found = self._output_units[dimension] = (name, units.DIMENSIONS[dimension].units[name])
+        return found
 
     def _check_finite(self, path: str, value):
         """A 422 (no solution) where an output is not a finite number and no null_where made it null.

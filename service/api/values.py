@@ -43,6 +43,9 @@ def no_solution(field: str, mask, reason: str) -> Problem:
 
 def require(field: str, values, reason: str):
     """``values``, or the no-solution 422 naming ``field`` where they are not finite (a primary result)."""
+    kind = type(values)
+    if (kind is float or kind is np.float64) and values - values == 0.0:  # one finite number, without a ufunc
+        return values
     bad = ~np.isfinite(values)
     if any_true(bad):
         raise no_solution(field, bad, reason)
