@@ -99,22 +99,23 @@ def read_body() -> tuple[bytes, str]:
     one byte over the limit for a chunked body): werkzeug's stream wrapper would read in 64 KiB
     chunks, a Python call per chunk, and cut a chunked body at the limit without a word.
     """
-    mimetype = request.mimetype
+    req = request._get_current_object()  # the request once, not a context lookup per attribute
+    mimetype = req.mimetype
     if mimetype not in BODY_MEDIA_TYPES and not mimetype.endswith("+json"):
         shown = mimetype or "none"
         raise Problem("unsupported-media-type",
                       f"Content-Type is {echo(shown)}; send the body as JSON with 'Content-Type: application/json' "
                       f"(or a table as {' or '.join(tables.TABLE_MEDIA_TYPES)}).")
-    charset = request.mimetype_params.get("charset")
+    charset = req.mimetype_params.get("charset")
     if mimetype == tables.CSV and charset is not None and charset.lower().replace("-", "") != "utf8":
         raise Problem("unsupported-media-type", f"A CSV body is read as UTF-8; charset {echo(charset)} is not.")
     limit = current_app.config["QBAR_MAX_BODY_BYTES"]
-    length = request.content_length
+    length = req.content_length
     if length is not None and length > limit:
         raise Problem("payload-too-large",
                       f"The body has {length} bytes; the limit is {limit} bytes (QBAR_MAX_BODY_BYTES).",
                       extra={"limit": limit}, headers=CLOSE)
-    stream = request.environ["wsgi.input"]
+    stream = req.environ["wsgi.input"]
     body = stream.read(length if length is not None else limit + 1)
     if len(body) > limit:
         raise Problem("payload-too-large",
