@@ -324,9 +324,10 @@ def from_si(values, dimension: str, unit: str):
     u = lookup(dimension, unit)
     if u.factor == 1.0 and u.offset == 0.0:
         return values
-    if u.offset:
-        return np.subtract(values, u.offset) / u.factor
-    return np.divide(values, u.factor)
+    with np.errstate(over="ignore"):  # beyond the float range: infinity, which the answer's writer refuses (422)
+        if u.offset:
+            return np.subtract(values, u.offset) / u.factor
+        return np.divide(values, u.factor)
 
 
 def bound_in(dimension: str, unit: str, si: float, *, upper: bool, exclusive: bool = False) -> float:
