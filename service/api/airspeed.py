@@ -10,7 +10,7 @@ from service.api import air, air_fields, examples
 from service.api import speed_limit as limits
 from service.api.base import COMPUTE_PROBLEMS, Blueprint
 from service.api.inputs import ComputeSchema, outputs_field
-from service.api.masks import any_true, first_indices
+from service.api.masks import any_true, at_points
 from service.api.outputs import Leaf, Result
 from service.api.rules import Given, OutputNeeds
 from service.api.schemas import LabelOut, quantity_out, response_schema
@@ -186,7 +186,7 @@ def _beyond_model(cas, mach, missing, indices: bool = True) -> str:
     for mask, where, lower in ((missing & below, "below it", "the Mach number"),
                                (missing & ~below, "above it", "the CAS")):
         if any_true(mask):
-            at = f" at points {first_indices(mask)}" if indices and np.ndim(mask) else ""
+            at = at_points(mask) if indices else ""
             parts.append(f"{where}{at}, so {lower} is the lower speed at every altitude")
     return f"outside {_RANGE}: " + "; ".join(parts)
 

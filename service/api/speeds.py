@@ -11,10 +11,11 @@ import numpy as np
 
 from service.api.air import Air, refuse_where
 from service.api.examples import TQ62_CALIBRATION
-from service.api.fields import Number, Quantity, parse_numbers, ref
+from service.api.fields import Number, Quantity, ref
 from service.api.inputs import Inputs
 from service.api.lazy import lazy
-from service.api.masks import any_true, first_indices
+from service.api.masks import any_true, at_points
+from service.api.numbers import table_columns
 from service.api.problems import invalid
 from service.api.rules import ExactlyOne, Needs, NotTogether
 from service.api.values import require
@@ -22,7 +23,7 @@ from service.physics import airspeed as spd
 from service.physics import humidity as hum
 from service.physics import total_temperature as tt
 from service.physics.constants import GAMMA, RHO0
-from service.units import UnitError, canonical, from_si, to_si
+from service.units import from_si, to_si
 
 #: The speed inputs, in the order a request is checked for them.
 KINDS = ("ias", "cas", "eas", "tas", "mach")
@@ -58,33 +59,7 @@ class CalibrationField(ma.fields.Field):
     """``calibration``: {"ias": [...], "cas": [...], "unit": "kt"}, both columns strictly increasing."""
 
     def _deserialize(self, value, attr, data, **kwargs):
-        if type(value) is not dict:
-            raise ma.ValidationError("Give an object {\"ias\": [...], \"cas\": [...], \"unit\": \"kt\"}.")
-        errors = {}
-        unknown = value.keys() - {"ias", "cas", "unit"}
-        for key in sorted(unknown):
-            errors[key] = ["Unknown field."]
-        unit = value.get("unit", "kt")
-        try:
-            unit = canonical("speed", unit)
-        except UnitError as err:
-            errors["unit"] = [str(err)]
-        columns = {}
-        for key in ("ias", "cas"):
-            if key not in value:
-                errors[key] = ["Missing data for required field."]
-                continue
-            try:
-                column, is_array = parse_numbers(value[key])
-            except ma.ValidationError as err:
-                errors[key] = err.messages
-                continue
-            if not is_array:
-                errors[key] = ["Give an array of at least two speeds."]
-                continue
-            columns[key] = column
-        if errors:
-            raise ma.ValidationError(errors)
+        columns, unit = table_columns(value, ("ias", "cas"), "speeds", unit=("speed", "kt"))
         try:  # in the given unit (a positive factor keeps the checks), so messages quote the request's numbers
             spd.check_calibration(columns["ias"], columns["cas"])
         except ValueError as err:
@@ -147,9 +122,8 @@ class Speeds:
             outside = np.isnan(cas)
             if any_true(outside):
                 lo, hi = from_si(calibration[0][[0, -1]], "speed", "kt")
-                at = f" at points {first_indices(outside)}" if np.ndim(outside) else ""
-                raise invalid([{"pointer": "/ias", "message": f"IAS outside the calibration table's IAS column, "
-                                f"{lo:g} to {hi:g} kt{at}; nothing is extrapolated."}])
+                raise invalid({"/ias": f"IAS outside the calibration table's IAS column, {lo:g} to {hi:g} kt"
+                                       f"{at_points(outside)}; nothing is extrapolated."})
             self.__dict__["cas"] = cas
         self.given = given
         if air is not None:

@@ -4,14 +4,14 @@ altitude and weight for a required margin."""
 from __future__ import annotations
 
 import marshmallow as ma
-import numpy as np
 
 from service.api import air, air_fields, examples
 from service.api.base import COMPUTE_PROBLEMS
-from service.api.fields import Number, parse_numbers
+from service.api.fields import Number
 from service.api.inputs import ComputeSchema, outputs_field
 from service.api.lift.common import blp, output_needs, weight_field, wing_area_field
-from service.api.masks import any_true, first_indices
+from service.api.masks import any_true, at_points
+from service.api.numbers import table_columns
 from service.api.outputs import Result
 from service.api.problems import invalid
 from service.api.rules import Given
@@ -28,25 +28,7 @@ class BuffetTableField(ma.fields.Field):
     """``buffet``: {"mach": [...], "cl": [...]}, the type's 1 g buffet-onset CL against Mach."""
 
     def _deserialize(self, value, attr, data, **kwargs):
-        if type(value) is not dict:
-            raise ma.ValidationError("Give an object {\"mach\": [...], \"cl\": [...]}.")
-        errors = {key: ["Unknown field."] for key in sorted(value.keys() - {"mach", "cl"})}
-        columns = {}
-        for key in ("mach", "cl"):
-            if key not in value:
-                errors[key] = ["Missing data for required field."]
-                continue
-            try:
-                column, is_array = parse_numbers(value[key])
-            except ma.ValidationError as err:
-                errors[key] = err.messages
-                continue
-            if not is_array:
-                errors[key] = ["Give an array of at least two numbers."]
-                continue
-            columns[key] = column
-        if errors:
-            raise ma.ValidationError(errors)
+        columns, _ = table_columns(value, ("mach", "cl"), "numbers")
         try:
             return check_buffet_table(columns["mach"], columns["cl"])
         except ValueError as err:
@@ -135,9 +117,8 @@ def buffet(inputs):
     mach, (table_mach, table_cl) = inputs.si("mach"), inputs.get("buffet")
     outside = (mach < table_mach[0]) | (mach > table_mach[-1])
     if any_true(outside):
-        at = f" at points {first_indices(outside)}" if np.ndim(outside) else ""
-        raise invalid([{"pointer": "/mach", "message": f"Mach number outside the buffet table's range, "
-                        f"{table_mach[0]:g} to {table_mach[-1]:g}{at}; nothing is extrapolated."}])
+        raise invalid({"/mach": f"Mach number outside the buffet table's range, {table_mach[0]:g} to "
+                                f"{table_mach[-1]:g}{at_points(outside)}; nothing is extrapolated."})
     state = air.air(inputs)
     speeds = Speeds(state, "mach", mach)  # with a total air temperature, the static temperature from the Mach number
     margin = inputs.si("margin")
