@@ -23,6 +23,7 @@ from service.api.speeds import (
     mach_field,
     one_speed,
     speed_field,
+    speed_fields,
 )
 from service.api.values import no_solution, unit_for
 from service.physics import airspeed as spd
@@ -81,11 +82,7 @@ class AirspeedRequest(ComputeSchema):
              OutputNeeds("ias", Given("calibration"),
                          "The output ias needs `calibration` (the airspeed system's IAS -> CAS table)."))
 
-    ias = speed_field("ias", _ONE_OF + " Arrays allowed.")
-    cas = speed_field("cas", _ONE_OF + " Arrays allowed.")
-    eas = speed_field("eas", _ONE_OF + " Arrays allowed.")
-    tas = speed_field("tas", _ONE_OF + " Arrays allowed.")
-    mach = mach_field(_ONE_OF)
+    ias, cas, eas, tas, mach = speed_fields(_ONE_OF, " Arrays allowed.")
     altitude = air_fields.altitude_field(_ALTITUDE)
     isa_deviation = air_fields.isa_deviation_field()
     temperature = air_fields.temperature_field()
@@ -165,10 +162,8 @@ CROSSOVER_OUTPUTS = {
 class CrossoverRequest(ComputeSchema):
     OUTPUTS = CROSSOVER_OUTPUTS
 
-    cas = speed_field("cas", "The CAS of the pair. Arrays allowed.")
-    cas.required = True  # the shared field factories make optional fields
-    mach = mach_field("The Mach number of the pair.")
-    mach.required = True
+    cas = speed_field("cas", "The CAS of the pair. Arrays allowed.", required=True)
+    mach = mach_field("The Mach number of the pair.", required=True)
     outputs = outputs_field(CROSSOVER_OUTPUTS)
 
 
@@ -238,10 +233,8 @@ _SCHEDULE_SPEEDS = ("governing", "cas", "mach", "tas", "eas")
 class ScheduleRequest(ComputeSchema):
     OUTPUTS = SCHEDULE_OUTPUTS
 
-    cas = speed_field("cas", "The schedule's CAS, flown below the crossover altitude. Arrays allowed.")
-    cas.required = True
-    mach = mach_field("The schedule's Mach number, flown above the crossover altitude.")
-    mach.required = True
+    cas = speed_field("cas", "The schedule's CAS, flown below the crossover altitude. Arrays allowed.", required=True)
+    mach = mach_field("The schedule's Mach number, flown above the crossover altitude.", required=True)
     altitude = air_fields.altitude_field(_ALTITUDE)
     isa_deviation = air_fields.isa_deviation_field()
     temperature = air_fields.temperature_field()

@@ -65,9 +65,7 @@ _SOURCE = {
 class AtmosphereRequest(ComputeSchema):
     OUTPUTS = OUTPUTS
 
-    altitude, isa_deviation, temperature, qnh, altitude_kind = air_fields.air_fields(
-        "Altitude [ft]: a pressure altitude (FL allowed), or the indicated altitude with `qnh`, or a geometric "
-        "height with `altitude_kind: geometric`. Arrays allowed.")
+    altitude, isa_deviation, temperature, qnh, altitude_kind = air_fields.air_fields("Arrays allowed.")
     dew_point = air_fields.dew_point_field()
     relative_humidity = air_fields.relative_humidity_field()
     outputs = outputs_field(OUTPUTS)

@@ -30,8 +30,7 @@ from service.api.speeds import (
     Speeds,
     calibration_field,
     given_speed,
-    mach_field,
-    speed_field,
+    speed_fields,
 )
 from service.physics import drag as dp
 from service.physics import lift as lf
@@ -104,10 +103,6 @@ def _speed_leaves(speeds: Speeds) -> dict:
             "tas": Leaf(speeds.require("tas"), "speed"), "mach": Leaf(speeds.require("mach"))}
 
 
-_ALTITUDE = ("Altitude [ft]: a pressure altitude (FL allowed), or the indicated altitude with `qnh`, or a geometric "
-             "height with `altitude_kind: geometric`.")
-
-
 # --- POST /v1/drag ------------------------------------------------------------------------------------------
 
 DRAG_OUTPUTS = {
@@ -142,22 +137,13 @@ class DragRequest(_PolarInputs, ComputeSchema):
     RULES = (*POLAR_RULES, ONE_FLIGHT_CONDITION, IAS_NEEDS_CALIBRATION, CALIBRATION_NEEDS_IAS, LOAD_FACTOR_OR_BANK)
 
     weight = weight_field("Weight", required=True)
-    wing_area = wing_area_field()
-    wing_area.required = True  # the shared field factories make optional fields
-    ias = speed_field("ias", _ONE_POINT)
-    cas = speed_field("cas", _ONE_POINT)
-    eas = speed_field("eas", _ONE_POINT)
-    tas = speed_field("tas", _ONE_POINT)
-    mach = mach_field(_ONE_POINT)
+    wing_area = wing_area_field(required=True)
+    ias, cas, eas, tas, mach = speed_fields(_ONE_POINT)
     cl = Number(minimum=0.0, exclusive_minimum=True, maximum=10.0, metadata={
         "description": "Lift coefficient CL [-]. " + _ONE_POINT, "example": [0.3, 0.5, 0.8]})
     calibration = calibration_field()
-    altitude = air_fields.altitude_field(_ALTITUDE)
-    isa_deviation = air_fields.isa_deviation_field()
-    temperature = air_fields.temperature_field()
-    qnh = air_fields.qnh_field()
-    altitude_kind = air_fields.altitude_kind_field()
-    total_air_temperature, recovery_factor, dew_point, relative_humidity = air_fields.probe_and_humidity_fields()
+    (altitude, isa_deviation, temperature, qnh, altitude_kind, total_air_temperature, recovery_factor, dew_point,
+     relative_humidity) = air_fields.every_air_field()
     load_factor = LOAD_FACTOR
     bank_angle = BANK_ANGLE
     outputs = outputs_field(DRAG_OUTPUTS)
@@ -226,14 +212,9 @@ class DragSpeedsRequest(_PolarInputs, ComputeSchema):
     RULES = (*POLAR_RULES, NoneOf("total_air_temperature", "recovery_factor", message=NO_TAT_FOR_FOUND_SPEEDS))
 
     weight = weight_field("Weight", required=True)
-    wing_area = wing_area_field()
-    wing_area.required = True  # the shared field factories make optional fields
-    altitude = air_fields.altitude_field(_ALTITUDE)
-    isa_deviation = air_fields.isa_deviation_field()
-    temperature = air_fields.temperature_field()
-    qnh = air_fields.qnh_field()
-    altitude_kind = air_fields.altitude_kind_field()
-    total_air_temperature, recovery_factor, dew_point, relative_humidity = air_fields.probe_and_humidity_fields()
+    wing_area = wing_area_field(required=True)
+    (altitude, isa_deviation, temperature, qnh, altitude_kind, total_air_temperature, recovery_factor, dew_point,
+     relative_humidity) = air_fields.every_air_field()
     height = Quantity("altitude", minimum=0.0, exclusive_minimum=True, maximum=HEIGHT_MAX_FT, metadata={
         "description": "Optional: height to lose in a glide [ft]; `best_glide` then gives the still-air glide "
                        "distance from it.", "example": 25000})

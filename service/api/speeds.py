@@ -45,14 +45,20 @@ _NAMES = {
 _EXAMPLES = {"ias": 250, "cas": {"value": 250, "unit": "kt"}, "eas": 241, "tas": [350, 380, 410]}
 
 
-def speed_field(kind: str, note: str = "") -> Quantity:
-    return Quantity("speed", minimum=0.0, exclusive_minimum=True, maximum=SPEED_MAX_KT, metadata={
+def speed_field(kind: str, note: str = "", required: bool = False) -> Quantity:
+    return Quantity("speed", required=required, minimum=0.0, exclusive_minimum=True, maximum=SPEED_MAX_KT, metadata={
         "description": f"{_NAMES[kind]} [kt].{(' ' + note) if note else ''}", "example": _EXAMPLES[kind]})
 
 
-def mach_field(note: str = "") -> Number:
-    return Number(minimum=0.0, exclusive_minimum=True, maximum=MACH_MAX, metadata={
+def mach_field(note: str = "", required: bool = False) -> Number:
+    return Number(required=required, minimum=0.0, exclusive_minimum=True, maximum=MACH_MAX, metadata={
         "description": f"Mach number [-], a bare number or array.{(' ' + note) if note else ''}", "example": 0.76})
+
+
+def speed_fields(note: str, speed_note: str = "") -> tuple[Quantity, Quantity, Quantity, Quantity, Number]:
+    """The five speed fields in a request's order, each with ``note`` (the four speeds ``speed_note`` after it):
+    ``ias, cas, eas, tas, mach = speed_fields(...)`` in a schema's body."""
+    return (*(speed_field(kind, note + speed_note) for kind in KINDS[:4]), mach_field(note))
 
 
 class CalibrationField(ma.fields.Field):

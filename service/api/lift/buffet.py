@@ -20,9 +20,6 @@ from service.api.speeds import Speeds, mach_field
 from service.physics.buffet import buffet_margins, check_buffet_table
 from service.physics.constants import G0
 
-_ALTITUDE = ("Altitude [ft]: a pressure altitude (FL allowed), or the indicated altitude with `qnh`, or a geometric "
-             "height with `altitude_kind: geometric`.")
-
 
 class BuffetTableField(ma.fields.Field):
     """``buffet``: {"mach": [...], "cl": [...]}, the type's 1 g buffet-onset CL against Mach."""
@@ -75,16 +72,10 @@ class BuffetRequest(ComputeSchema):
     RULES = tuple(output_needs(name, Given("margin"), "`margin`") for name in WITH_MARGIN)
 
     weight = weight_field("Weight", required=True)
-    wing_area = wing_area_field()
-    wing_area.required = True  # the shared field factories make optional fields
-    mach = mach_field("Inside the `buffet` table's Mach range (nothing is extrapolated).")
-    mach.required = True
-    altitude = air_fields.altitude_field(_ALTITUDE)
-    isa_deviation = air_fields.isa_deviation_field()
-    temperature = air_fields.temperature_field()
-    qnh = air_fields.qnh_field()
-    altitude_kind = air_fields.altitude_kind_field()
-    total_air_temperature, recovery_factor, dew_point, relative_humidity = air_fields.probe_and_humidity_fields()
+    wing_area = wing_area_field(required=True)
+    mach = mach_field("Inside the `buffet` table's Mach range (nothing is extrapolated).", required=True)
+    (altitude, isa_deviation, temperature, qnh, altitude_kind, total_air_temperature, recovery_factor, dew_point,
+     relative_humidity) = air_fields.every_air_field()
     buffet = BuffetTableField(required=True, metadata={
         "description": "The type's 1 g buffet-onset boundary from its flight manual: CL against Mach, linear "
                        "between rows. A Mach number outside the table is refused (nothing is extrapolated).",

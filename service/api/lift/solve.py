@@ -53,9 +53,8 @@ from service.api.speeds import (
     Speeds,
     calibration_field,
     given_speed,
-    mach_field,
     one_speed,
-    speed_field,
+    speed_fields,
 )
 from service.api.values import require
 from service.physics import atmosphere as atm
@@ -164,16 +163,10 @@ class LiftSolveRequest(ComputeSchema):
     wing_area = wing_area_field()
     cl = Number(minimum=0.0, exclusive_minimum=True, metadata={"description": "Lift coefficient CL [-].",
                                                                 "example": 0.6})
-    ias = speed_field("ias", _SPEED_NOTE)
-    cas = speed_field("cas", _SPEED_NOTE)
-    eas = speed_field("eas", _SPEED_NOTE)
-    tas = speed_field("tas", _SPEED_NOTE)
-    mach = mach_field(_SPEED_NOTE)
+    ias, cas, eas, tas, mach = speed_fields(_SPEED_NOTE)
     calibration = calibration_field()
-    altitude, isa_deviation, temperature, qnh, altitude_kind = air_fields.air_fields(
-        "Altitude [ft]: a pressure altitude (FL allowed), or the indicated altitude with `qnh`, or a geometric height "
-        "with `altitude_kind: geometric`. Required unless solving for altitude.", required=False)
-    total_air_temperature, recovery_factor, dew_point, relative_humidity = air_fields.probe_and_humidity_fields()
+    (altitude, isa_deviation, temperature, qnh, altitude_kind, total_air_temperature, recovery_factor, dew_point,
+     relative_humidity) = air_fields.every_air_field("Required unless solving for altitude.", required=False)
     load_factor = LOAD_FACTOR
     bank_angle = BANK_ANGLE
     wing = ma.fields.Nested(LiftWingSchema, metadata={

@@ -104,10 +104,8 @@ class LiftStallRequest(ComputeSchema):
                        "at its altitude, scaled by sqrt(weight / reference weight). Arrays here broadcast against "
                        "the points (length 1 or the number of points).",
         "example": {"stall_speed": 108, "weight": 22000, "altitude": 0}})
-    altitude, isa_deviation, temperature, qnh, altitude_kind = air_fields.air_fields(
-        "Altitude [ft]: a pressure altitude (FL allowed), or the indicated altitude with `qnh`, or a geometric height "
-        "with `altitude_kind: geometric`.")
-    total_air_temperature, recovery_factor, dew_point, relative_humidity = air_fields.probe_and_humidity_fields()
+    (altitude, isa_deviation, temperature, qnh, altitude_kind, total_air_temperature, recovery_factor, dew_point,
+     relative_humidity) = air_fields.every_air_field()
     load_factor = LOAD_FACTOR
     bank_angle = BANK_ANGLE
     speed_factors = SpeedFactors(metadata={

@@ -16,9 +16,8 @@ from service.api.speeds import (
     Speeds,
     calibration_field,
     given_speed,
-    mach_field,
     one_speed,
-    speed_field,
+    speed_fields,
 )
 from service.physics.turn import level_turn
 
@@ -39,10 +38,6 @@ TURN_OUTPUTS = {
 }
 _ONE_SPEED = "One speed of ias, cas, eas, tas, mach."
 _ONE_TURN = "One of bank_angle, load_factor, turn_rate."
-_ALTITUDE = ("Altitude [ft]: a pressure altitude (FL allowed), or the indicated altitude with `qnh`, or a geometric "
-             "height with `altitude_kind: geometric`.")
-
-
 class TurnRequest(ComputeSchema):
     OUTPUTS = TURN_OUTPUTS
     RULES = (one_speed("Missing the speed: give one of ias, cas, eas, tas, mach."), IAS_NEEDS_CALIBRATION,
@@ -51,18 +46,10 @@ class TurnRequest(ComputeSchema):
                         message=lambda given: f"Give one of bank_angle, load_factor, turn_rate; this request gives "
                                               f"{', '.join(given)}."))
 
-    ias = speed_field("ias", _ONE_SPEED)
-    cas = speed_field("cas", _ONE_SPEED)
-    eas = speed_field("eas", _ONE_SPEED)
-    tas = speed_field("tas", _ONE_SPEED)
-    mach = mach_field(_ONE_SPEED)
+    ias, cas, eas, tas, mach = speed_fields(_ONE_SPEED)
     calibration = calibration_field()
-    altitude = air_fields.altitude_field(_ALTITUDE)
-    isa_deviation = air_fields.isa_deviation_field()
-    temperature = air_fields.temperature_field()
-    qnh = air_fields.qnh_field()
-    altitude_kind = air_fields.altitude_kind_field()
-    total_air_temperature, recovery_factor, dew_point, relative_humidity = air_fields.probe_and_humidity_fields()
+    (altitude, isa_deviation, temperature, qnh, altitude_kind, total_air_temperature, recovery_factor, dew_point,
+     relative_humidity) = air_fields.every_air_field()
     bank_angle = BANK_ANGLE
     load_factor = Number(minimum=1.0, metadata={
         "description": "Load factor n of the level turn [-], at least 1. " + _ONE_TURN, "example": 1.5})
