@@ -8,7 +8,7 @@ import numpy as np
 from service import units
 from service.api import air, air_fields, examples
 from service.api import speed_limit as limits
-from service.api.base import COMPUTE_PROBLEMS, Blueprint
+from service.api.base import Blueprint
 from service.api.inputs import ComputeSchema, outputs_field
 from service.api.masks import any_true, at_points
 from service.api.outputs import Leaf, Result
@@ -99,11 +99,7 @@ AirspeedResponse = response_schema("AirspeedResponse", OUTPUTS, AirspeedRequest,
 
 
 
-@blp.route("/airspeed", methods=["POST"])
-@blp.doc(operationId="convertAirspeed")
-@blp.arguments(AirspeedRequest, examples=examples.AIRSPEED)
-@blp.response(200, AirspeedResponse)
-@blp.problems(*COMPUTE_PROBLEMS)
+@blp.compute("/airspeed", AirspeedRequest, examples.AIRSPEED, AirspeedResponse, operation_id="convertAirspeed")
 def airspeed(inputs):
     """Convert one airspeed to every other kind
 
@@ -186,11 +182,8 @@ def _beyond_model(cas, mach, missing, indices: bool = True) -> str:
     return f"outside {_RANGE}: " + "; ".join(parts)
 
 
-@blp.route("/airspeed/crossover", methods=["POST"])
-@blp.doc(operationId="findCrossoverAltitude")
-@blp.arguments(CrossoverRequest, examples=examples.CROSSOVER)
-@blp.response(200, CrossoverResponse)
-@blp.problems(*COMPUTE_PROBLEMS)
+@blp.compute("/airspeed/crossover", CrossoverRequest, examples.CROSSOVER,
+             CrossoverResponse, operation_id="findCrossoverAltitude")
 def crossover(inputs):
     """Crossover altitude of a CAS and a Mach number
 
@@ -248,11 +241,8 @@ ScheduleResponse = response_schema("ScheduleResponse", SCHEDULE_OUTPUTS, Schedul
     "governing": LabelOut(limits.GOVERNING_LABELS, metadata={"description": SCHEDULE_OUTPUTS["governing"][1]})})
 
 
-@blp.route("/airspeed/schedule", methods=["POST"])
-@blp.doc(operationId="computeSpeedSchedule")
-@blp.arguments(ScheduleRequest, examples=examples.SCHEDULE)
-@blp.response(200, ScheduleResponse)
-@blp.problems(*COMPUTE_PROBLEMS)
+@blp.compute("/airspeed/schedule", ScheduleRequest, examples.SCHEDULE,
+             ScheduleResponse, operation_id="computeSpeedSchedule")
 def schedule(inputs):
     """Climb or descent speed schedule
 

@@ -7,7 +7,7 @@ import math
 import numpy as np
 
 from service.api import air, air_fields, examples
-from service.api.base import COMPUTE_PROBLEMS, Blueprint
+from service.api.base import Blueprint
 from service.api.fields import Quantity
 from service.api.inputs import ComputeSchema, outputs_field
 from service.api.outputs import Result
@@ -85,10 +85,7 @@ PressureSettingsResponse = response_schema("PressureSettingsResponse", SETTINGS_
                                            inputs=PressureSettingsRequest)
 
 
-@blp.route("/pressure-settings", methods=["POST"])
-@blp.arguments(PressureSettingsRequest, examples=examples.PRESSURE_SETTINGS)
-@blp.response(200, PressureSettingsResponse)
-@blp.problems(*COMPUTE_PROBLEMS)
+@blp.compute("/pressure-settings", PressureSettingsRequest, examples.PRESSURE_SETTINGS, PressureSettingsResponse)
 def pressure_settings(inputs):
     """QNH, QFE and the aerodrome's pressure altitude
 
@@ -150,10 +147,8 @@ TemperatureCorrectionResponse = response_schema("TemperatureCorrectionResponse",
                                                 inputs=TemperatureCorrectionRequest)
 
 
-@blp.route("/temperature-correction", methods=["POST"])
-@blp.arguments(TemperatureCorrectionRequest, examples=examples.TEMPERATURE_CORRECTION)
-@blp.response(200, TemperatureCorrectionResponse)
-@blp.problems(*COMPUTE_PROBLEMS)
+@blp.compute("/temperature-correction", TemperatureCorrectionRequest, examples.TEMPERATURE_CORRECTION,
+             TemperatureCorrectionResponse)
 def temperature_correction(inputs):
     """Cold-temperature correction of minimum altitudes (ICAO PANS-OPS)
 

@@ -3,7 +3,7 @@
 from __future__ import annotations
 
 from service.api import air, air_fields, examples
-from service.api.base import COMPUTE_PROBLEMS, Blueprint
+from service.api.base import Blueprint
 from service.api.inputs import ComputeSchema, outputs_field
 from service.api.outputs import Result
 from service.api.schemas import response_schema
@@ -74,11 +74,8 @@ class AtmosphereRequest(ComputeSchema):
 AtmosphereResponse = response_schema("AtmosphereResponse", OUTPUTS, inputs=AtmosphereRequest)
 
 
-@blp.route("/atmosphere", methods=["POST"])
-@blp.doc(operationId="computeAtmosphere")
-@blp.arguments(AtmosphereRequest, examples=examples.ATMOSPHERE)
-@blp.response(200, AtmosphereResponse)
-@blp.problems(*COMPUTE_PROBLEMS)
+@blp.compute("/atmosphere", AtmosphereRequest, examples.ATMOSPHERE,
+             AtmosphereResponse, operation_id="computeAtmosphere")
 def atmosphere(inputs):
     """Standard atmosphere at one point or many
 

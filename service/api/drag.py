@@ -8,7 +8,7 @@ from __future__ import annotations
 import marshmallow as ma
 
 from service.api import air, air_fields, examples
-from service.api.base import COMPUTE_PROBLEMS, Blueprint
+from service.api.base import Blueprint
 from service.api.fields import Number, Quantity
 from service.api.inputs import ComputeSchema, outputs_field
 from service.api.lift.common import (
@@ -152,10 +152,7 @@ class DragRequest(_PolarInputs, ComputeSchema):
 DragResponse = response_schema("DragResponse", DRAG_OUTPUTS, DragRequest)
 
 
-@blp.route("/drag", methods=["POST"])
-@blp.arguments(DragRequest, examples=examples.DRAG)
-@blp.response(200, DragResponse)
-@blp.problems(*COMPUTE_PROBLEMS)
+@blp.compute("/drag", DragRequest, examples.DRAG, DragResponse)
 def drag(inputs):
     """Drag, thrust and power required at a flight condition
 
@@ -262,10 +259,7 @@ DragSpeedsResponse = response_schema("DragSpeedsResponse", {}, DragSpeedsRequest
                        "along the path from L = W cos(glide angle)."})})
 
 
-@blp.route("/drag/speeds", methods=["POST"])
-@blp.arguments(DragSpeedsRequest, examples=examples.DRAG_SPEEDS)
-@blp.response(200, DragSpeedsResponse)
-@blp.problems(*COMPUTE_PROBLEMS)
+@blp.compute("/drag/speeds", DragSpeedsRequest, examples.DRAG_SPEEDS, DragSpeedsResponse)
 def speeds(inputs):
     """Characteristic speeds: minimum drag, minimum power, best glide
 

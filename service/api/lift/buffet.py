@@ -6,7 +6,6 @@ from __future__ import annotations
 import marshmallow as ma
 
 from service.api import air, air_fields, examples
-from service.api.base import COMPUTE_PROBLEMS
 from service.api.fields import Number
 from service.api.inputs import ComputeSchema, outputs_field
 from service.api.lift.common import blp, output_needs, weight_field, wing_area_field
@@ -89,10 +88,7 @@ class BuffetRequest(ComputeSchema):
 BuffetResponse = response_schema("BuffetResponse", BUFFET_OUTPUTS, BuffetRequest)
 
 
-@blp.route("/lift/buffet", methods=["POST"])
-@blp.arguments(BuffetRequest, examples=examples.BUFFET)
-@blp.response(200, BuffetResponse)
-@blp.problems(*COMPUTE_PROBLEMS)
+@blp.compute("/lift/buffet", BuffetRequest, examples.BUFFET, BuffetResponse)
 def buffet(inputs):
     """Margins to buffet onset, W/delta, maximum altitude and weight
 

@@ -5,7 +5,6 @@ from __future__ import annotations
 import numpy as np
 
 from service.api import examples
-from service.api.base import COMPUTE_PROBLEMS
 from service.api.fields import Number, Quantity
 from service.api.inputs import ComputeSchema, outputs_field
 from service.api.lift.common import (
@@ -80,11 +79,7 @@ CurveResponse = response_schema("LiftCurveResponse", CURVE_OUTPUTS, LiftCurveReq
     "beyond_stall": FlagOut(metadata={"description": CURVE_OUTPUTS["beyond_stall"][1]})})
 
 
-@blp.route("/lift/curve", methods=["POST"])
-@blp.doc(operationId="computeLiftCurve")
-@blp.arguments(LiftCurveRequest, examples=examples.LIFT_CURVE)
-@blp.response(200, CurveResponse)
-@blp.problems(*COMPUTE_PROBLEMS)
+@blp.compute("/lift/curve", LiftCurveRequest, examples.LIFT_CURVE, CurveResponse, operation_id="computeLiftCurve")
 def curve(inputs):
     """The wing's lift-curve slope, and CL <-> angle of attack
 

@@ -12,7 +12,6 @@ import marshmallow as ma
 import numpy as np
 
 from service.api import air, air_fields, examples
-from service.api.base import COMPUTE_PROBLEMS
 from service.api.examples import TQ62_WING
 from service.api.fields import Number
 from service.api.inputs import ComputeSchema, Inputs, outputs_field
@@ -310,11 +309,7 @@ def _solve_outputs(inputs: Inputs) -> list[str]:
     return [name for name in inputs.outputs if name not in skip]
 
 
-@blp.route("/lift/solve", methods=["POST"])
-@blp.doc(operationId="solveLift")
-@blp.arguments(LiftSolveRequest, examples=examples.LIFT_SOLVE)
-@blp.response(200, SolveResponse)
-@blp.problems(*COMPUTE_PROBLEMS)
+@blp.compute("/lift/solve", LiftSolveRequest, examples.LIFT_SOLVE, SolveResponse, operation_id="solveLift")
 def solve(inputs):
     """Solve the lift equation for one unknown
 

@@ -6,7 +6,6 @@ import marshmallow as ma
 
 from service.api import air, air_fields, examples, ranges
 from service.api.air import Air
-from service.api.base import COMPUTE_PROBLEMS
 from service.api.fields import Number, Quantity, parse_numbers
 from service.api.inputs import ComputeSchema, Inputs, outputs_field
 from service.api.lift.common import (
@@ -187,11 +186,7 @@ def _speed_values(speeds: Speeds, output: str) -> dict:
             "mach": (kind("mach"), None)}
 
 
-@blp.route("/lift/stall", methods=["POST"])
-@blp.doc(operationId="computeStallSpeeds")
-@blp.arguments(LiftStallRequest, examples=examples.LIFT_STALL)
-@blp.response(200, StallResponse)
-@blp.problems(*COMPUTE_PROBLEMS)
+@blp.compute("/lift/stall", LiftStallRequest, examples.LIFT_STALL, StallResponse, operation_id="computeStallSpeeds")
 def stall(inputs):
     """Stall speeds under load, their multiples, and the margins at a speed
 

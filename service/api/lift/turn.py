@@ -3,7 +3,6 @@
 from __future__ import annotations
 
 from service.api import air, air_fields, examples
-from service.api.base import COMPUTE_PROBLEMS
 from service.api.fields import Number, Quantity
 from service.api.inputs import ComputeSchema, outputs_field
 from service.api.lift.common import BANK_ANGLE, blp
@@ -62,10 +61,7 @@ class TurnRequest(ComputeSchema):
 TurnResponse = response_schema("TurnResponse", TURN_OUTPUTS, TurnRequest)
 
 
-@blp.route("/lift/turn", methods=["POST"])
-@blp.arguments(TurnRequest, examples=examples.TURN)
-@blp.response(200, TurnResponse)
-@blp.problems(*COMPUTE_PROBLEMS)
+@blp.compute("/lift/turn", TurnRequest, examples.TURN, TurnResponse)
 def turn(inputs):
     """Level coordinated turn: radius, rate, time for 360, load factor, bank
 
