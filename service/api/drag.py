@@ -27,6 +27,7 @@ from service.api.speeds import (
     CALIBRATION_NEEDS_IAS,
     IAS_NEEDS_CALIBRATION,
     KINDS,
+    SPEED_OUTPUTS,
     Speeds,
     calibration_field,
     given_speed,
@@ -113,10 +114,7 @@ DRAG_OUTPUTS = {
     "thrust_required": ("force", "Thrust required for steady level flight (or a steady level turn): equal to the "
                                  "drag [N]."),
     "power_required": ("power", "Power required, drag times TAS [kW]."),
-    "cas": ("speed", "Calibrated airspeed [kt]."),
-    "eas": ("speed", "Equivalent airspeed [kt]."),
-    "tas": ("speed", "True airspeed [kt]."),
-    "mach": (None, "Mach number [-]."),
+    **SPEED_OUTPUTS,
     "dynamic_pressure": ("pressure", "Dynamic pressure q = 1/2 rho TAS^2 = (gamma/2) p M^2 [hPa]."),
     "pressure_altitude": ("altitude", "Pressure altitude [ft]."),
     "density_altitude": ("altitude", "Density altitude [ft]; null (with a warning) outside the model's range."),
@@ -187,7 +185,7 @@ def drag(inputs):
             value = result.null_where(name, state.density_altitude, "The density altitude lies outside the model's "
                                                                     "range.")
         else:
-            value = speeds.require(name) if name in ("cas", "eas", "tas", "mach") else values[name]
+            value = speeds.require(name) if name in SPEED_OUTPUTS else values[name]
         result.add(name, value)
     _warn_beyond_polar(result, inputs, "cd", speeds.require("mach"))
     return result.response()
@@ -218,13 +216,11 @@ class DragSpeedsRequest(_PolarInputs, ComputeSchema):
     outputs = outputs_field(SPEEDS_OUTPUTS)
 
 
-_SPEED_DESCRIPTIONS = {"eas": ("Equivalent airspeed [kt].", "speed"), "cas": ("Calibrated airspeed [kt].", "speed"),
-                       "tas": ("True airspeed [kt].", "speed"), "mach": ("Mach number [-].", None)}
-
-
 def _condition_schema(name: str, extra: dict) -> type[ma.Schema]:
-    fields = {key: quantity_out(desc, dim) if dim else ratio_out(desc)
-              for key, (desc, dim) in _SPEED_DESCRIPTIONS.items()}
+    fields = {}
+    for key in ("eas", "cas", "tas", "mach"):  # the order of _speed_leaves
+        dim, desc = SPEED_OUTPUTS[key]
+        fields[key] = quantity_out(desc, dim) if dim else ratio_out(desc)
     fields.update(extra)
     return type(name, (ma.Schema,), fields)
 

@@ -40,6 +40,13 @@ _NAMES = {
     "eas": "Equivalent airspeed",
     "tas": "True airspeed",
 }
+#: The outputs of every speed kind, as in an endpoint's OUTPUTS ({**SPEED_OUTPUTS, ...}), in the answer's order.
+SPEED_OUTPUTS = {
+    "cas": ("speed", "Calibrated airspeed [kt]."),
+    "eas": ("speed", "Equivalent airspeed [kt]."),
+    "tas": ("speed", "True airspeed [kt]."),
+    "mach": (None, "Mach number [-]."),
+}
 #: The spec's example of each speed input: our demo type TQ-62 climbing through FL240 on an ISA+10 day
 #: (the TAS and EAS belong to that CAS).
 _EXAMPLES = {"ias": 250, "cas": {"value": 250, "unit": "kt"}, "eas": 241, "tas": [350, 380, 410]}
