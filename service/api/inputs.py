@@ -42,10 +42,6 @@ class ComputeSchema(RuleSchema):
     (api.rules); every numeric top-level field is an axis of the grid, in field order.
     """
 
-    class Meta:
-        unknown = ma.RAISE
-        ordered = True
-
     OUTPUTS: dict | tuple[str, ...] = ()
 
     def points_worth(self, data: dict, points: int) -> tuple[int, str]:

@@ -129,10 +129,6 @@ class LiftWingSchema(RuleSchema):
 
     RULES = (ONE_AIRFOIL_INPUT,)
 
-    class Meta:
-        unknown = ma.RAISE
-        ordered = True
-
     aspect_ratio = ASPECT_RATIO
     sweep_half_chord = SWEEP
     airfoil_efficiency = AIRFOIL_EFFICIENCY

@@ -21,6 +21,7 @@ from service.api.lift.common import (
 )
 from service.api.masks import any_true, first_indices
 from service.api.outputs import Leaf, Result
+from service.api.rule_schema import StrictSchema
 from service.api.rules import Either, Given, NeedsAny
 from service.api.schemas import quantity_out, ratio_out, response_schema
 from service.api.speeds import (
@@ -61,12 +62,8 @@ class SpeedFactors(ma.fields.Field):
                 "maxItems": MAX_SPEED_FACTORS}
 
 
-class StallReferenceSchema(ma.Schema):
+class StallReferenceSchema(StrictSchema):
     """A stall speed from the flight manual, to scale by weight."""
-
-    class Meta:
-        unknown = ma.RAISE
-        ordered = True
 
     stall_speed = Quantity("speed", required=True, minimum=0.0, exclusive_minimum=True, maximum=SPEED_MAX_KT, metadata={
         "description": "The 1 g stall speed as a calibrated airspeed (CAS), as the flight manual gives it [kt].",
