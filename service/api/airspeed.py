@@ -9,7 +9,7 @@ from service import units
 from service.api import air, air_fields, examples
 from service.api import speed_limit as limits
 from service.api.base import Blueprint
-from service.api.inputs import ComputeSchema, outputs_field
+from service.api.inputs import ComputeSchema
 from service.api.masks import any_true, at_points
 from service.api.outputs import Leaf, Result
 from service.api.rules import Given, OutputNeeds
@@ -88,7 +88,6 @@ class AirspeedRequest(ComputeSchema):
     temperature = air_fields.temperature_field()
     total_air_temperature, recovery_factor, dew_point, relative_humidity = air_fields.probe_and_humidity_fields()
     calibration = calibration_field()
-    outputs = outputs_field(OUTPUTS)
 
 
 AirspeedAtmosphere = type("AirspeedAtmosphere", (ma.Schema,), {
@@ -160,7 +159,6 @@ class CrossoverRequest(ComputeSchema):
 
     cas = speed_field("cas", "The CAS of the pair. Arrays allowed.", required=True)
     mach = mach_field("The Mach number of the pair.", required=True)
-    outputs = outputs_field(CROSSOVER_OUTPUTS)
 
 
 CrossoverResponse = response_schema("CrossoverResponse", CROSSOVER_OUTPUTS, CrossoverRequest)
@@ -234,7 +232,6 @@ class ScheduleRequest(ComputeSchema):
     speed_limit = limits.speed_limit_field()
     dew_point = air_fields.dew_point_field()
     relative_humidity = air_fields.relative_humidity_field()
-    outputs = outputs_field(SCHEDULE_OUTPUTS)
 
 
 ScheduleResponse = response_schema("ScheduleResponse", SCHEDULE_OUTPUTS, ScheduleRequest, fields={

@@ -9,7 +9,7 @@ import numpy as np
 from service.api import air, air_fields, examples
 from service.api.base import Blueprint
 from service.api.fields import Quantity
-from service.api.inputs import ComputeSchema, outputs_field
+from service.api.inputs import ComputeSchema
 from service.api.outputs import Result
 from service.api.rules import ExactlyOne, Given, Never, Unit
 from service.api.schemas import response_schema
@@ -78,7 +78,6 @@ class PressureSettingsRequest(ComputeSchema):
         "description": f"QFE, the pressure at the aerodrome [hPa]; the QNH it gives must lie within the bounds of "
                        f"`qnh`, {air_fields.QNH_MIN_HPA:g} to {air_fields.QNH_MAX_HPA:g} hPa. Not with `qnh`.",
         "example": 771.7})
-    outputs = outputs_field(SETTINGS_OUTPUTS)
 
 
 PressureSettingsResponse = response_schema("PressureSettingsResponse", SETTINGS_OUTPUTS,
@@ -140,7 +139,6 @@ class TemperatureCorrectionRequest(ComputeSchema):
         "description": "Published minimum altitude(s) above mean sea level, as indicated with the aerodrome's QNH "
                        "set [ft] (not in FL); at or above the elevation. Arrays allowed.",
         "example": [9500, 8700, 7650]})
-    outputs = outputs_field(CORRECTION_OUTPUTS)
 
 
 TemperatureCorrectionResponse = response_schema("TemperatureCorrectionResponse", CORRECTION_OUTPUTS,

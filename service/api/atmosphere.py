@@ -4,7 +4,7 @@ from __future__ import annotations
 
 from service.api import air, air_fields, examples
 from service.api.base import Blueprint
-from service.api.inputs import ComputeSchema, outputs_field
+from service.api.inputs import ComputeSchema
 from service.api.outputs import Result
 from service.api.schemas import response_schema
 
@@ -68,7 +68,6 @@ class AtmosphereRequest(ComputeSchema):
     altitude, isa_deviation, temperature, qnh, altitude_kind = air_fields.air_fields("Arrays allowed.")
     dew_point = air_fields.dew_point_field()
     relative_humidity = air_fields.relative_humidity_field()
-    outputs = outputs_field(OUTPUTS)
 
 
 AtmosphereResponse = response_schema("AtmosphereResponse", OUTPUTS, inputs=AtmosphereRequest)

@@ -10,7 +10,7 @@ import marshmallow as ma
 from service.api import air, air_fields, examples
 from service.api.base import Blueprint
 from service.api.fields import Number, Quantity
-from service.api.inputs import ComputeSchema, outputs_field
+from service.api.inputs import ComputeSchema
 from service.api.lift.common import (
     BANK_ANGLE,
     LOAD_FACTOR,
@@ -144,7 +144,6 @@ class DragRequest(_PolarInputs, ComputeSchema):
      relative_humidity) = air_fields.every_air_field()
     load_factor = LOAD_FACTOR
     bank_angle = BANK_ANGLE
-    outputs = outputs_field(DRAG_OUTPUTS)
 
 
 DragResponse = response_schema("DragResponse", DRAG_OUTPUTS, DragRequest)
@@ -213,7 +212,6 @@ class DragSpeedsRequest(_PolarInputs, ComputeSchema):
     height = Quantity("altitude", minimum=0.0, exclusive_minimum=True, maximum=HEIGHT_MAX_FT, metadata={
         "description": "Optional: height to lose in a glide [ft]; `best_glide` then gives the still-air glide "
                        "distance from it.", "example": 25000})
-    outputs = outputs_field(SPEEDS_OUTPUTS)
 
 
 def _condition_schema(name: str, extra: dict) -> type[ma.Schema]:

@@ -7,7 +7,7 @@ import marshmallow as ma
 
 from service.api import air, air_fields, examples
 from service.api.fields import Number
-from service.api.inputs import ComputeSchema, outputs_field
+from service.api.inputs import ComputeSchema
 from service.api.lift.common import blp, output_needs, weight_field, wing_area_field
 from service.api.masks import any_true, at_points
 from service.api.numbers import table_columns
@@ -82,7 +82,6 @@ class BuffetRequest(ComputeSchema):
     margin = Number(minimum=1.0, metadata={
         "description": "Required margin to buffet onset as a load factor [-], for example 1.3 (about 40 deg of "
                        "bank); gives the maximum altitude, weight and W/delta.", "example": 1.3})
-    outputs = outputs_field(BUFFET_OUTPUTS)
 
 
 BuffetResponse = response_schema("BuffetResponse", BUFFET_OUTPUTS, BuffetRequest)

@@ -6,7 +6,7 @@ import numpy as np
 
 from service.api import examples
 from service.api.fields import Number, Quantity
-from service.api.inputs import ComputeSchema, outputs_field
+from service.api.inputs import ComputeSchema
 from service.api.lift.common import (
     AIRFOIL_EFFICIENCY,
     AIRFOIL_LIFT_SLOPE,
@@ -72,7 +72,6 @@ class LiftCurveRequest(ComputeSchema):
     cl = Number(metadata={"description": "Lift coefficient [-] -> `angle_of_attack`. Not with `angle_of_attack`.",
                           "example": 0.9})
     cl_max = CL_MAX
-    outputs = outputs_field(CURVE_OUTPUTS)
 
 
 CurveResponse = response_schema("LiftCurveResponse", CURVE_OUTPUTS, LiftCurveRequest, fields={

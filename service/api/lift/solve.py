@@ -14,7 +14,7 @@ import numpy as np
 from service.api import air, air_fields, examples
 from service.api.examples import TQ62_WING
 from service.api.fields import Number
-from service.api.inputs import ComputeSchema, Inputs, outputs_field
+from service.api.inputs import ComputeSchema, Inputs
 from service.api.lift.common import (
     AIRFOIL_EFFICIENCY,
     AIRFOIL_LIFT_SLOPE,
@@ -167,7 +167,6 @@ class LiftSolveRequest(ComputeSchema):
                        "of the flight condition); the answer then adds `angle_of_attack`, and `beyond_stall` with "
                        "`cl_max`. Arrays here broadcast against the points (length 1 or the number of points).",
         "example": TQ62_WING})
-    outputs = outputs_field(SOLVE_OUTPUTS)
 
 
 SolveResponse = response_schema("LiftSolveResponse", SOLVE_OUTPUTS, LiftSolveRequest, fields={

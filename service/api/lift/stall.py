@@ -7,7 +7,7 @@ import marshmallow as ma
 from service.api import air, air_fields, examples, ranges
 from service.api.air import Air
 from service.api.fields import Number, Quantity, parse_numbers
-from service.api.inputs import ComputeSchema, Inputs, outputs_field
+from service.api.inputs import ComputeSchema, Inputs
 from service.api.lift.common import (
     BANK_ANGLE,
     LOAD_FACTOR,
@@ -115,7 +115,6 @@ class LiftStallRequest(ComputeSchema):
     tas = speed_field("tas", "Optional, for `margin`.")
     mach = mach_field("Optional, for `margin`.")
     calibration = calibration_field()
-    outputs = outputs_field(STALL_OUTPUTS)
 
     def points_worth(self, data: dict, points: int) -> tuple[int, str]:
         """Each speed factor adds a row per point to the answer (an entry of `multiples`): the point limit

@@ -4,7 +4,7 @@ from __future__ import annotations
 
 from service.api import air, air_fields, examples
 from service.api.fields import Number, Quantity
-from service.api.inputs import ComputeSchema, outputs_field
+from service.api.inputs import ComputeSchema
 from service.api.lift.common import BANK_ANGLE, blp
 from service.api.outputs import Result
 from service.api.rules import ExactlyOne
@@ -55,7 +55,6 @@ class TurnRequest(ComputeSchema):
     turn_rate = Quantity("angular_rate", minimum=0.0, maximum=TURN_RATE_MAX_DEG_S, metadata={
         "description": "Rate of turn [deg/s]: 3 is the standard rate (rate one, 360 deg in 2 minutes); the unit "
                        "`standard_rate` counts in multiples of it. " + _ONE_TURN, "example": 3})
-    outputs = outputs_field(TURN_OUTPUTS)
 
 
 TurnResponse = response_schema("TurnResponse", TURN_OUTPUTS, TurnRequest)
