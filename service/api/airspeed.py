@@ -93,7 +93,7 @@ class AirspeedRequest(ComputeSchema):
 AirspeedAtmosphere = type("AirspeedAtmosphere", (ma.Schema,), {
     name: quantity_out(desc, dim) for name, (dim, desc, _) in ATMOSPHERE.items()})
 
-AirspeedResponse = response_schema("AirspeedResponse", OUTPUTS, AirspeedRequest, fields={
+AirspeedResponse = response_schema(AirspeedRequest, fields={
     "atmosphere": ma.fields.Nested(AirspeedAtmosphere, metadata={"description": OUTPUTS["atmosphere"][1]})})
 
 
@@ -161,7 +161,7 @@ class CrossoverRequest(ComputeSchema):
     mach = mach_field("The Mach number of the pair.", required=True)
 
 
-CrossoverResponse = response_schema("CrossoverResponse", CROSSOVER_OUTPUTS, CrossoverRequest)
+CrossoverResponse = response_schema(CrossoverRequest)
 
 
 _RANGE = (f"the model's range of pressure altitudes, {H_MIN:.0f} m ({H_MIN / FT:.0f} ft) to {H_MAX:.0f} m "
@@ -234,7 +234,7 @@ class ScheduleRequest(ComputeSchema):
     relative_humidity = air_fields.relative_humidity_field()
 
 
-ScheduleResponse = response_schema("ScheduleResponse", SCHEDULE_OUTPUTS, ScheduleRequest, fields={
+ScheduleResponse = response_schema(ScheduleRequest, fields={
     "governing": LabelOut(limits.GOVERNING_LABELS, metadata={"description": SCHEDULE_OUTPUTS["governing"][1]})})
 
 

@@ -80,8 +80,7 @@ class PressureSettingsRequest(ComputeSchema):
         "example": 771.7})
 
 
-PressureSettingsResponse = response_schema("PressureSettingsResponse", SETTINGS_OUTPUTS,
-                                           inputs=PressureSettingsRequest)
+PressureSettingsResponse = response_schema(PressureSettingsRequest)
 
 
 @blp.compute("/pressure-settings", PressureSettingsRequest, examples.PRESSURE_SETTINGS, PressureSettingsResponse)
@@ -141,8 +140,7 @@ class TemperatureCorrectionRequest(ComputeSchema):
         "example": [9500, 8700, 7650]})
 
 
-TemperatureCorrectionResponse = response_schema("TemperatureCorrectionResponse", CORRECTION_OUTPUTS,
-                                                inputs=TemperatureCorrectionRequest)
+TemperatureCorrectionResponse = response_schema(TemperatureCorrectionRequest)
 
 
 @blp.compute("/temperature-correction", TemperatureCorrectionRequest, examples.TEMPERATURE_CORRECTION,

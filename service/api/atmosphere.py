@@ -70,7 +70,7 @@ class AtmosphereRequest(ComputeSchema):
     relative_humidity = air_fields.relative_humidity_field()
 
 
-AtmosphereResponse = response_schema("AtmosphereResponse", OUTPUTS, inputs=AtmosphereRequest)
+AtmosphereResponse = response_schema(AtmosphereRequest)
 
 
 @blp.compute("/atmosphere", AtmosphereRequest, examples.ATMOSPHERE,

@@ -146,7 +146,7 @@ class DragRequest(_PolarInputs, ComputeSchema):
     bank_angle = BANK_ANGLE
 
 
-DragResponse = response_schema("DragResponse", DRAG_OUTPUTS, DragRequest)
+DragResponse = response_schema(DragRequest)
 
 
 @blp.compute("/drag", DragRequest, examples.DRAG, DragResponse)
@@ -242,7 +242,7 @@ BestGlideOut = _condition_schema("BestGlideOut", {
                                    "distance"),
 })
 
-DragSpeedsResponse = response_schema("DragSpeedsResponse", {}, DragSpeedsRequest, fields={
+DragSpeedsResponse = response_schema(DragSpeedsRequest, fields={
     "minimum_drag": ma.fields.Nested(MinimumDragOut, metadata={
         "description": "Steady level flight at minimum drag, the least thrust required: the maximum L/D."}),
     "minimum_power": ma.fields.Nested(MinimumPowerOut, metadata={

@@ -84,7 +84,7 @@ class BuffetRequest(ComputeSchema):
                        "bank); gives the maximum altitude, weight and W/delta.", "example": 1.3})
 
 
-BuffetResponse = response_schema("BuffetResponse", BUFFET_OUTPUTS, BuffetRequest)
+BuffetResponse = response_schema(BuffetRequest)
 
 
 @blp.compute("/lift/buffet", BuffetRequest, examples.BUFFET, BuffetResponse)

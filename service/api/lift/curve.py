@@ -74,7 +74,7 @@ class LiftCurveRequest(ComputeSchema):
     cl_max = CL_MAX
 
 
-CurveResponse = response_schema("LiftCurveResponse", CURVE_OUTPUTS, LiftCurveRequest, fields={
+CurveResponse = response_schema(LiftCurveRequest, fields={
     "beyond_stall": FlagOut(metadata={"description": CURVE_OUTPUTS["beyond_stall"][1]})})
 
 

@@ -169,7 +169,7 @@ class LiftSolveRequest(ComputeSchema):
         "example": TQ62_WING})
 
 
-SolveResponse = response_schema("LiftSolveResponse", SOLVE_OUTPUTS, LiftSolveRequest, fields={
+SolveResponse = response_schema(LiftSolveRequest, fields={
     "solved_for": LabelOut(UNKNOWNS, metadata={"description": "The unknown that was solved for (always present)."}),
     "beyond_stall": FlagOut(metadata={"description": SOLVE_OUTPUTS["beyond_stall"][1]})})
 

@@ -149,7 +149,7 @@ class LiftMarginOut(ma.Schema):
     cl_fraction = ratio_out("CL / CLmax at the given speed and the requested load factor [-].")
 
 
-StallResponse = response_schema("LiftStallResponse", {}, LiftStallRequest, fields={
+StallResponse = response_schema(LiftStallRequest, fields={
     "stall": ma.fields.Nested(LiftStallSpeedsOut, metadata={"description": "The stall speed at the load factor."}),
     "multiples": ma.fields.List(ma.fields.Nested(LiftMultipleOut), metadata={
         "description": "One entry per speed factor, in the order given (with `speed_factors`)."}),

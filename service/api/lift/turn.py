@@ -57,7 +57,7 @@ class TurnRequest(ComputeSchema):
                        "`standard_rate` counts in multiples of it. " + _ONE_TURN, "example": 3})
 
 
-TurnResponse = response_schema("TurnResponse", TURN_OUTPUTS, TurnRequest)
+TurnResponse = response_schema(TurnRequest)
 
 
 @blp.compute("/lift/turn", TurnRequest, examples.TURN, TurnResponse)
