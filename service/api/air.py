@@ -193,12 +193,9 @@ class Air:
 def check_altitude_range(H, field: str, what: str = "pressure altitude") -> None:
     """422 naming ``field`` where H is outside the model's range."""
     bad = (H < H_MIN) | (H > H_MAX)
-    if any_true(bad):
-        message = (f"The {what} must lie within the model's range, {_show_ft(H_MIN)} to {_show_ft(H_MAX)} "
-                   "(geopotential).")
-        if np.size(bad) > 1:
-            message += f" Offending indices: {first_indices(bad)}."
-        raise invalid({f"/{field}": message})
+    if any_true(bad):  # the message made only for a refusal
+        refuse_where(bad, field, f"The {what} must lie within the model's range, {_show_ft(H_MIN)} to "
+                                 f"{_show_ft(H_MAX)} (geopotential).")
 
 
 def refuse_where(bad, field: str, message: str) -> None:

@@ -141,11 +141,16 @@ def altitude_kind_field() -> ma.fields.String:
         "example": "pressure", "title": "AltitudeKind"})  # one enum type in generated clients
 
 
-def air_fields(altitude_description: str, required: bool = True):
+#: The altitude beside `qnh` and `altitude_kind` (air_fields; an endpoint may add a note).
+ALTITUDE_ANY_KIND = ("Altitude [ft]: a pressure altitude (FL allowed), or the indicated altitude with `qnh`, or a "
+                     "geometric height with `altitude_kind: geometric`.")
+
+
+def air_fields(note: str = "", required: bool = True):
     """The five air fields in a request's order: ``altitude, isa_deviation, temperature, qnh, altitude_kind =
-    air_fields(...)`` in a schema's body."""
-    return (altitude_field(altitude_description, required=required), isa_deviation_field(), temperature_field(),
-            qnh_field(), altitude_kind_field())
+    air_fields(...)`` in a schema's body; the altitude described by ALTITUDE_ANY_KIND and ``note``."""
+    return (altitude_field(f"{ALTITUDE_ANY_KIND} {note}".rstrip(), required=required), isa_deviation_field(),
+            temperature_field(), qnh_field(), altitude_kind_field())
 
 
 #: Bounds of a dew point [degC]: the saturation formula's range (Hardy 1998, -100 to +100 degC).
@@ -200,3 +205,10 @@ def probe_and_humidity_fields():
     ``total_air_temperature, recovery_factor, dew_point, relative_humidity = probe_and_humidity_fields()`` in a
     schema's body (their rules come with them)."""
     return total_air_temperature_field(), recovery_factor_field(), dew_point_field(), relative_humidity_field()
+
+
+def every_air_field(note: str = "", required: bool = True):
+    """The nine air fields in a request's order, air_fields(...) then probe_and_humidity_fields(): ``(altitude,
+    isa_deviation, temperature, qnh, altitude_kind, total_air_temperature, recovery_factor, dew_point,
+    relative_humidity) = every_air_field(...)`` in a schema's body."""
+    return (*air_fields(note, required), *probe_and_humidity_fields())

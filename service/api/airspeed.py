@@ -8,9 +8,9 @@ import numpy as np
 from service import units
 from service.api import air, air_fields, examples
 from service.api import speed_limit as limits
-from service.api.base import COMPUTE_PROBLEMS, Blueprint
-from service.api.inputs import ComputeSchema, outputs_field
-from service.api.masks import any_true, first_indices
+from service.api.base import Blueprint
+from service.api.inputs import ComputeSchema
+from service.api.masks import any_true, at_points
 from service.api.outputs import Leaf, Result
 from service.api.rules import Given, OutputNeeds
 from service.api.schemas import LabelOut, quantity_out, response_schema
@@ -23,6 +23,7 @@ from service.api.speeds import (
     mach_field,
     one_speed,
     speed_field,
+    speed_fields,
 )
 from service.api.values import no_solution, unit_for
 from service.physics import airspeed as spd
@@ -81,32 +82,23 @@ class AirspeedRequest(ComputeSchema):
              OutputNeeds("ias", Given("calibration"),
                          "The output ias needs `calibration` (the airspeed system's IAS -> CAS table)."))
 
-    ias = speed_field("ias", _ONE_OF + " Arrays allowed.")
-    cas = speed_field("cas", _ONE_OF + " Arrays allowed.")
-    eas = speed_field("eas", _ONE_OF + " Arrays allowed.")
-    tas = speed_field("tas", _ONE_OF + " Arrays allowed.")
-    mach = mach_field(_ONE_OF)
+    ias, cas, eas, tas, mach = speed_fields(_ONE_OF, " Arrays allowed.")
     altitude = air_fields.altitude_field(_ALTITUDE)
     isa_deviation = air_fields.isa_deviation_field()
     temperature = air_fields.temperature_field()
     total_air_temperature, recovery_factor, dew_point, relative_humidity = air_fields.probe_and_humidity_fields()
     calibration = calibration_field()
-    outputs = outputs_field(OUTPUTS)
 
 
 AirspeedAtmosphere = type("AirspeedAtmosphere", (ma.Schema,), {
     name: quantity_out(desc, dim) for name, (dim, desc, _) in ATMOSPHERE.items()})
 
-AirspeedResponse = response_schema("AirspeedResponse", OUTPUTS, AirspeedRequest, fields={
+AirspeedResponse = response_schema(AirspeedRequest, fields={
     "atmosphere": ma.fields.Nested(AirspeedAtmosphere, metadata={"description": OUTPUTS["atmosphere"][1]})})
 
 
 
-@blp.route("/airspeed", methods=["POST"])
-@blp.doc(operationId="convertAirspeed")
-@blp.arguments(AirspeedRequest, examples=examples.AIRSPEED)
-@blp.response(200, AirspeedResponse)
-@blp.problems(*COMPUTE_PROBLEMS)
+@blp.compute("/airspeed", AirspeedRequest, examples.AIRSPEED, AirspeedResponse, operation_id="convertAirspeed")
 def airspeed(inputs):
     """Convert one airspeed to every other kind
 
@@ -165,14 +157,11 @@ CROSSOVER_OUTPUTS = {
 class CrossoverRequest(ComputeSchema):
     OUTPUTS = CROSSOVER_OUTPUTS
 
-    cas = speed_field("cas", "The CAS of the pair. Arrays allowed.")
-    cas.required = True  # the shared field factories make optional fields
-    mach = mach_field("The Mach number of the pair.")
-    mach.required = True
-    outputs = outputs_field(CROSSOVER_OUTPUTS)
+    cas = speed_field("cas", "The CAS of the pair. Arrays allowed.", required=True)
+    mach = mach_field("The Mach number of the pair.", required=True)
 
 
-CrossoverResponse = response_schema("CrossoverResponse", CROSSOVER_OUTPUTS, CrossoverRequest)
+CrossoverResponse = response_schema(CrossoverRequest)
 
 
 _RANGE = (f"the model's range of pressure altitudes, {H_MIN:.0f} m ({H_MIN / FT:.0f} ft) to {H_MAX:.0f} m "
@@ -186,16 +175,13 @@ def _beyond_model(cas, mach, missing, indices: bool = True) -> str:
     for mask, where, lower in ((missing & below, "below it", "the Mach number"),
                                (missing & ~below, "above it", "the CAS")):
         if any_true(mask):
-            at = f" at points {first_indices(mask)}" if indices and np.ndim(mask) else ""
+            at = at_points(mask) if indices else ""
             parts.append(f"{where}{at}, so {lower} is the lower speed at every altitude")
     return f"outside {_RANGE}: " + "; ".join(parts)
 
 
-@blp.route("/airspeed/crossover", methods=["POST"])
-@blp.doc(operationId="findCrossoverAltitude")
-@blp.arguments(CrossoverRequest, examples=examples.CROSSOVER)
-@blp.response(200, CrossoverResponse)
-@blp.problems(*COMPUTE_PROBLEMS)
+@blp.compute("/airspeed/crossover", CrossoverRequest, examples.CROSSOVER,
+             CrossoverResponse, operation_id="findCrossoverAltitude")
 def crossover(inputs):
     """Crossover altitude of a CAS and a Mach number
 
@@ -238,28 +224,22 @@ _SCHEDULE_SPEEDS = ("governing", "cas", "mach", "tas", "eas")
 class ScheduleRequest(ComputeSchema):
     OUTPUTS = SCHEDULE_OUTPUTS
 
-    cas = speed_field("cas", "The schedule's CAS, flown below the crossover altitude. Arrays allowed.")
-    cas.required = True
-    mach = mach_field("The schedule's Mach number, flown above the crossover altitude.")
-    mach.required = True
+    cas = speed_field("cas", "The schedule's CAS, flown below the crossover altitude. Arrays allowed.", required=True)
+    mach = mach_field("The schedule's Mach number, flown above the crossover altitude.", required=True)
     altitude = air_fields.altitude_field(_ALTITUDE)
     isa_deviation = air_fields.isa_deviation_field()
     temperature = air_fields.temperature_field()
     speed_limit = limits.speed_limit_field()
     dew_point = air_fields.dew_point_field()
     relative_humidity = air_fields.relative_humidity_field()
-    outputs = outputs_field(SCHEDULE_OUTPUTS)
 
 
-ScheduleResponse = response_schema("ScheduleResponse", SCHEDULE_OUTPUTS, ScheduleRequest, fields={
+ScheduleResponse = response_schema(ScheduleRequest, fields={
     "governing": LabelOut(limits.GOVERNING_LABELS, metadata={"description": SCHEDULE_OUTPUTS["governing"][1]})})
 
 
-@blp.route("/airspeed/schedule", methods=["POST"])
-@blp.doc(operationId="computeSpeedSchedule")
-@blp.arguments(ScheduleRequest, examples=examples.SCHEDULE)
-@blp.response(200, ScheduleResponse)
-@blp.problems(*COMPUTE_PROBLEMS)
+@blp.compute("/airspeed/schedule", ScheduleRequest, examples.SCHEDULE,
+             ScheduleResponse, operation_id="computeSpeedSchedule")
 def schedule(inputs):
     """Climb or descent speed schedule
 

@@ -7,9 +7,9 @@ import math
 import numpy as np
 
 from service.api import air, air_fields, examples
-from service.api.base import COMPUTE_PROBLEMS, Blueprint
+from service.api.base import Blueprint
 from service.api.fields import Quantity
-from service.api.inputs import ComputeSchema, outputs_field
+from service.api.inputs import ComputeSchema
 from service.api.outputs import Result
 from service.api.rules import ExactlyOne, Given, Never, Unit
 from service.api.schemas import response_schema
@@ -78,17 +78,12 @@ class PressureSettingsRequest(ComputeSchema):
         "description": f"QFE, the pressure at the aerodrome [hPa]; the QNH it gives must lie within the bounds of "
                        f"`qnh`, {air_fields.QNH_MIN_HPA:g} to {air_fields.QNH_MAX_HPA:g} hPa. Not with `qnh`.",
         "example": 771.7})
-    outputs = outputs_field(SETTINGS_OUTPUTS)
 
 
-PressureSettingsResponse = response_schema("PressureSettingsResponse", SETTINGS_OUTPUTS,
-                                           inputs=PressureSettingsRequest)
+PressureSettingsResponse = response_schema(PressureSettingsRequest)
 
 
-@blp.route("/pressure-settings", methods=["POST"])
-@blp.arguments(PressureSettingsRequest, examples=examples.PRESSURE_SETTINGS)
-@blp.response(200, PressureSettingsResponse)
-@blp.problems(*COMPUTE_PROBLEMS)
+@blp.compute("/pressure-settings", PressureSettingsRequest, examples.PRESSURE_SETTINGS, PressureSettingsResponse)
 def pressure_settings(inputs):
     """QNH, QFE and the aerodrome's pressure altitude
 
@@ -143,17 +138,13 @@ class TemperatureCorrectionRequest(ComputeSchema):
         "description": "Published minimum altitude(s) above mean sea level, as indicated with the aerodrome's QNH "
                        "set [ft] (not in FL); at or above the elevation. Arrays allowed.",
         "example": [9500, 8700, 7650]})
-    outputs = outputs_field(CORRECTION_OUTPUTS)
 
 
-TemperatureCorrectionResponse = response_schema("TemperatureCorrectionResponse", CORRECTION_OUTPUTS,
-                                                inputs=TemperatureCorrectionRequest)
+TemperatureCorrectionResponse = response_schema(TemperatureCorrectionRequest)
 
 
-@blp.route("/temperature-correction", methods=["POST"])
-@blp.arguments(TemperatureCorrectionRequest, examples=examples.TEMPERATURE_CORRECTION)
-@blp.response(200, TemperatureCorrectionResponse)
-@blp.problems(*COMPUTE_PROBLEMS)
+@blp.compute("/temperature-correction", TemperatureCorrectionRequest, examples.TEMPERATURE_CORRECTION,
+             TemperatureCorrectionResponse)
 def temperature_correction(inputs):
     """Cold-temperature correction of minimum altitudes (ICAO PANS-OPS)
 

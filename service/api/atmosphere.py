@@ -3,8 +3,8 @@
 from __future__ import annotations
 
 from service.api import air, air_fields, examples
-from service.api.base import COMPUTE_PROBLEMS, Blueprint
-from service.api.inputs import ComputeSchema, outputs_field
+from service.api.base import Blueprint
+from service.api.inputs import ComputeSchema
 from service.api.outputs import Result
 from service.api.schemas import response_schema
 
@@ -65,22 +65,16 @@ _SOURCE = {
 class AtmosphereRequest(ComputeSchema):
     OUTPUTS = OUTPUTS
 
-    altitude, isa_deviation, temperature, qnh, altitude_kind = air_fields.air_fields(
-        "Altitude [ft]: a pressure altitude (FL allowed), or the indicated altitude with `qnh`, or a geometric "
-        "height with `altitude_kind: geometric`. Arrays allowed.")
+    altitude, isa_deviation, temperature, qnh, altitude_kind = air_fields.air_fields("Arrays allowed.")
     dew_point = air_fields.dew_point_field()
     relative_humidity = air_fields.relative_humidity_field()
-    outputs = outputs_field(OUTPUTS)
 
 
-AtmosphereResponse = response_schema("AtmosphereResponse", OUTPUTS, inputs=AtmosphereRequest)
+AtmosphereResponse = response_schema(AtmosphereRequest)
 
 
-@blp.route("/atmosphere", methods=["POST"])
-@blp.doc(operationId="computeAtmosphere")
-@blp.arguments(AtmosphereRequest, examples=examples.ATMOSPHERE)
-@blp.response(200, AtmosphereResponse)
-@blp.problems(*COMPUTE_PROBLEMS)
+@blp.compute("/atmosphere", AtmosphereRequest, examples.ATMOSPHERE,
+             AtmosphereResponse, operation_id="computeAtmosphere")
 def atmosphere(inputs):
     """Standard atmosphere at one point or many
 

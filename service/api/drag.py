@@ -8,9 +8,9 @@ from __future__ import annotations
 import marshmallow as ma
 
 from service.api import air, air_fields, examples
-from service.api.base import COMPUTE_PROBLEMS, Blueprint
+from service.api.base import Blueprint
 from service.api.fields import Number, Quantity
-from service.api.inputs import ComputeSchema, outputs_field
+from service.api.inputs import ComputeSchema
 from service.api.lift.common import (
     BANK_ANGLE,
     LOAD_FACTOR,
@@ -27,11 +27,11 @@ from service.api.speeds import (
     CALIBRATION_NEEDS_IAS,
     IAS_NEEDS_CALIBRATION,
     KINDS,
+    SPEED_OUTPUTS,
     Speeds,
     calibration_field,
     given_speed,
-    mach_field,
-    speed_field,
+    speed_fields,
 )
 from service.physics import drag as dp
 from service.physics import lift as lf
@@ -104,10 +104,6 @@ def _speed_leaves(speeds: Speeds) -> dict:
             "tas": Leaf(speeds.require("tas"), "speed"), "mach": Leaf(speeds.require("mach"))}
 
 
-_ALTITUDE = ("Altitude [ft]: a pressure altitude (FL allowed), or the indicated altitude with `qnh`, or a geometric "
-             "height with `altitude_kind: geometric`.")
-
-
 # --- POST /v1/drag ------------------------------------------------------------------------------------------
 
 DRAG_OUTPUTS = {
@@ -118,10 +114,7 @@ DRAG_OUTPUTS = {
     "thrust_required": ("force", "Thrust required for steady level flight (or a steady level turn): equal to the "
                                  "drag [N]."),
     "power_required": ("power", "Power required, drag times TAS [kW]."),
-    "cas": ("speed", "Calibrated airspeed [kt]."),
-    "eas": ("speed", "Equivalent airspeed [kt]."),
-    "tas": ("speed", "True airspeed [kt]."),
-    "mach": (None, "Mach number [-]."),
+    **SPEED_OUTPUTS,
     "dynamic_pressure": ("pressure", "Dynamic pressure q = 1/2 rho TAS^2 = (gamma/2) p M^2 [hPa]."),
     "pressure_altitude": ("altitude", "Pressure altitude [ft]."),
     "density_altitude": ("altitude", "Density altitude [ft]; null (with a warning) outside the model's range."),
@@ -142,34 +135,21 @@ class DragRequest(_PolarInputs, ComputeSchema):
     RULES = (*POLAR_RULES, ONE_FLIGHT_CONDITION, IAS_NEEDS_CALIBRATION, CALIBRATION_NEEDS_IAS, LOAD_FACTOR_OR_BANK)
 
     weight = weight_field("Weight", required=True)
-    wing_area = wing_area_field()
-    wing_area.required = True  # the shared field factories make optional fields
-    ias = speed_field("ias", _ONE_POINT)
-    cas = speed_field("cas", _ONE_POINT)
-    eas = speed_field("eas", _ONE_POINT)
-    tas = speed_field("tas", _ONE_POINT)
-    mach = mach_field(_ONE_POINT)
+    wing_area = wing_area_field(required=True)
+    ias, cas, eas, tas, mach = speed_fields(_ONE_POINT)
     cl = Number(minimum=0.0, exclusive_minimum=True, maximum=10.0, metadata={
         "description": "Lift coefficient CL [-]. " + _ONE_POINT, "example": [0.3, 0.5, 0.8]})
     calibration = calibration_field()
-    altitude = air_fields.altitude_field(_ALTITUDE)
-    isa_deviation = air_fields.isa_deviation_field()
-    temperature = air_fields.temperature_field()
-    qnh = air_fields.qnh_field()
-    altitude_kind = air_fields.altitude_kind_field()
-    total_air_temperature, recovery_factor, dew_point, relative_humidity = air_fields.probe_and_humidity_fields()
+    (altitude, isa_deviation, temperature, qnh, altitude_kind, total_air_temperature, recovery_factor, dew_point,
+     relative_humidity) = air_fields.every_air_field()
     load_factor = LOAD_FACTOR
     bank_angle = BANK_ANGLE
-    outputs = outputs_field(DRAG_OUTPUTS)
 
 
-DragResponse = response_schema("DragResponse", DRAG_OUTPUTS, DragRequest)
+DragResponse = response_schema(DragRequest)
 
 
-@blp.route("/drag", methods=["POST"])
-@blp.arguments(DragRequest, examples=examples.DRAG)
-@blp.response(200, DragResponse)
-@blp.problems(*COMPUTE_PROBLEMS)
+@blp.compute("/drag", DragRequest, examples.DRAG, DragResponse)
 def drag(inputs):
     """Drag, thrust and power required at a flight condition
 
@@ -204,7 +184,7 @@ def drag(inputs):
             value = result.null_where(name, state.density_altitude, "The density altitude lies outside the model's "
                                                                     "range.")
         else:
-            value = speeds.require(name) if name in ("cas", "eas", "tas", "mach") else values[name]
+            value = speeds.require(name) if name in SPEED_OUTPUTS else values[name]
         result.add(name, value)
     _warn_beyond_polar(result, inputs, "cd", speeds.require("mach"))
     return result.response()
@@ -226,27 +206,19 @@ class DragSpeedsRequest(_PolarInputs, ComputeSchema):
     RULES = (*POLAR_RULES, NoneOf("total_air_temperature", "recovery_factor", message=NO_TAT_FOR_FOUND_SPEEDS))
 
     weight = weight_field("Weight", required=True)
-    wing_area = wing_area_field()
-    wing_area.required = True  # the shared field factories make optional fields
-    altitude = air_fields.altitude_field(_ALTITUDE)
-    isa_deviation = air_fields.isa_deviation_field()
-    temperature = air_fields.temperature_field()
-    qnh = air_fields.qnh_field()
-    altitude_kind = air_fields.altitude_kind_field()
-    total_air_temperature, recovery_factor, dew_point, relative_humidity = air_fields.probe_and_humidity_fields()
+    wing_area = wing_area_field(required=True)
+    (altitude, isa_deviation, temperature, qnh, altitude_kind, total_air_temperature, recovery_factor, dew_point,
+     relative_humidity) = air_fields.every_air_field()
     height = Quantity("altitude", minimum=0.0, exclusive_minimum=True, maximum=HEIGHT_MAX_FT, metadata={
         "description": "Optional: height to lose in a glide [ft]; `best_glide` then gives the still-air glide "
                        "distance from it.", "example": 25000})
-    outputs = outputs_field(SPEEDS_OUTPUTS)
-
-
-_SPEED_DESCRIPTIONS = {"eas": ("Equivalent airspeed [kt].", "speed"), "cas": ("Calibrated airspeed [kt].", "speed"),
-                       "tas": ("True airspeed [kt].", "speed"), "mach": ("Mach number [-].", None)}
 
 
 def _condition_schema(name: str, extra: dict) -> type[ma.Schema]:
-    fields = {key: quantity_out(desc, dim) if dim else ratio_out(desc)
-              for key, (desc, dim) in _SPEED_DESCRIPTIONS.items()}
+    fields = {}
+    for key in ("eas", "cas", "tas", "mach"):  # the order of _speed_leaves
+        dim, desc = SPEED_OUTPUTS[key]
+        fields[key] = quantity_out(desc, dim) if dim else ratio_out(desc)
     fields.update(extra)
     return type(name, (ma.Schema,), fields)
 
@@ -270,7 +242,7 @@ BestGlideOut = _condition_schema("BestGlideOut", {
                                    "distance"),
 })
 
-DragSpeedsResponse = response_schema("DragSpeedsResponse", {}, DragSpeedsRequest, fields={
+DragSpeedsResponse = response_schema(DragSpeedsRequest, fields={
     "minimum_drag": ma.fields.Nested(MinimumDragOut, metadata={
         "description": "Steady level flight at minimum drag, the least thrust required: the maximum L/D."}),
     "minimum_power": ma.fields.Nested(MinimumPowerOut, metadata={
@@ -281,10 +253,7 @@ DragSpeedsResponse = response_schema("DragSpeedsResponse", {}, DragSpeedsRequest
                        "along the path from L = W cos(glide angle)."})})
 
 
-@blp.route("/drag/speeds", methods=["POST"])
-@blp.arguments(DragSpeedsRequest, examples=examples.DRAG_SPEEDS)
-@blp.response(200, DragSpeedsResponse)
-@blp.problems(*COMPUTE_PROBLEMS)
+@blp.compute("/drag/speeds", DragSpeedsRequest, examples.DRAG_SPEEDS, DragSpeedsResponse)
 def speeds(inputs):
     """Characteristic speeds: minimum drag, minimum power, best glide
 

@@ -34,17 +34,27 @@ class WholeNumber(ma.fields.Integer):
         return super()._deserialize(value, attr, data, **kwargs)
 
 
-class ComputeSchema(RuleSchema):
+class _WithOutputsField(type(RuleSchema)):
+    """Gives a compute request schema its ``outputs`` field, from its OUTPUTS, last (marshmallow's hook for
+    fields computed from the class)."""
+
+    @classmethod
+    def get_declared_fields(mcs, klass, cls_fields, inherited_fields, dict_cls=dict):  # noqa: N804 (marshmallow's)
+        fields = super().get_declared_fields(klass, cls_fields, inherited_fields, dict_cls)
+        if klass.OUTPUTS:
+            fields.pop("outputs", None)
+            fields["outputs"] = outputs_field(klass.OUTPUTS)
+        return fields
+
+
+class ComputeSchema(RuleSchema, metaclass=_WithOutputsField):
     """Base of every compute request: output units, output selection, grid.
 
     Subclasses list their outputs in ``OUTPUTS`` ({name: (dimension or None, description)}, in the
-    answer's order; or a tuple of names when they are nested) and their rules in ``RULES``
-    (api.rules); every numeric top-level field is an axis of the grid, in field order.
+    answer's order; or a tuple of names when they are nested), which gives them their last field, the
+    ``outputs`` selection (outputs_field), and their rules in ``RULES`` (api.rules); every numeric top-level
+    field is an axis of the grid, in field order.
     """
-
-    class Meta:
-        unknown = ma.RAISE
-        ordered = True
 
     OUTPUTS: dict | tuple[str, ...] = ()
 

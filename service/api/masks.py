@@ -7,7 +7,7 @@ import numpy as np
 
 from service.physics.arrays import any_true
 
-__all__ = ["MAX_REPORTED", "any_true", "first_indices"]
+__all__ = ["MAX_REPORTED", "any_true", "at_points", "first_indices"]
 
 #: How many indices an error or a warning lists (the first ones).
 MAX_REPORTED = 10
@@ -19,3 +19,8 @@ def first_indices(mask) -> list[int]:
     if mask.ndim == 0:
         return [0] if bool(mask) else []
     return [int(i) for i in np.flatnonzero(mask)[:MAX_REPORTED]]
+
+
+def at_points(mask) -> str:
+    """" at points [...]" (the first indices where ``mask`` is true) for an array mask, "" for a 0-d one."""
+    return f" at points {first_indices(mask)}" if np.ndim(mask) else ""

@@ -12,6 +12,7 @@ import marshmallow as ma
 import numpy as np
 
 from service.api.masks import MAX_REPORTED
+from service.units import UnitError, canonical
 
 _NUMBER_TYPES = {int, float}
 
@@ -94,3 +95,39 @@ def parse_numbers(raw, *, allow_array: bool = True):
 def one_number(raw) -> float:
     """One of a range's start, stop and step, with the words of any other number field."""
     return float(parse_numbers(raw, allow_array=False)[0])
+
+
+def table_columns(value, columns: tuple[str, ...], items: str, unit: tuple[str, str] | None = None):
+    """The columns of a table inside a request, an object of arrays (``{"ias": [...], "cas": [...]}``, with
+    ``unit``: (dimension, default) a ``"unit"`` member too): ``(arrays by name, canonical unit or None)``.
+
+    Every fault at once, keyed by member (unknown members, the unit, missing columns, a column that is not an
+    array of numbers: "Give an array of at least two ``items``."), as one ma.ValidationError.
+    """
+    shape = ", ".join([f'"{key}": [...]' for key in columns] + ([f'"unit": "{unit[1]}"'] if unit else []))
+    if type(value) is not dict:
+        raise ma.ValidationError(f"Give an object {{{shape}}}.")
+    errors = {key: ["Unknown field."] for key in sorted(value.keys() - {*columns, *(("unit",) if unit else ())})}
+    found_unit = None
+    if unit:
+        try:
+            found_unit = canonical(unit[0], value.get("unit", unit[1]))
+        except UnitError as err:
+            errors["unit"] = [str(err)]
+    arrays = {}
+    for key in columns:
+        if key not in value:
+            errors[key] = ["Missing data for required field."]
+            continue
+        try:
+            column, is_array = parse_numbers(value[key])
+        except ma.ValidationError as err:
+            errors[key] = err.messages
+            continue
+        if not is_array:
+            errors[key] = [f"Give an array of at least two {items}."]
+            continue
+        arrays[key] = column
+    if errors:
+        raise ma.ValidationError(errors)
+    return arrays, found_unit

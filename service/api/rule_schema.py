@@ -159,7 +159,15 @@ def field_rules(field, name: str) -> list[Rule]:
     return list(rules_for(name)) if rules_for is not None else []
 
 
-class RuleSchema(ma.Schema):
+class StrictSchema(ma.Schema):
+    """An object of a request (a body, a nested block): an unknown field is a 422, never ignored (marshmallow's
+    RAISE, its default, said once here for every request schema; fields keep their declared order)."""
+
+    class Meta:
+        unknown = ma.RAISE
+
+
+class RuleSchema(StrictSchema):
     """A schema that checks its rules (:func:`schema_rules`) once its fields have loaded."""
 
     @ma.validates_schema

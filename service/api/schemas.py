@@ -69,13 +69,16 @@ def ratio_out(description: str, **kwargs) -> NumberOut:
     return NumberOut(metadata={"description": description}, **kwargs)
 
 
-def response_schema(name: str, outputs: dict, inputs: type[ma.Schema] | None = None,
-                    fields: dict | None = None) -> type[ma.Schema]:
-    """A response schema class: the outputs (none required: `outputs` may select), warnings, grid inputs.
+def response_schema(inputs: type[ma.Schema], fields: dict | None = None) -> type[ma.Schema]:
+    """The response schema class of the compute request schema ``inputs`` (``XRequest`` answers ``XResponse``):
+    its outputs (none required: `outputs` may select), warnings, grid inputs.
 
-    ``outputs``: {name: (dimension or None, description)}, a QuantityOut or NumberOut each; ``fields``:
-    other fields, in place of the output of the same name (a label, a flag, a nested block) or before them.
+    The request's OUTPUTS table ({name: (dimension or None, description)}) gives a QuantityOut or NumberOut
+    each; ``fields``: other fields, in place of the output of the same name (a label, a flag, a nested block) or
+    before them (all of them, when OUTPUTS only names nested outputs).
     """
+    name = inputs.__name__.removesuffix("Request") + "Response"
+    outputs = inputs.OUTPUTS if isinstance(inputs.OUTPUTS, dict) else {}
     fields = fields or {}
     attrs = {key: field for key, field in fields.items() if key not in outputs}
     for key, (dimension, description) in outputs.items():
@@ -83,11 +86,10 @@ def response_schema(name: str, outputs: dict, inputs: type[ma.Schema] | None = N
                                        else ratio_out(description))
     attrs["warnings"] = ma.fields.List(ma.fields.Nested(WarningSchema), required=True, metadata={
         "description": "Outputs that are null or doubtful at some points, with why and where."})
-    if inputs is not None:
-        echoed = [f"`{key}` [{unit_for(f.dimension, {})}]" if getattr(f, "dimension", None) else f"`{key}` [-]"
-                  for key, f in inputs._declared_fields.items() if isinstance(f, Number)]
-        attrs["inputs"] = InputsOut(metadata={
-            "description": "Only with grid: true. Every numeric input given, at every point, in the output unit of "
-                           "its dimension (default shown), so that each point can be read on its own: "
-                           + ", ".join(echoed) + "."})
+    echoed = [f"`{key}` [{unit_for(f.dimension, {})}]" if getattr(f, "dimension", None) else f"`{key}` [-]"
+              for key, f in inputs._declared_fields.items() if isinstance(f, Number)]
+    attrs["inputs"] = InputsOut(metadata={
+        "description": "Only with grid: true. Every numeric input given, at every point, in the output unit of its "
+                       "dimension (default shown), so that each point can be read on its own: "
+                       + ", ".join(echoed) + "."})
     return type(name, (ma.Schema,), attrs)

@@ -10,6 +10,7 @@ import numpy as np
 
 from service.api import air_fields
 from service.api.fields import Quantity
+from service.api.rule_schema import StrictSchema
 from service.api.speeds import SPEED_MAX_KT
 from service.physics import airspeed as spd
 from service.physics.schedule import GOVERNING, limited_speed_schedule
@@ -22,12 +23,8 @@ GOVERNING_DESCRIPTION = (
     "schedule's (the limit is flown).")
 
 
-class SpeedLimitSchema(ma.Schema):
+class SpeedLimitSchema(StrictSchema):
     """A CAS limit below an altitude."""
-
-    class Meta:
-        unknown = ma.RAISE
-        ordered = True
 
     cas = Quantity("speed", required=True, minimum=0.0, exclusive_minimum=True, maximum=SPEED_MAX_KT,
                    allow_array=False, metadata={"description": "The highest CAS allowed below `altitude` [kt].",

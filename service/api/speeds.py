@@ -11,10 +11,11 @@ import numpy as np
 
 from service.api.air import Air, refuse_where
 from service.api.examples import TQ62_CALIBRATION
-from service.api.fields import Number, Quantity, parse_numbers, ref
+from service.api.fields import Number, Quantity, ref
 from service.api.inputs import Inputs
 from service.api.lazy import lazy
-from service.api.masks import any_true, first_indices
+from service.api.masks import any_true, at_points
+from service.api.numbers import table_columns
 from service.api.problems import invalid
 from service.api.rules import ExactlyOne, Needs, NotTogether
 from service.api.values import require
@@ -22,7 +23,7 @@ from service.physics import airspeed as spd
 from service.physics import humidity as hum
 from service.physics import total_temperature as tt
 from service.physics.constants import GAMMA, RHO0
-from service.units import UnitError, canonical, from_si, to_si
+from service.units import from_si, to_si
 
 #: The speed inputs, in the order a request is checked for them.
 KINDS = ("ias", "cas", "eas", "tas", "mach")
@@ -39,52 +40,39 @@ _NAMES = {
     "eas": "Equivalent airspeed",
     "tas": "True airspeed",
 }
+#: The outputs of every speed kind, as in an endpoint's OUTPUTS ({**SPEED_OUTPUTS, ...}), in the answer's order.
+SPEED_OUTPUTS = {
+    "cas": ("speed", "Calibrated airspeed [kt]."),
+    "eas": ("speed", "Equivalent airspeed [kt]."),
+    "tas": ("speed", "True airspeed [kt]."),
+    "mach": (None, "Mach number [-]."),
+}
 #: The spec's example of each speed input: our demo type TQ-62 climbing through FL240 on an ISA+10 day
 #: (the TAS and EAS belong to that CAS).
 _EXAMPLES = {"ias": 250, "cas": {"value": 250, "unit": "kt"}, "eas": 241, "tas": [350, 380, 410]}
 
 
-def speed_field(kind: str, note: str = "") -> Quantity:
-    return Quantity("speed", minimum=0.0, exclusive_minimum=True, maximum=SPEED_MAX_KT, metadata={
+def speed_field(kind: str, note: str = "", required: bool = False) -> Quantity:
+    return Quantity("speed", required=required, minimum=0.0, exclusive_minimum=True, maximum=SPEED_MAX_KT, metadata={
         "description": f"{_NAMES[kind]} [kt].{(' ' + note) if note else ''}", "example": _EXAMPLES[kind]})
 
 
-def mach_field(note: str = "") -> Number:
-    return Number(minimum=0.0, exclusive_minimum=True, maximum=MACH_MAX, metadata={
+def mach_field(note: str = "", required: bool = False) -> Number:
+    return Number(required=required, minimum=0.0, exclusive_minimum=True, maximum=MACH_MAX, metadata={
         "description": f"Mach number [-], a bare number or array.{(' ' + note) if note else ''}", "example": 0.76})
+
+
+def speed_fields(note: str, speed_note: str = "") -> tuple[Quantity, Quantity, Quantity, Quantity, Number]:
+    """The five speed fields in a request's order, each with ``note`` (the four speeds ``speed_note`` after it):
+    ``ias, cas, eas, tas, mach = speed_fields(...)`` in a schema's body."""
+    return (*(speed_field(kind, note + speed_note) for kind in KINDS[:4]), mach_field(note))
 
 
 class CalibrationField(ma.fields.Field):
     """``calibration``: {"ias": [...], "cas": [...], "unit": "kt"}, both columns strictly increasing."""
 
     def _deserialize(self, value, attr, data, **kwargs):
-        if type(value) is not dict:
-            raise ma.ValidationError("Give an object {\"ias\": [...], \"cas\": [...], \"unit\": \"kt\"}.")
-        errors = {}
-        unknown = value.keys() - {"ias", "cas", "unit"}
-        for key in sorted(unknown):
-            errors[key] = ["Unknown field."]
-        unit = value.get("unit", "kt")
-        try:
-            unit = canonical("speed", unit)
-        except UnitError as err:
-            errors["unit"] = [str(err)]
-        columns = {}
-        for key in ("ias", "cas"):
-            if key not in value:
-                errors[key] = ["Missing data for required field."]
-                continue
-            try:
-                column, is_array = parse_numbers(value[key])
-            except ma.ValidationError as err:
-                errors[key] = err.messages
-                continue
-            if not is_array:
-                errors[key] = ["Give an array of at least two speeds."]
-                continue
-            columns[key] = column
-        if errors:
-            raise ma.ValidationError(errors)
+        columns, unit = table_columns(value, ("ias", "cas"), "speeds", unit=("speed", "kt"))
         try:  # in the given unit (a positive factor keeps the checks), so messages quote the request's numbers
             spd.check_calibration(columns["ias"], columns["cas"])
         except ValueError as err:
@@ -147,9 +135,8 @@ class Speeds:
             outside = np.isnan(cas)
             if any_true(outside):
                 lo, hi = from_si(calibration[0][[0, -1]], "speed", "kt")
-                at = f" at points {first_indices(outside)}" if np.ndim(outside) else ""
-                raise invalid([{"pointer": "/ias", "message": f"IAS outside the calibration table's IAS column, "
-                                f"{lo:g} to {hi:g} kt{at}; nothing is extrapolated."}])
+                raise invalid({"/ias": f"IAS outside the calibration table's IAS column, {lo:g} to {hi:g} kt"
+                                       f"{at_points(outside)}; nothing is extrapolated."})
             self.__dict__["cas"] = cas
         self.given = given
         if air is not None:

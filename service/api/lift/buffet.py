@@ -4,14 +4,13 @@ altitude and weight for a required margin."""
 from __future__ import annotations
 
 import marshmallow as ma
-import numpy as np
 
 from service.api import air, air_fields, examples
-from service.api.base import COMPUTE_PROBLEMS
-from service.api.fields import Number, parse_numbers
-from service.api.inputs import ComputeSchema, outputs_field
+from service.api.fields import Number
+from service.api.inputs import ComputeSchema
 from service.api.lift.common import blp, output_needs, weight_field, wing_area_field
-from service.api.masks import any_true, first_indices
+from service.api.masks import any_true, at_points
+from service.api.numbers import table_columns
 from service.api.outputs import Result
 from service.api.problems import invalid
 from service.api.rules import Given
@@ -20,33 +19,12 @@ from service.api.speeds import Speeds, mach_field
 from service.physics.buffet import buffet_margins, check_buffet_table
 from service.physics.constants import G0
 
-_ALTITUDE = ("Altitude [ft]: a pressure altitude (FL allowed), or the indicated altitude with `qnh`, or a geometric "
-             "height with `altitude_kind: geometric`.")
-
 
 class BuffetTableField(ma.fields.Field):
     """``buffet``: {"mach": [...], "cl": [...]}, the type's 1 g buffet-onset CL against Mach."""
 
     def _deserialize(self, value, attr, data, **kwargs):
-        if type(value) is not dict:
-            raise ma.ValidationError("Give an object {\"mach\": [...], \"cl\": [...]}.")
-        errors = {key: ["Unknown field."] for key in sorted(value.keys() - {"mach", "cl"})}
-        columns = {}
-        for key in ("mach", "cl"):
-            if key not in value:
-                errors[key] = ["Missing data for required field."]
-                continue
-            try:
-                column, is_array = parse_numbers(value[key])
-            except ma.ValidationError as err:
-                errors[key] = err.messages
-                continue
-            if not is_array:
-                errors[key] = ["Give an array of at least two numbers."]
-                continue
-            columns[key] = column
-        if errors:
-            raise ma.ValidationError(errors)
+        columns, _ = table_columns(value, ("mach", "cl"), "numbers")
         try:
             return check_buffet_table(columns["mach"], columns["cl"])
         except ValueError as err:
@@ -93,16 +71,10 @@ class BuffetRequest(ComputeSchema):
     RULES = tuple(output_needs(name, Given("margin"), "`margin`") for name in WITH_MARGIN)
 
     weight = weight_field("Weight", required=True)
-    wing_area = wing_area_field()
-    wing_area.required = True  # the shared field factories make optional fields
-    mach = mach_field("Inside the `buffet` table's Mach range (nothing is extrapolated).")
-    mach.required = True
-    altitude = air_fields.altitude_field(_ALTITUDE)
-    isa_deviation = air_fields.isa_deviation_field()
-    temperature = air_fields.temperature_field()
-    qnh = air_fields.qnh_field()
-    altitude_kind = air_fields.altitude_kind_field()
-    total_air_temperature, recovery_factor, dew_point, relative_humidity = air_fields.probe_and_humidity_fields()
+    wing_area = wing_area_field(required=True)
+    mach = mach_field("Inside the `buffet` table's Mach range (nothing is extrapolated).", required=True)
+    (altitude, isa_deviation, temperature, qnh, altitude_kind, total_air_temperature, recovery_factor, dew_point,
+     relative_humidity) = air_fields.every_air_field()
     buffet = BuffetTableField(required=True, metadata={
         "description": "The type's 1 g buffet-onset boundary from its flight manual: CL against Mach, linear "
                        "between rows. A Mach number outside the table is refused (nothing is extrapolated).",
@@ -110,16 +82,12 @@ class BuffetRequest(ComputeSchema):
     margin = Number(minimum=1.0, metadata={
         "description": "Required margin to buffet onset as a load factor [-], for example 1.3 (about 40 deg of "
                        "bank); gives the maximum altitude, weight and W/delta.", "example": 1.3})
-    outputs = outputs_field(BUFFET_OUTPUTS)
 
 
-BuffetResponse = response_schema("BuffetResponse", BUFFET_OUTPUTS, BuffetRequest)
+BuffetResponse = response_schema(BuffetRequest)
 
 
-@blp.route("/lift/buffet", methods=["POST"])
-@blp.arguments(BuffetRequest, examples=examples.BUFFET)
-@blp.response(200, BuffetResponse)
-@blp.problems(*COMPUTE_PROBLEMS)
+@blp.compute("/lift/buffet", BuffetRequest, examples.BUFFET, BuffetResponse)
 def buffet(inputs):
     """Margins to buffet onset, W/delta, maximum altitude and weight
 
@@ -135,9 +103,8 @@ def buffet(inputs):
     mach, (table_mach, table_cl) = inputs.si("mach"), inputs.get("buffet")
     outside = (mach < table_mach[0]) | (mach > table_mach[-1])
     if any_true(outside):
-        at = f" at points {first_indices(outside)}" if np.ndim(outside) else ""
-        raise invalid([{"pointer": "/mach", "message": f"Mach number outside the buffet table's range, "
-                        f"{table_mach[0]:g} to {table_mach[-1]:g}{at}; nothing is extrapolated."}])
+        raise invalid({"/mach": f"Mach number outside the buffet table's range, {table_mach[0]:g} to "
+                                f"{table_mach[-1]:g}{at_points(outside)}; nothing is extrapolated."})
     state = air.air(inputs)
     speeds = Speeds(state, "mach", mach)  # with a total air temperature, the static temperature from the Mach number
     margin = inputs.si("margin")

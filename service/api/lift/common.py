@@ -36,8 +36,9 @@ def weight_field(description: str, required: bool = False, example=21000) -> Qua
                        "lbf), told apart by the unit.", "example": example})
 
 
-def wing_area_field(description: str = "Wing reference area [m2].") -> Quantity:
-    return Quantity("area", minimum=0.0, exclusive_minimum=True, metadata={"description": description, "example": 61})
+def wing_area_field(description: str = "Wing reference area [m2].", required: bool = False) -> Quantity:
+    return Quantity("area", required=required, minimum=0.0, exclusive_minimum=True,
+                    metadata={"description": description, "example": 61})
 
 
 # A field object may be declared by several schemas: each schema instance works on its own copy.

@@ -5,9 +5,8 @@ from __future__ import annotations
 import numpy as np
 
 from service.api import examples
-from service.api.base import COMPUTE_PROBLEMS
 from service.api.fields import Number, Quantity
-from service.api.inputs import ComputeSchema, outputs_field
+from service.api.inputs import ComputeSchema
 from service.api.lift.common import (
     AIRFOIL_EFFICIENCY,
     AIRFOIL_LIFT_SLOPE,
@@ -73,18 +72,13 @@ class LiftCurveRequest(ComputeSchema):
     cl = Number(metadata={"description": "Lift coefficient [-] -> `angle_of_attack`. Not with `angle_of_attack`.",
                           "example": 0.9})
     cl_max = CL_MAX
-    outputs = outputs_field(CURVE_OUTPUTS)
 
 
-CurveResponse = response_schema("LiftCurveResponse", CURVE_OUTPUTS, LiftCurveRequest, fields={
+CurveResponse = response_schema(LiftCurveRequest, fields={
     "beyond_stall": FlagOut(metadata={"description": CURVE_OUTPUTS["beyond_stall"][1]})})
 
 
-@blp.route("/lift/curve", methods=["POST"])
-@blp.doc(operationId="computeLiftCurve")
-@blp.arguments(LiftCurveRequest, examples=examples.LIFT_CURVE)
-@blp.response(200, CurveResponse)
-@blp.problems(*COMPUTE_PROBLEMS)
+@blp.compute("/lift/curve", LiftCurveRequest, examples.LIFT_CURVE, CurveResponse, operation_id="computeLiftCurve")
 def curve(inputs):
     """The wing's lift-curve slope, and CL <-> angle of attack
 

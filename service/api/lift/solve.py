@@ -12,10 +12,9 @@ import marshmallow as ma
 import numpy as np
 
 from service.api import air, air_fields, examples
-from service.api.base import COMPUTE_PROBLEMS
 from service.api.examples import TQ62_WING
 from service.api.fields import Number
-from service.api.inputs import ComputeSchema, Inputs, outputs_field
+from service.api.inputs import ComputeSchema, Inputs
 from service.api.lift.common import (
     AIRFOIL_EFFICIENCY,
     AIRFOIL_LIFT_SLOPE,
@@ -50,12 +49,12 @@ from service.api.speeds import (
     CALIBRATION_NEEDS_IAS,
     IAS_NEEDS_CALIBRATION,
     KINDS,
+    SPEED_OUTPUTS,
     Speeds,
     calibration_field,
     given_speed,
-    mach_field,
     one_speed,
-    speed_field,
+    speed_fields,
 )
 from service.api.values import require
 from service.physics import atmosphere as atm
@@ -80,10 +79,7 @@ SOLVE_OUTPUTS = {
     "wing_area": ("area", "Wing reference area [m2]."),
     "wing_loading": ("wing_loading", "Wing loading W / S [N/m2] (kg/m2 and lb/ft2 through output_units)."),
     "dynamic_pressure": ("pressure", "Dynamic pressure q = 1/2 rho TAS^2 = (gamma/2) p M^2 [hPa]."),
-    "cas": ("speed", "Calibrated airspeed [kt]."),
-    "eas": ("speed", "Equivalent airspeed [kt]."),
-    "tas": ("speed", "True airspeed [kt]."),
-    "mach": (None, "Mach number [-]."),
+    **SPEED_OUTPUTS,
     "pressure_altitude": ("altitude", "Pressure altitude [ft]."),
     "density_altitude": ("altitude", "Density altitude [ft]; null (with a warning) outside the model's range."),
     "density": ("density", "Air density (at the virtual temperature with `dew_point` or `relative_humidity`) [kg/m3]."),
@@ -133,10 +129,6 @@ class LiftWingSchema(RuleSchema):
 
     RULES = (ONE_AIRFOIL_INPUT,)
 
-    class Meta:
-        unknown = ma.RAISE
-        ordered = True
-
     aspect_ratio = ASPECT_RATIO
     sweep_half_chord = SWEEP
     airfoil_efficiency = AIRFOIL_EFFICIENCY
@@ -164,16 +156,10 @@ class LiftSolveRequest(ComputeSchema):
     wing_area = wing_area_field()
     cl = Number(minimum=0.0, exclusive_minimum=True, metadata={"description": "Lift coefficient CL [-].",
                                                                 "example": 0.6})
-    ias = speed_field("ias", _SPEED_NOTE)
-    cas = speed_field("cas", _SPEED_NOTE)
-    eas = speed_field("eas", _SPEED_NOTE)
-    tas = speed_field("tas", _SPEED_NOTE)
-    mach = mach_field(_SPEED_NOTE)
+    ias, cas, eas, tas, mach = speed_fields(_SPEED_NOTE)
     calibration = calibration_field()
-    altitude, isa_deviation, temperature, qnh, altitude_kind = air_fields.air_fields(
-        "Altitude [ft]: a pressure altitude (FL allowed), or the indicated altitude with `qnh`, or a geometric height "
-        "with `altitude_kind: geometric`. Required unless solving for altitude.", required=False)
-    total_air_temperature, recovery_factor, dew_point, relative_humidity = air_fields.probe_and_humidity_fields()
+    (altitude, isa_deviation, temperature, qnh, altitude_kind, total_air_temperature, recovery_factor, dew_point,
+     relative_humidity) = air_fields.every_air_field("Required unless solving for altitude.", required=False)
     load_factor = LOAD_FACTOR
     bank_angle = BANK_ANGLE
     wing = ma.fields.Nested(LiftWingSchema, metadata={
@@ -181,10 +167,9 @@ class LiftSolveRequest(ComputeSchema):
                        "of the flight condition); the answer then adds `angle_of_attack`, and `beyond_stall` with "
                        "`cl_max`. Arrays here broadcast against the points (length 1 or the number of points).",
         "example": TQ62_WING})
-    outputs = outputs_field(SOLVE_OUTPUTS)
 
 
-SolveResponse = response_schema("LiftSolveResponse", SOLVE_OUTPUTS, LiftSolveRequest, fields={
+SolveResponse = response_schema(LiftSolveRequest, fields={
     "solved_for": LabelOut(UNKNOWNS, metadata={"description": "The unknown that was solved for (always present)."}),
     "beyond_stall": FlagOut(metadata={"description": SOLVE_OUTPUTS["beyond_stall"][1]})})
 
@@ -296,7 +281,7 @@ _OUTPUTS = {
     "wing_area": lambda s: s.S,
     "wing_loading": lambda s: s.W / s.S,
     "dynamic_pressure": lambda s: s.q,
-    **{kind: partial(Solution.speed, name=kind) for kind in ("cas", "eas", "tas", "mach")},
+    **{kind: partial(Solution.speed, name=kind) for kind in SPEED_OUTPUTS},
     "pressure_altitude": lambda s: s.air.H,
     "density_altitude": lambda s: secondary(s.result, "density_altitude", s.air.density_altitude,
                                             "The density altitude lies outside the model's range."),
@@ -317,11 +302,7 @@ def _solve_outputs(inputs: Inputs) -> list[str]:
     return [name for name in inputs.outputs if name not in skip]
 
 
-@blp.route("/lift/solve", methods=["POST"])
-@blp.doc(operationId="solveLift")
-@blp.arguments(LiftSolveRequest, examples=examples.LIFT_SOLVE)
-@blp.response(200, SolveResponse)
-@blp.problems(*COMPUTE_PROBLEMS)
+@blp.compute("/lift/solve", LiftSolveRequest, examples.LIFT_SOLVE, SolveResponse, operation_id="solveLift")
 def solve(inputs):
     """Solve the lift equation for one unknown
 

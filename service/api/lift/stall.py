@@ -6,9 +6,8 @@ import marshmallow as ma
 
 from service.api import air, air_fields, examples, ranges
 from service.api.air import Air
-from service.api.base import COMPUTE_PROBLEMS
 from service.api.fields import Number, Quantity, parse_numbers
-from service.api.inputs import ComputeSchema, Inputs, outputs_field
+from service.api.inputs import ComputeSchema, Inputs
 from service.api.lift.common import (
     BANK_ANGLE,
     LOAD_FACTOR,
@@ -22,6 +21,7 @@ from service.api.lift.common import (
 )
 from service.api.masks import any_true, first_indices
 from service.api.outputs import Leaf, Result
+from service.api.rule_schema import StrictSchema
 from service.api.rules import Either, Given, NeedsAny
 from service.api.schemas import quantity_out, ratio_out, response_schema
 from service.api.speeds import (
@@ -62,12 +62,8 @@ class SpeedFactors(ma.fields.Field):
                 "maxItems": MAX_SPEED_FACTORS}
 
 
-class StallReferenceSchema(ma.Schema):
+class StallReferenceSchema(StrictSchema):
     """A stall speed from the flight manual, to scale by weight."""
-
-    class Meta:
-        unknown = ma.RAISE
-        ordered = True
 
     stall_speed = Quantity("speed", required=True, minimum=0.0, exclusive_minimum=True, maximum=SPEED_MAX_KT, metadata={
         "description": "The 1 g stall speed as a calibrated airspeed (CAS), as the flight manual gives it [kt].",
@@ -104,10 +100,8 @@ class LiftStallRequest(ComputeSchema):
                        "at its altitude, scaled by sqrt(weight / reference weight). Arrays here broadcast against "
                        "the points (length 1 or the number of points).",
         "example": {"stall_speed": 108, "weight": 22000, "altitude": 0}})
-    altitude, isa_deviation, temperature, qnh, altitude_kind = air_fields.air_fields(
-        "Altitude [ft]: a pressure altitude (FL allowed), or the indicated altitude with `qnh`, or a geometric height "
-        "with `altitude_kind: geometric`.")
-    total_air_temperature, recovery_factor, dew_point, relative_humidity = air_fields.probe_and_humidity_fields()
+    (altitude, isa_deviation, temperature, qnh, altitude_kind, total_air_temperature, recovery_factor, dew_point,
+     relative_humidity) = air_fields.every_air_field()
     load_factor = LOAD_FACTOR
     bank_angle = BANK_ANGLE
     speed_factors = SpeedFactors(metadata={
@@ -121,7 +115,6 @@ class LiftStallRequest(ComputeSchema):
     tas = speed_field("tas", "Optional, for `margin`.")
     mach = mach_field("Optional, for `margin`.")
     calibration = calibration_field()
-    outputs = outputs_field(STALL_OUTPUTS)
 
     def points_worth(self, data: dict, points: int) -> tuple[int, str]:
         """Each speed factor adds a row per point to the answer (an entry of `multiples`): the point limit
@@ -156,7 +149,7 @@ class LiftMarginOut(ma.Schema):
     cl_fraction = ratio_out("CL / CLmax at the given speed and the requested load factor [-].")
 
 
-StallResponse = response_schema("LiftStallResponse", {}, LiftStallRequest, fields={
+StallResponse = response_schema(LiftStallRequest, fields={
     "stall": ma.fields.Nested(LiftStallSpeedsOut, metadata={"description": "The stall speed at the load factor."}),
     "multiples": ma.fields.List(ma.fields.Nested(LiftMultipleOut), metadata={
         "description": "One entry per speed factor, in the order given (with `speed_factors`)."}),
@@ -189,11 +182,7 @@ def _speed_values(speeds: Speeds, output: str) -> dict:
             "mach": (kind("mach"), None)}
 
 
-@blp.route("/lift/stall", methods=["POST"])
-@blp.doc(operationId="computeStallSpeeds")
-@blp.arguments(LiftStallRequest, examples=examples.LIFT_STALL)
-@blp.response(200, StallResponse)
-@blp.problems(*COMPUTE_PROBLEMS)
+@blp.compute("/lift/stall", LiftStallRequest, examples.LIFT_STALL, StallResponse, operation_id="computeStallSpeeds")
 def stall(inputs):
     """Stall speeds under load, their multiples, and the margins at a speed
 

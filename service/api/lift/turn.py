@@ -3,9 +3,8 @@
 from __future__ import annotations
 
 from service.api import air, air_fields, examples
-from service.api.base import COMPUTE_PROBLEMS
 from service.api.fields import Number, Quantity
-from service.api.inputs import ComputeSchema, outputs_field
+from service.api.inputs import ComputeSchema
 from service.api.lift.common import BANK_ANGLE, blp
 from service.api.outputs import Result
 from service.api.rules import ExactlyOne
@@ -16,9 +15,8 @@ from service.api.speeds import (
     Speeds,
     calibration_field,
     given_speed,
-    mach_field,
     one_speed,
-    speed_field,
+    speed_fields,
 )
 from service.physics.turn import level_turn
 
@@ -39,10 +37,6 @@ TURN_OUTPUTS = {
 }
 _ONE_SPEED = "One speed of ias, cas, eas, tas, mach."
 _ONE_TURN = "One of bank_angle, load_factor, turn_rate."
-_ALTITUDE = ("Altitude [ft]: a pressure altitude (FL allowed), or the indicated altitude with `qnh`, or a geometric "
-             "height with `altitude_kind: geometric`.")
-
-
 class TurnRequest(ComputeSchema):
     OUTPUTS = TURN_OUTPUTS
     RULES = (one_speed("Missing the speed: give one of ias, cas, eas, tas, mach."), IAS_NEEDS_CALIBRATION,
@@ -51,34 +45,22 @@ class TurnRequest(ComputeSchema):
                         message=lambda given: f"Give one of bank_angle, load_factor, turn_rate; this request gives "
                                               f"{', '.join(given)}."))
 
-    ias = speed_field("ias", _ONE_SPEED)
-    cas = speed_field("cas", _ONE_SPEED)
-    eas = speed_field("eas", _ONE_SPEED)
-    tas = speed_field("tas", _ONE_SPEED)
-    mach = mach_field(_ONE_SPEED)
+    ias, cas, eas, tas, mach = speed_fields(_ONE_SPEED)
     calibration = calibration_field()
-    altitude = air_fields.altitude_field(_ALTITUDE)
-    isa_deviation = air_fields.isa_deviation_field()
-    temperature = air_fields.temperature_field()
-    qnh = air_fields.qnh_field()
-    altitude_kind = air_fields.altitude_kind_field()
-    total_air_temperature, recovery_factor, dew_point, relative_humidity = air_fields.probe_and_humidity_fields()
+    (altitude, isa_deviation, temperature, qnh, altitude_kind, total_air_temperature, recovery_factor, dew_point,
+     relative_humidity) = air_fields.every_air_field()
     bank_angle = BANK_ANGLE
     load_factor = Number(minimum=1.0, metadata={
         "description": "Load factor n of the level turn [-], at least 1. " + _ONE_TURN, "example": 1.5})
     turn_rate = Quantity("angular_rate", minimum=0.0, maximum=TURN_RATE_MAX_DEG_S, metadata={
         "description": "Rate of turn [deg/s]: 3 is the standard rate (rate one, 360 deg in 2 minutes); the unit "
                        "`standard_rate` counts in multiples of it. " + _ONE_TURN, "example": 3})
-    outputs = outputs_field(TURN_OUTPUTS)
 
 
-TurnResponse = response_schema("TurnResponse", TURN_OUTPUTS, TurnRequest)
+TurnResponse = response_schema(TurnRequest)
 
 
-@blp.route("/lift/turn", methods=["POST"])
-@blp.arguments(TurnRequest, examples=examples.TURN)
-@blp.response(200, TurnResponse)
-@blp.problems(*COMPUTE_PROBLEMS)
+@blp.compute("/lift/turn", TurnRequest, examples.TURN, TurnResponse)
 def turn(inputs):
     """Level coordinated turn: radius, rate, time for 360, load factor, bank
 
