@@ -269,7 +269,7 @@ def archive_dead_worker(path, pid) -> int:
 
     prometheus-client keeps one file per process and kind, and its collector reads every file at
     each scrape, so without this the directory (and the cost of a scrape) grows with every worker
-    ever started (``max_requests`` restarts one every ~2000 requests). Values in these files are
+    ever started (``max_requests`` restarts one every ~20,000 requests). Values in these files are
     plain sums (histogram buckets are stored per bucket, not cumulated), so adding them under the
     same key keeps every total exact. prometheus-client has no public API for this: its
     ``MmapedDict`` (the file format it uses itself) reads and writes the files. The archive is

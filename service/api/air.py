@@ -236,7 +236,9 @@ def pressure_altitude(inputs: Inputs, field: str = "altitude"):
         return H
     # The field checked the range in the caller's unit (Altitude); the conversion to metres can
     # put a value at an end of the range an ulp beyond it.
-    return np.minimum(np.maximum(H, H_MIN), H_MAX)  # ufuncs: np.clip's wrapper costs more for one point
+    if type(H) is np.float64:  # one point: the same clip without two ufunc calls
+        return np.float64(H_MIN) if H < H_MIN else np.float64(H_MAX) if H > H_MAX else H
+    return np.minimum(np.maximum(H, H_MIN), H_MAX)  # ufuncs: np.clip's wrapper costs more
 
 
 def air(inputs: Inputs, field: str = "altitude") -> Air:

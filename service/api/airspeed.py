@@ -125,8 +125,7 @@ def airspeed(inputs):
             if speeds.calibration is not None:
                 result.add(name, result.null_where(name, speeds.ias, _outside_table(inputs)))
         elif name in ("total_air_temperature", "ram_rise"):
-            tat = speeds.air.total_air_temperature(speeds.require("mach"))
-            result.add(name, tat if name == "total_air_temperature" else tat - speeds.air.T)
+            result.add(name, speeds.tat if name == "total_air_temperature" else speeds.tat - speeds.air.T)
         else:
             result.add(name, getattr(speeds, _SOURCE[name]))
     return result.response()

@@ -97,9 +97,10 @@ class Result:
 
     def _walk(self, node, path: str, visit):
         """``node`` with each Leaf replaced by ``visit(path, leaf)``; paths are dotted ("margin.cl_fraction")."""
-        if isinstance(node, Leaf):
+        kind = type(node)
+        if kind is Leaf:
             return visit(path, node)
-        if isinstance(node, dict):
+        if kind is dict:
             return {key: self._walk(value, f"{path}.{key}" if path else key, visit) for key, value in node.items()}
         if isinstance(node, (list, tuple)):
             return [self._walk(value, f"{path}.{index}", visit) for index, value in enumerate(node)]

@@ -213,6 +213,11 @@ class Speeds:
             return 0.5 * self.air.rho * self.tas**2
         return spd.dynamic_pressure(self.mach, self.air.p)
 
+    @lazy
+    def tat(self):
+        """The total air temperature the probe reads [K] (the recovery factor applied)."""
+        return self.air.total_air_temperature(self.require("mach"))
+
     def require(self, name: str):
         """Output ``name``; a 422 when a primary speed does not exist at some point."""
         return require(name, getattr(self, name), f"the {self.kind} given has no {name} here "
