@@ -69,6 +69,10 @@ class ComputeSchema(RuleSchema, metaclass=_WithOutputsField):
         #: The numeric top-level inputs, in field order: the grid's axes, first varying slowest.
         self.AXES = tuple(name for name, field in self.fields.items() if isinstance(field, Number))
         self._plain_fields = all(f.data_key is None and f.attribute is None for f in self.load_fields.values())
+        #: Field order, and the fields loaded even when absent (required, or with a default).
+        self._order = {name: i for i, name in enumerate(self.load_fields)}
+        self._always = frozenset(name for name, f in self.load_fields.items()
+                                 if f.required or f.load_default is not ma.missing)
 
     def _deserialize(self, data, *, error_store, many=False, partial=None, unknown=ma.RAISE, index=None):
         """marshmallow's field loop, lean for the one case a request body is (one flat object):
@@ -81,10 +85,11 @@ class ComputeSchema(RuleSchema, metaclass=_WithOutputsField):
             return super()._deserialize(data, error_store=error_store, many=many, partial=partial,
                                         unknown=unknown, index=index)
         loaded = {}
-        for name, field in self.load_fields.items():
+        fields = self.load_fields
+        # the fields given and those loaded when absent, in field order (not a pass over every field)
+        for name in sorted(self._always.union(data.keys() & self._order.keys()), key=self._order.__getitem__):
+            field = fields[name]
             raw = data.get(name, ma.missing)
-            if raw is ma.missing and not field.required and field.load_default is ma.missing:
-                continue
             try:
                 value = field.deserialize(raw, name, data)
             except ma.ValidationError as err:
