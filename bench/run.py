@@ -343,7 +343,27 @@ def throughput_bodies(n: int) -> dict[str, dict]:
                            "altitude": 3000, "bank_angle": 30, "speed_factors": [1.3], "cas": 180},  # 2 rows a point
         "/v1/lift/curve": {"aspect_ratio": 11, "sweep_half_chord": 0, "mach": np.linspace(0.1, 0.65, n).tolist(),
                            "airfoil_lift_slope": 6.0, "cl": 0.8, "cl_max": 1.6},
+        "/v1/lift/turn": {"cas": np.linspace(150, 250, n).tolist(), "altitude": np.linspace(0, 20000, n).tolist(),
+                          "turn_rate": 3},
+        "/v1/lift/buffet": {"weight": np.linspace(15000, 23000, n).tolist(), "wing_area": 61,
+                            "mach": np.linspace(0.6, 0.78, n).tolist(), "altitude": 35000, "margin": 1.3,
+                            "buffet": BUFFET},
+        "/v1/drag": {"weight": np.linspace(15000, 23000, n).tolist(), "wing_area": 61, "cd0": 0.024,
+                     "aspect_ratio": 11, "oswald_efficiency": 0.78, "cas": np.linspace(160, 250, n).tolist(),
+                     "altitude": 10000},
+        "/v1/drag/speeds": {"weight": np.linspace(15000, 23000, n).tolist(), "wing_area": 61, "cd0": 0.024,
+                            "induced_drag_factor": 0.0371, "altitude": np.linspace(0, 20000, n).tolist(),
+                            "height": 5000},
+        "/v1/altimetry/pressure-settings": {"elevation": np.linspace(-1000, 15000, n).tolist(),
+                                            "qnh": np.linspace(950, 1050, n).tolist()},
+        "/v1/altimetry/temperature-correction": {"elevation": np.linspace(0, 9000, n).tolist(), "temperature": -30,
+                                                 "altitude": np.linspace(10000, 14000, n).tolist()},
     }
+
+
+#: The demo type's buffet boundary (CL at the onset of buffet by Mach number; invented, for the benchmark).
+BUFFET = {"mach": [0.30, 0.40, 0.50, 0.60, 0.66, 0.70, 0.74, 0.78, 0.82],
+          "cl": [1.30, 1.20, 1.08, 0.94, 0.84, 0.76, 0.66, 0.55, 0.42]}
 
 
 #: One single-point request per compute endpoint (the EFB's kind of request).
@@ -356,6 +376,15 @@ SINGLE = {
     "/v1/lift/stall": {"weight": 22000, "wing_area": 61, "cl_max": 1.6, "altitude": 3000, "bank_angle": 30},
     "/v1/lift/curve": {"aspect_ratio": 11, "sweep_half_chord": 0, "mach": 0.3, "airfoil_lift_slope": 6.0,
                        "cl": 0.9},
+    "/v1/lift/turn": {"cas": 210, "altitude": 12000, "bank_angle": 25},
+    "/v1/lift/buffet": {"weight": 21000, "wing_area": 61, "mach": 0.74, "altitude": 35000, "margin": 1.3,
+                        "buffet": BUFFET},
+    "/v1/drag": {"weight": 21000, "wing_area": 61, "cd0": 0.024, "aspect_ratio": 11, "oswald_efficiency": 0.78,
+                 "cas": 220, "altitude": 18000},
+    "/v1/drag/speeds": {"weight": 21000, "wing_area": 61, "cd0": 0.024, "induced_drag_factor": 0.0371,
+                        "altitude": 18000},
+    "/v1/altimetry/pressure-settings": {"elevation": 7200, "qnh": 1008},
+    "/v1/altimetry/temperature-correction": {"elevation": 7200, "temperature": -25, "altitude": 9500},
 }
 
 
@@ -444,10 +473,10 @@ def main(argv=None) -> int:
         print(f"{label:<{width}}  {value:>8}  {target:>10}  {verdict:6}  {details}")
     if "throughput" in results:
         per = results["throughput"]
-        print("\nper endpoint, one worker:  points/s JSON  points/s Arrow  single-point requests/s")
+        print(f"\n{'per endpoint, one worker:':<38} points/s JSON  points/s Arrow  single-point requests/s")
         for path in SINGLE:
             name = path.removeprefix("/v1/")
-            print(f"  {name:<22} {per[f'{name}: points/s json']:>20,.0f} {per[f'{name}: points/s arrow']:>14,.0f} "
+            print(f"  {name:<36} {per[f'{name}: points/s json']:>14,.0f} {per[f'{name}: points/s arrow']:>14,.0f} "
                   f"{per[f'{name}: single requests/s']:>24,.0f}")
     return 1 if failed else 0
 
