@@ -335,6 +335,8 @@ def test_resources_have_requests_and_limits():
         assert set(resources[kind]) == {"cpu", "memory"}
     # the CPU limit is the worker count (QBAR_WORKERS through the downward API): whole CPUs, whole workers
     assert float(resources["limits"]["cpu"]).is_integer()
+    # CPU-bound work: the request is the limit, so the HPA's utilisation is of what the workers can do
+    assert resources["requests"]["cpu"] == resources["limits"]["cpu"]
     (workers,) = [e for e in container()["env"] if e["name"] == "QBAR_WORKERS"]
     assert workers["valueFrom"]["resourceFieldRef"] == {"resource": "limits.cpu", "divisor": "1"}
 
