@@ -136,6 +136,8 @@ def test_grid_and_csv(client):
         ("/v1/drag/speeds", TQ62 | {"altitude": 0, "cd0": 0}, "/cd0"),
         ("/v1/drag/speeds", TQ62 | {"altitude": 0, "oswald_efficiency": 1.2}, "/oswald_efficiency"),
         ("/v1/drag/speeds", TQ62 | {"altitude": 0, "height": -100}, "/height"),
+        # a flight level is a pressure altitude, not a height to lose: a unit that does not fit is refused
+        ("/v1/drag/speeds", TQ62 | {"altitude": 0, "height": {"value": 50, "unit": "FL"}}, "/height"),
         ("/v1/drag/speeds", TQ62 | {"altitude": 0, "mach_limit": [0.6, 0.7]}, "/mach_limit"),
         ("/v1/drag/speeds", TQ62, "/altitude"),  # no altitude: nothing defaults to sea level
     ],

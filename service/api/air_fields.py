@@ -38,6 +38,13 @@ TEMPERATURE, ALTITUDE = "temperature", "altitude"
 _GEOMETRIC = Given(KIND_FIELD, value={KIND_FIELD: "geometric"})
 
 
+def not_flight_level(name: str, what: str) -> Never:
+    """The rule of a height or an elevation (``name``, ``what`` in the message): not in FL, which is a pressure
+    altitude (a unit that does not fit is a 422, never a silent reading as hundreds of feet)."""
+    return Never(Given(name, value={name: Unit("FL")}), name,
+                 f"A flight level is a pressure altitude; give the {what} in ft or m.")
+
+
 class Altitude(Quantity):
     """An altitude, within the model's range in the unit given.
 

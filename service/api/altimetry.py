@@ -11,7 +11,7 @@ from service.api.base import Blueprint
 from service.api.fields import Quantity
 from service.api.inputs import ComputeSchema
 from service.api.outputs import Result
-from service.api.rules import ExactlyOne, Given, Never, Unit
+from service.api.rules import ExactlyOne
 from service.api.schemas import response_schema
 from service.api.values import require
 from service.physics import altimetry as alt
@@ -41,16 +41,10 @@ CORRECTION_ALTITUDE_MAX_FT = 36_000.0
 #: Top of the first layer of the ISA [m]: the corrected altitude must stay below it.
 FIRST_LAYER_TOP = LAYER_BASES[1]
 
-_NOT_FL = "A flight level is a pressure altitude; give the {what} in ft or m."
-
-
-def _not_flight_level(name: str, what: str) -> Never:
-    return Never(Given(name, value={name: Unit("FL")}), name, _NOT_FL.format(what=what))
-
 
 def elevation_field() -> Quantity:
     return Quantity("altitude", minimum=ELEVATION_MIN_FT, maximum=ELEVATION_MAX_FT, required=True,
-                    rules=(_not_flight_level("elevation", "elevation"),), metadata={
+                    rules=(air_fields.not_flight_level("elevation", "elevation"),), metadata={
         "description": "Aerodrome elevation above mean sea level [ft] (not in FL). Arrays allowed.",
         "example": 7200})
 
@@ -134,7 +128,7 @@ class TemperatureCorrectionRequest(ComputeSchema):
         "description": f"Aerodrome (outside air) temperature [degC]; its ISA deviation at the elevation must lie "
                        f"within +-{air_fields.ISA_DEVIATION_LIMIT:g} K, as everywhere in the service.", "example": -25})
     altitude = Quantity("altitude", minimum=ELEVATION_MIN_FT, maximum=CORRECTION_ALTITUDE_MAX_FT, required=True,
-                        rules=(_not_flight_level("altitude", "minimum altitude"),), metadata={
+                        rules=(air_fields.not_flight_level("altitude", "minimum altitude"),), metadata={
         "description": "Published minimum altitude(s) above mean sea level, as indicated with the aerodrome's QNH "
                        "set [ft] (not in FL); at or above the elevation. Arrays allowed.",
         "example": [9500, 8700, 7650]})

@@ -209,9 +209,10 @@ class DragSpeedsRequest(_PolarInputs, ComputeSchema):
     wing_area = wing_area_field(required=True)
     (altitude, isa_deviation, temperature, qnh, altitude_kind, total_air_temperature, recovery_factor, dew_point,
      relative_humidity) = air_fields.every_air_field()
-    height = Quantity("altitude", minimum=0.0, exclusive_minimum=True, maximum=HEIGHT_MAX_FT, metadata={
-        "description": "Optional: height to lose in a glide [ft]; `best_glide` then gives the still-air glide "
-                       "distance from it.", "example": 25000})
+    height = Quantity("altitude", minimum=0.0, exclusive_minimum=True, maximum=HEIGHT_MAX_FT,
+                      rules=(air_fields.not_flight_level("height", "height to lose"),), metadata={
+        "description": "Optional: height to lose in a glide [ft] (not in FL); `best_glide` then gives the still-air "
+                       "glide distance from it.", "example": 25000})
 
 
 def _condition_schema(name: str, extra: dict) -> type[ma.Schema]:
