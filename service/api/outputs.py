@@ -135,8 +135,7 @@ class Result:
         return value, unit
 
     def _output_unit(self, dimension: str) -> tuple[str, units.Unit]:
-        """The output unit of ``dimension`` in this answer, its name and Unit, found once per dimension (and the
-        ``output_units`` key that chose it noted as used)."""
+        """``dimension``'s output unit in this answer, (name, Unit), found once (its output_units key noted used)."""
         found = self._output_units.get(dimension)
         if found is None:
             chosen = self.inputs.output_units
