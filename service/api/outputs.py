@@ -301,8 +301,8 @@ class Result:
             self._units_used.add(chosen_by(leaf.dimension, self.inputs.output_units))
         if check:
             si = leaf.si
-            bound = max(si.max(), -si.min()) if si.size else 0.0
-            if not (np.isfinite(bound) and (not converts or np.isfinite((bound + abs(u.offset)) / u.factor))):
+            bound = float(max(si.max(), -si.min())) if si.size else 0.0  # Python floats: inf, no overflow warning
+            if not (math.isfinite(bound) and (not converts or math.isfinite((bound + abs(u.offset)) / u.factor))):
                 self._leaf(path, leaf, check, json=False, rounded=False)
         return unit
 
