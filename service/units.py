@@ -358,11 +358,24 @@ def bound_in(dimension: str, unit: str, si: float, *, upper: bool, exclusive: bo
     beyond, within, inward = ((operator.gt, operator.le, -math.inf) if upper != exclusive
                               else (operator.lt, operator.ge, math.inf))
     x = float(from_si(np.float64(si), dimension, unit))
+    steps = 0
     while beyond(si_of(x), si):
-        x = math.nextafter(x, inward)
+        x, steps = math.nextafter(x, inward), _step(steps, dimension, unit)
     while within(si_of(math.nextafter(x, -inward)), si):
-        x = math.nextafter(x, -inward)
+        x, steps = math.nextafter(x, -inward), _step(steps, dimension, unit)
     return x
+
+
+#: How many units in the last place bound_in may step from the converted end. A conversion and its inverse
+#: agree to a few, or to about 1 / factor near zero (the subnormal floats are evenly spaced there); far more
+#: means the two disagree (a defect), which must stop the start with an error, not loop for hours.
+_MAX_ULP_STEPS = 1_000_000
+
+
+def _step(steps: int, dimension: str, unit: str) -> int:
+    if steps >= _MAX_ULP_STEPS:
+        raise RuntimeError(f"to_si and from_si of {dimension} in {unit} disagree by more than {_MAX_ULP_STEPS} ulps")
+    return steps + 1
 
 
 def catalogue() -> dict:
