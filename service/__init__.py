@@ -47,10 +47,12 @@ class QbarFlask(Flask):
 
     def check_sync(self) -> None:
         """Refuse to build an app with an ``async def`` view or hook (this class would call it unawaited)."""
-        hooks = [self.view_functions.values()]
+        hooks = [self.view_functions.values(), self.teardown_appcontext_funcs]
         for registry in (self.before_request_funcs, self.after_request_funcs, self.teardown_request_funcs,
-                         self.url_value_preprocessors, self.template_context_processors):
+                         self.url_value_preprocessors, self.url_default_functions, self.template_context_processors):
             hooks.extend(registry.values())
+        for by_code in self.error_handler_spec.values():  # {blueprint: {code: {exception class: handler}}}
+            hooks.extend(handlers.values() for handlers in by_code.values())
         for funcs in hooks:
             for func in funcs:
                 if inspect.iscoroutinefunction(func):

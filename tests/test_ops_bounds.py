@@ -168,3 +168,11 @@ def test_an_async_view_or_hook_is_refused_when_the_app_is_built():
     app.before_request(hook)
     with pytest.raises(TypeError, match="hook is async"):
         app.check_sync()
+    app = create_app({"TESTING": True})
+
+    async def on_teapot(error):
+        return "never awaited", 418
+
+    app.register_error_handler(418, on_teapot)
+    with pytest.raises(TypeError, match="on_teapot is async"):
+        app.check_sync()

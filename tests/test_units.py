@@ -212,7 +212,7 @@ def test_the_top_of_the_atmosphere_in_feet_and_flight_levels():
 def test_bound_in_stops_when_a_conversion_and_its_inverse_disagree(monkeypatch):
     """bound_in steps an ulp at a time from the converted end; a to_si that its from_si does not invert (a defect)
     stops it with an error naming the unit instead of stepping for hours."""
-    exact = units.bound_in("temperature", "degF", 373.15, upper=True)
+    exact = units.bound_in("temperature", "degF", 373.15, upper=True)  # 100 degC: 273.15 K + 100 (SI definition)
     assert units.to_si(exact, "temperature", "degF") <= 373.15  # the real conversions agree: a few steps at most
     real = units.to_si
     monkeypatch.setattr(units, "to_si", lambda values, dimension, unit: real(values, dimension, unit) * (1 + 1e-6))

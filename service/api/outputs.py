@@ -285,20 +285,18 @@ class Result:
 
     def _checked_unmade(self, path: str, leaf: Leaf, check: bool):
         """The unit of a column to be made later (its values are other numbers than its SI array: converted,
-        rounded or as given), noted as used, once its values are known to be finite where they must be (else
-        the 422 of :meth:`_check_finite`); False when the column is its SI array as it is (nothing to make).
+        rounded or as given), once its values are known to be finite where they must be (else the 422 of
+        :meth:`_check_finite`); False when the column is its SI array as it is (nothing to make). Either way the
+        output unit is found, and noted as used, by :meth:`_output_unit`, as for every other output.
 
         Finite SI values whose largest magnitude stays finite through the conversion give finite values in
         the unit (and rounding keeps a number finite): one reduction instead of a conversion. Otherwise (a NaN
         under a null, a huge value) the values are made, checked and let go."""
-        unit = None if leaf.dimension is None else unit_for(leaf.dimension, self.inputs.output_units)
+        unit, u = (None, None) if leaf.dimension is None else self._output_unit(leaf.dimension)
         as_given = leaf.given is not None and leaf.given_unit == unit
-        u = None if unit is None or as_given else units.lookup(leaf.dimension, unit)
-        converts = u is not None and (u.factor != 1.0 or u.offset != 0.0)
+        converts = u is not None and not as_given and (u.factor != 1.0 or u.offset != 0.0)
         if not (converts or as_given or self.inputs.significant_digits is not None):
             return False
-        if unit is not None:
-            self._units_used.add(chosen_by(leaf.dimension, self.inputs.output_units))
         if check:
             si = leaf.si
             bound = float(max(si.max(), -si.min())) if si.size else 0.0  # Python floats: inf, no overflow warning
