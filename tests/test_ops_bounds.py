@@ -67,6 +67,20 @@ def test_errors_beyond_the_cap_are_counted_not_listed(client):
     assert doc["detail"].endswith(f"and {MAX_MEMBERS - 1 - 5} more.")
 
 
+@pytest.mark.parametrize(("body", "listed"), [
+    ({"altitude": 1000, "outputs": ["temperature", *(f"nope{i}" for i in range(30)), 7]}, "; valid: "),
+    ({"altitude": 1000, "output_units": {f"d{i}": "m" for i in range(30)}}, "; allowed: "),
+])
+def test_a_long_list_of_valid_names_is_said_once_not_per_entry(client, body, listed):
+    """Each bad name is an entry of its own, but the valid names (hundreds of characters) come once, in the first
+    of them: 30 bad names make an answer of a few KiB, not thirty copies of the list."""
+    status, doc = send(client, body)
+    assert status == 422 and len(doc["errors"]) == MAX_ERRORS
+    with_list = [e for e in doc["errors"] if listed in e["message"]]
+    assert len(with_list) == 1 and with_list[0] is doc["errors"][0]
+    assert len(json.dumps(doc)) < 4096
+
+
 def test_flattening_stops_building_entries_at_the_cap():
     messages = {f"field{i}": ["Unknown field."] for i in range(200_000)}
     errors = flatten_messages(messages)

@@ -293,8 +293,10 @@ class OutputUnits(ma.fields.Field):
         errors = {}
         chosen = {}
         for key, unit in value.items():
-            if key not in units.OUTPUT_DIMENSIONS:
-                errors[key] = [f"Unknown dimension; allowed: {', '.join(units.OUTPUT_DIMENSIONS)}."]
+            if key not in units.OUTPUT_DIMENSIONS:  # the allowed ones listed once, in the first such entry
+                listed = any(k not in units.OUTPUT_DIMENSIONS for k in errors)
+                errors[key] = ["Unknown dimension." if listed else
+                               f"Unknown dimension; allowed: {', '.join(units.OUTPUT_DIMENSIONS)}."]
             else:
                 try:
                     chosen[key] = units.canonical(key, unit)

@@ -126,15 +126,34 @@ class ComputeSchema(RuleSchema, metaclass=_WithOutputsField):
         return Inputs(data, self.AXES, self.OUTPUTS)
 
 
+class OutputNames(ma.fields.List):
+    """The ``outputs`` selection: a list of output names (an enum in the spec). Each unknown name is an error
+    entry of its own; the valid names are listed once, in the first of them, not in every one."""
+
+    def __init__(self, names: tuple[str, ...], **kwargs):
+        super().__init__(ma.fields.String(validate=ma.validate.OneOf(names, error="Unknown output {input!r}.")),
+                         **kwargs)
+        self.valid = ", ".join(names)
+
+    def _deserialize(self, value, attr, data, **kwargs):
+        try:
+            return super()._deserialize(value, attr, data, **kwargs)
+        except ma.ValidationError as err:
+            messages = err.messages
+            unknown = sorted(i for i, found in messages.items() if any(m.startswith("Unknown output ") for m in found)
+                             ) if type(messages) is dict else []
+            if unknown:
+                messages[unknown[0]] = [m[:-1] + f"; valid: {self.valid}." if m.startswith("Unknown output ") else m
+                                        for m in messages[unknown[0]]]
+            raise ma.ValidationError(messages) from None
+
+
 def outputs_field(names) -> ma.fields.List:
     """The ``outputs`` selection field for a schema whose outputs are ``names`` (enum and minItems in the spec)."""
     names = tuple(names)
-    valid = ", ".join(names)
-    return ma.fields.List(
-        ma.fields.String(validate=ma.validate.OneOf(names, error=f"Unknown output {{input!r}}; valid: {valid}.")),
-        validate=ma.validate.Length(min=1, error="Name at least one output."),
-        metadata={"description": "Only these outputs are computed and returned (default: all). Valid names: "
-                                 + valid + ".", "example": list(names[:2])})
+    return OutputNames(names, validate=ma.validate.Length(min=1, error="Name at least one output."),
+                       metadata={"description": "Only these outputs are computed and returned (default: all). Valid "
+                                                "names: " + ", ".join(names) + ".", "example": list(names[:2])})
 
 
 class Inputs:
