@@ -28,9 +28,38 @@ def test_fl350_isa_plus_10(client):
     assert set(doc) == {"pressure_altitude", "geometric_altitude", "temperature", "isa_deviation", "pressure",
                         "density", "speed_of_sound", "dynamic_viscosity", "kinematic_viscosity",
                         "pressure_ratio", "temperature_ratio", "density_ratio", "density_altitude", "warnings",
-                        "vapour_pressure", "virtual_temperature", "gravity", "pressure_scale_height",
-                        "number_density", "mean_particle_speed", "mean_free_path", "collision_frequency",
-                        "thermal_conductivity"}
+                        "vapour_pressure", "virtual_temperature"}
+
+
+#: The U.S. Standard Atmosphere 1976 properties answered only when named (ComputeSchema.ON_REQUEST).
+ON_REQUEST = {"gravity", "pressure_scale_height", "number_density", "mean_particle_speed", "mean_free_path",
+              "collision_frequency", "thermal_conductivity"}
+
+
+def test_property_set_only_when_named(client):
+    """The default answer leaves the seven out; naming any of them (alone or with others) returns exactly what is
+    named, in every format; the spec says which are on request and what the default is."""
+    spec = client.get("/openapi.json").json
+    default = post(client, ATM, {"altitude": 0}).json
+    assert not ON_REQUEST & set(default)
+    named = post(client, ATM, {"altitude": 0, "outputs": ["density", "mean_free_path", "gravity"]}).json
+    assert set(named) == {"density", "mean_free_path", "gravity", "warnings"}
+    everything = post(client, ATM, {"altitude": 0, "outputs": spec_outputs(spec)}).json
+    assert ON_REQUEST < set(everything)
+    csv = client.post(ATM, json={"altitude": [0, 1000]}, headers={"Accept": "text/csv"}).get_data(as_text=True)
+    header = csv.splitlines()[0]
+    assert "density" in header and not any(name in header for name in ON_REQUEST)
+    schema = spec["components"]["schemas"]["AtmosphereResponse"]["properties"]
+    for name in ON_REQUEST:
+        assert schema[name]["description"].startswith("Only when `outputs` names it. "), name
+    assert not any(schema[name].get("description", "").startswith("Only when") for name in set(schema) - ON_REQUEST)
+    outputs = spec["components"]["schemas"]["AtmosphereRequest"]["properties"]["outputs"]["description"]
+    assert "default: all but " + ", ".join(sorted(ON_REQUEST, key=spec_outputs(spec).index)) in outputs
+
+
+def spec_outputs(spec) -> list[str]:
+    """Every output name /v1/atmosphere knows, from the spec's enum."""
+    return spec["components"]["schemas"]["AtmosphereRequest"]["properties"]["outputs"]["items"]["enum"]
 
 
 def test_sea_level_standard_day(client):

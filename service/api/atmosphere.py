@@ -50,6 +50,11 @@ OUTPUTS = {
                                                      "10^(-12/T)) [W/(m*K)]."),
 }
 
+#: The further properties of the U.S. Standard Atmosphere 1976: answered only when ``outputs`` names them (for
+#: kinetic-gas and heat-transfer work; an operational answer, and a bulk table, need none of them).
+PROPERTY_SET = ("gravity", "pressure_scale_height", "number_density", "mean_particle_speed", "mean_free_path",
+                "collision_frequency", "thermal_conductivity")
+
 #: Output name -> the Air attribute that holds it.
 _SOURCE = {
     "pressure_altitude": "H", "geometric_altitude": "geometric_altitude", "temperature": "T",
@@ -57,13 +62,13 @@ _SOURCE = {
     "dynamic_viscosity": "mu", "kinematic_viscosity": "nu", "pressure_ratio": "delta",
     "temperature_ratio": "theta", "density_ratio": "sigma", "density_altitude": "density_altitude",
     "vapour_pressure": "e", "virtual_temperature": "Tv",
-    **{name: name for name in ("gravity", "pressure_scale_height", "number_density", "mean_particle_speed",
-                               "mean_free_path", "collision_frequency", "thermal_conductivity")},
+    **{name: name for name in PROPERTY_SET},
 }
 
 
 class AtmosphereRequest(ComputeSchema):
     OUTPUTS = OUTPUTS
+    ON_REQUEST = PROPERTY_SET
 
     altitude, isa_deviation, temperature, qnh, altitude_kind = air_fields.air_fields("Arrays allowed.")
     dew_point = air_fields.dew_point_field()
@@ -81,9 +86,9 @@ def atmosphere(inputs):
     Pressure, temperature, density, speed of sound, viscosities, ratios, pressure, geometric and density
     altitude at each altitude, on a standard day or with an ISA deviation or outside air temperature, dry or
     with a dew point or relative humidity (the water vapour enters the density through the virtual temperature);
-    and the further properties of the U.S. Standard Atmosphere 1976 (gravity, scale height, number density, mean
-    particle speed, mean free path, collision frequency, thermal conductivity). Only the outputs asked for are
-    computed. Arrays broadcast; `grid: true` takes their outer product.
+    and, when `outputs` names them, the further properties of the U.S. Standard Atmosphere 1976 (gravity, scale
+    height, number density, mean particle speed, mean free path, collision frequency, thermal conductivity).
+    Only the outputs asked for are computed. Arrays broadcast; `grid: true` takes their outer product.
     """
     result = Result(inputs)
     state = air.air(inputs)

@@ -38,10 +38,11 @@ ATMOSPHERE = _examples(
     ("humid-sea-level", "A tropical sea-level afternoon, 30 degC and 75 % relative humidity",
      {"altitude": 0, "temperature": 30, "relative_humidity": 75,
       "outputs": ["density", "density_altitude", "vapour_pressure", "virtual_temperature"]}),
-    ("property-set", "The U.S. Standard Atmosphere 1976 property set from sea level to 80 km, speeds in m/s",
+    ("property-set", "The U.S. Standard Atmosphere 1976 property set (answered only when named) from sea level "
+                     "to 80 km",
      {"altitude": {"value": [0, 20, 50, 80], "unit": "km"}, "altitude_kind": "geometric",
       "outputs": ["gravity", "pressure_scale_height", "number_density", "mean_particle_speed", "mean_free_path",
-                  "collision_frequency", "thermal_conductivity"], "output_units": {"speed": "m/s"}}),
+                  "collision_frequency", "thermal_conductivity"]}),
 )
 
 AIRSPEED = _examples(

@@ -43,7 +43,7 @@ class _WithOutputsField(type(RuleSchema)):
         fields = super().get_declared_fields(klass, cls_fields, inherited_fields, dict_cls)
         if klass.OUTPUTS:
             fields.pop("outputs", None)
-            fields["outputs"] = outputs_field(klass.OUTPUTS)
+            fields["outputs"] = outputs_field(klass.OUTPUTS, klass.ON_REQUEST)
         return fields
 
 
@@ -53,10 +53,12 @@ class ComputeSchema(RuleSchema, metaclass=_WithOutputsField):
     Subclasses list their outputs in ``OUTPUTS`` ({name: (dimension or None, description)}, in the
     answer's order; or a tuple of names when they are nested), which gives them their last field, the
     ``outputs`` selection (outputs_field), and their rules in ``RULES`` (api.rules); every numeric top-level
-    field is an axis of the grid, in field order.
+    field is an axis of the grid, in field order. The outputs in ``ON_REQUEST`` are left out of the default
+    selection: they are computed and returned only when ``outputs`` names them.
     """
 
     OUTPUTS: dict | tuple[str, ...] = ()
+    ON_REQUEST: tuple[str, ...] = ()
 
     def points_worth(self, data: dict, points: int) -> tuple[int, str]:
         """What the point limit counts for a raw (not yet loaded) request of ``points`` points, and how it
@@ -66,6 +68,8 @@ class ComputeSchema(RuleSchema, metaclass=_WithOutputsField):
 
     def __init__(self, *args, **kwargs):
         super().__init__(*args, **kwargs)
+        #: The outputs answered when ``outputs`` is not given: every one but those on request, in order.
+        self.DEFAULT_OUTPUTS = default_outputs(self.OUTPUTS, self.ON_REQUEST)
         #: The numeric top-level inputs, in field order: the grid's axes, first varying slowest.
         self.AXES = tuple(name for name, field in self.fields.items() if isinstance(field, Number))
         self._plain_fields = all(f.data_key is None and f.attribute is None for f in self.load_fields.values())
@@ -123,7 +127,7 @@ class ComputeSchema(RuleSchema, metaclass=_WithOutputsField):
 
     @ma.post_load
     def _to_request(self, data, **kwargs):
-        return Inputs(data, self.AXES, self.OUTPUTS)
+        return Inputs(data, self.AXES, self.OUTPUTS, self.DEFAULT_OUTPUTS)
 
 
 class OutputNames(ma.fields.List):
@@ -148,23 +152,36 @@ class OutputNames(ma.fields.List):
             raise ma.ValidationError(messages) from None
 
 
-def outputs_field(names) -> ma.fields.List:
-    """The ``outputs`` selection field for a schema whose outputs are ``names`` (enum and minItems in the spec)."""
+def default_outputs(names, on_request: tuple[str, ...] = ()) -> tuple[str, ...]:
+    """The outputs answered when a request does not select: all of ``names`` but those ``on_request``."""
+    return tuple(name for name in names if name not in on_request)
+
+
+def outputs_field(names, on_request: tuple[str, ...] = ()) -> ma.fields.List:
+    """The ``outputs`` selection field for a schema whose outputs are ``names`` (enum and minItems in the spec),
+    of which ``on_request`` are answered only when named."""
     names = tuple(names)
+    unknown = set(on_request) - set(names)
+    if unknown:
+        raise TypeError(f"on-request outputs that are not outputs: {sorted(unknown)}")
+    default = ("all but " + ", ".join(on_request) + ", which are computed and returned only when named"
+               if on_request else "all")
     return OutputNames(names, validate=ma.validate.Length(min=1, error="Name at least one output."),
-                       metadata={"description": "Only these outputs are computed and returned (default: all). Valid "
-                                                "names: " + ", ".join(names) + ".", "example": list(names[:2])})
+                       metadata={"description": f"Only these outputs are computed and returned (default: {default}). "
+                                                "Valid names: " + ", ".join(names) + ".", "example": list(names[:2])})
 
 
 class Inputs:
     """A loaded request: the values by field name, broadcast or gridded, and the output choices."""
 
-    def __init__(self, data: dict, axes: tuple[str, ...], outputs: dict | tuple[str, ...]):
+    def __init__(self, data: dict, axes: tuple[str, ...], outputs: dict | tuple[str, ...],
+                 default: tuple[str, ...] | None = None):
         self.output_units: dict = data.pop("output_units", None) or {}
         self.grid: bool = data.pop("grid", False)
         self.significant_digits: int | None = data.pop("significant_digits", None)
         wanted = data.pop("outputs", None)
-        self.outputs: tuple[str, ...] = tuple(wanted) if wanted is not None else tuple(outputs)
+        self.outputs: tuple[str, ...] = (tuple(wanted) if wanted is not None
+                                         else tuple(outputs) if default is None else default)
         #: Output name -> its dimension (None: a bare number), from the schema's OUTPUTS table.
         self.dimensions: dict = {name: spec[0] for name, spec in outputs.items()} if isinstance(outputs, dict) else {}
         self.data = data

@@ -71,7 +71,7 @@ def ratio_out(description: str, **kwargs) -> NumberOut:
 
 def response_schema(inputs: type[ma.Schema], fields: dict | None = None) -> type[ma.Schema]:
     """The response schema class of the compute request schema ``inputs`` (``XRequest`` answers ``XResponse``):
-    its outputs (none required: `outputs` may select), warnings, grid inputs.
+    its outputs (none required: `outputs` may select; those on request say so), warnings, grid inputs.
 
     The request's OUTPUTS table ({name: (dimension or None, description)}) gives a QuantityOut or NumberOut
     each; ``fields``: other fields, in place of the output of the same name (a label, a flag, a nested block) or
@@ -82,6 +82,8 @@ def response_schema(inputs: type[ma.Schema], fields: dict | None = None) -> type
     fields = fields or {}
     attrs = {key: field for key, field in fields.items() if key not in outputs}
     for key, (dimension, description) in outputs.items():
+        if key in inputs.ON_REQUEST:
+            description = "Only when `outputs` names it. " + description
         attrs[key] = fields.get(key) or (quantity_out(description, dimension) if dimension
                                        else ratio_out(description))
     attrs["warnings"] = ma.fields.List(ma.fields.Nested(WarningSchema), required=True, metadata={
