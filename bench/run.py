@@ -7,10 +7,12 @@
 1. Atmosphere physics on 1,000,000 random altitudes against ambiance (same six properties).
 2. A 100,000-point POST /v1/atmosphere over HTTP through gunicorn, timed to the last byte of the answer,
    against ambiance computing the same points in-process (six properties), all in alternating rounds:
-   the default outputs (13 columns) as an Arrow table in and an Arrow stream out, JSON in and Arrow out,
-   JSON in and out; and six outputs, JSON in and out.
+   the default outputs (15: the U.S. 1976 property set is answered only when named) as an Arrow table in and an
+   Arrow stream out, JSON in and Arrow out, JSON in and out; six outputs, JSON in and out; and, for the record,
+   every output (22) in JSON.
 3. Single-point POST /v1/airspeed throughput through gunicorn against a bare Flask endpoint that returns a
-   constant JSON object, same gunicorn settings, same load (wrk, one thread, in its own process).
+   constant JSON object, same gunicorn settings, same load (wrk, one thread, in its own process); and the floors
+   (bench.floor_app): qbar's hooks around the constant, then also the body read and schema load.
 4. Peak resident memory of one worker serving the largest valid requests (a 200,000-point lift grid as
    JSON and as Arrow; the widest answers: the stall request with the most speed factors and the most points
    the limit then allows, and 200,000 /v1/drag/speeds points, the most columns per point).
@@ -46,6 +48,7 @@ import numpy as np
 from ambiance import Atmosphere
 
 from bench import atmosphere_physics
+from service.api.atmosphere import OUTPUTS as ATMOSPHERE_OUTPUTS
 
 ROOT = Path(__file__).resolve().parent.parent
 SIX = ["pressure", "temperature", "density", "speed_of_sound", "dynamic_viscosity", "kinematic_viscosity"]
@@ -57,6 +60,7 @@ TARGETS = {
     "bulk": ("<= 0.5", lambda r: r <= 0.5),
     "bulk_json": ("<= 1.3", lambda r: r <= 1.3),
     "bulk_six": ("<= 0.6", lambda r: r <= 0.6),
+    "bulk_all": ("(measured)", lambda r: True),
     "single_point": (">= 0.6", lambda r: r >= 0.6),
     "memory": ("< 150 MB", lambda r: r < 150),
     "memory_widest": ("< 150 MB", lambda r: r < 150),
@@ -146,12 +150,15 @@ def bench_bulk(quick: bool) -> dict:
     json_default = json.dumps({"altitude": {"value": h.tolist(), "unit": "m"}, "altitude_kind": "geometric"}).encode()
     json_six = json.dumps({"altitude": {"value": h.tolist(), "unit": "m"}, "altitude_kind": "geometric",
                            "outputs": SIX}).encode()
+    json_all = json.dumps({"altitude": {"value": h.tolist(), "unit": "m"}, "altitude_kind": "geometric",
+                           "outputs": list(ATMOSPHERE_OUTPUTS)}).encode()
     arrow_in = arrow_table_body({"altitude [m]": h})
     forms = {  # name -> (path, body, headers)
         "arrow": ("/v1/atmosphere?altitude_kind=%22geometric%22", arrow_in, {"Content-Type": ARROW, "Accept": ARROW}),
         "json_in_arrow_out": ("/v1/atmosphere", json_default, {"Accept": ARROW}),
         "json": ("/v1/atmosphere", json_default, {}),
         "json_six": ("/v1/atmosphere", json_six, {}),
+        "json_all": ("/v1/atmosphere", json_all, {}),
     }
     repeat = 3 if quick else 7
     theirs = []
@@ -208,22 +215,34 @@ def _wrk(port: int, path: str, body: str, seconds: int) -> float:
 
 
 def bench_single_point(quick: bool) -> dict:
-    """Both servers up at once (idle between runs), measured in alternation; medians of the rounds."""
+    """Both servers up at once (idle between runs), measured in alternation; medians of the rounds.
+
+    Also the floors, from a third server (bench.floor_app: qbar's app with two more routes): qbar's hooks around
+    the bare constant, and the body read and schema load of /v1/airspeed before it: what any validated qbar
+    request pays before its computation and its answer."""
     if shutil.which("wrk") is None:
         raise RuntimeError("wrk is not installed (apt-get install wrk)")
     seconds, rounds = (3, 2) if quick else (3, 9)  # many short pairs: single rounds move by a third here
     body = json.dumps({"cas": {"value": 280, "unit": "kt"}, "altitude": {"value": 330, "unit": "FL"},
                        "isa_deviation": 15})
-    with gunicorn("bench.bare_app:create_app()") as (bare_port, _), gunicorn("service:create_app()") as (port, _):
-        _wrk(bare_port, "/v1/airspeed", body, 1)
-        _wrk(port, "/v1/airspeed", body, 1)
-        bare, ours = [], []
+    with (gunicorn("bench.bare_app:create_app()") as (bare_port, _), gunicorn("service:create_app()") as (port, _),
+          gunicorn("bench.floor_app:create_app()") as (floor_port, _)):
+        targets = {"bare": (bare_port, "/v1/airspeed"), "ours": (port, "/v1/airspeed"),
+                   "floor_hooks": (floor_port, "/v1/floor/hooks"), "floor_load": (floor_port, "/v1/floor/load")}
+        for target_port, path in targets.values():
+            _wrk(target_port, path, body, 1)
+        rps: dict[str, list[float]] = {name: [] for name in targets}
         for _ in range(rounds):
-            bare.append(_wrk(bare_port, "/v1/airspeed", body, seconds))
-            ours.append(_wrk(port, "/v1/airspeed", body, seconds))
+            for name, (target_port, path) in targets.items():
+                rps[name].append(_wrk(target_port, path, body, seconds))
+    bare, ours = rps["bare"], rps["ours"]
     ratios = sorted(o / b for o, b in zip(ours, bare, strict=True))
-    return {"ours_rps": statistics.median(ours), "bare_rps": statistics.median(bare),
-            "ratio": statistics.median(ratios), "ratio_min": ratios[0], "ratio_max": ratios[-1]}
+    out = {"ours_rps": statistics.median(ours), "bare_rps": statistics.median(bare),
+           "ratio": statistics.median(ratios), "ratio_min": ratios[0], "ratio_max": ratios[-1]}
+    for name in ("floor_hooks", "floor_load"):
+        out[f"{name}_rps"] = statistics.median(rps[name])
+        out[f"{name}_ratio"] = statistics.median(f / b for f, b in zip(rps[name], bare, strict=True))
+    return out
 
 
 def _children(pid: int) -> list[int]:
@@ -442,6 +461,7 @@ def main(argv=None) -> int:
     derived = {
         "bulk_json": ("bulk", "100k-point /v1/atmosphere, default outputs, JSON in and out / ambiance", "json_ratio"),
         "bulk_six": ("bulk", "100k-point /v1/atmosphere, six outputs, JSON in and out / ambiance", "json_six_ratio"),
+        "bulk_all": ("bulk", "100k-point /v1/atmosphere, all 22 outputs, JSON in and out / ambiance", "json_all_ratio"),
     }
     rows = []
     results = {}
