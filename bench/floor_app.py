@@ -12,20 +12,17 @@ from flask import Response
 from bench.bare_app import CONSTANT
 from service import create_app as qbar_app
 from service.api.airspeed import AirspeedRequest
-from service.api.request_body import check_point_limit, count_points, read_request
+from service.api.request_body import BodyParser
 
 
 def create_app():
     app = qbar_app()
-    schema = AirspeedRequest()
 
     def hooks():
         return CONSTANT
 
-    def load():
-        data, _ = read_request(schema)
-        check_point_limit(*schema.points_worth(data, count_points(data, schema.AXES)))
-        schema.load(data)
+    @BodyParser().use_args(AirspeedRequest)  # the body checks, point count and schema load of every compute view
+    def load(inputs):
         return Response(orjson.dumps(CONSTANT), content_type="application/json")
 
     app.add_url_rule("/v1/floor/hooks", "floor_hooks", hooks, methods=["POST"])

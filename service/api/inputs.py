@@ -175,13 +175,13 @@ class Inputs:
     """A loaded request: the values by field name, broadcast or gridded, and the output choices."""
 
     def __init__(self, data: dict, axes: tuple[str, ...], outputs: dict | tuple[str, ...],
-                 default: tuple[str, ...] | None = None):
+                 default: tuple[str, ...]):
         self.output_units: dict = data.pop("output_units", None) or {}
         self.grid: bool = data.pop("grid", False)
         self.significant_digits: int | None = data.pop("significant_digits", None)
         wanted = data.pop("outputs", None)
-        self.outputs: tuple[str, ...] = (tuple(wanted) if wanted is not None
-                                         else tuple(outputs) if default is None else default)
+        #: The outputs named, else the schema's default selection (ComputeSchema.DEFAULT_OUTPUTS).
+        self.outputs: tuple[str, ...] = tuple(wanted) if wanted is not None else default
         #: Output name -> its dimension (None: a bare number), from the schema's OUTPUTS table.
         self.dimensions: dict = {name: spec[0] for name, spec in outputs.items()} if isinstance(outputs, dict) else {}
         self.data = data
